@@ -1,0 +1,34 @@
+// The command shell: every subcommand lives in its own apps/cmd_*.cpp and is added to the
+// CLI11 app by an add_*_command function listed in main.cpp. Commands throw unfurl::Error;
+// main() alone turns exceptions into one-line messages and exit codes.
+#pragma once
+
+#include <atomic>
+#include <cstdint>
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+#include "engine/stop.hpp"
+
+namespace unfurl::app {
+
+// Options every command shares. They are accepted before or after the subcommand name.
+struct GlobalOptions {
+  int threads = 0;           // 0: all cores OpenMP offers
+  std::uint64_t seed = 1;    // every random choice derives from this
+  bool quiet = false;        // print nothing but errors
+};
+
+// Set by SIGINT/SIGTERM/SIGUSR1 handlers installed in main().
+extern std::atomic<bool> g_stop_requested;
+inline StopToken stop_token() { return StopToken{&g_stop_requested}; }
+
+// Prints a line on stdout unless --quiet.
+void say(const GlobalOptions& g, const std::string& line);
+// Every command calls this first: applies --threads to OpenMP.
+void apply_globals(const GlobalOptions& g);
+
+void add_demo_command(CLI::App& app, GlobalOptions& g);
+
+}  // namespace unfurl::app

@@ -1,0 +1,15 @@
+# UNFURL_SANITIZE: a list of sanitizers applied to every target.
+if(UNFURL_SANITIZE)
+  foreach(s IN LISTS UNFURL_SANITIZE)
+    if(NOT s MATCHES "^(address|undefined|thread)$")
+      message(FATAL_ERROR "UNFURL_SANITIZE: unknown sanitizer '${s}'")
+    endif()
+  endforeach()
+  if("thread" IN_LIST UNFURL_SANITIZE AND "address" IN_LIST UNFURL_SANITIZE)
+    message(FATAL_ERROR "UNFURL_SANITIZE: thread and address sanitizers cannot be combined")
+  endif()
+  list(JOIN UNFURL_SANITIZE "," _unfurl_sanitizers)
+  add_compile_options(-fsanitize=${_unfurl_sanitizers} -fno-omit-frame-pointer
+                      -fno-sanitize-recover=undefined)
+  add_link_options(-fsanitize=${_unfurl_sanitizers})
+endif()
