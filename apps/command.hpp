@@ -15,14 +15,16 @@ namespace unfurl::app {
 
 // Options every command shares. They are accepted before or after the subcommand name.
 struct GlobalOptions {
-  int threads = 0;           // 0: all cores OpenMP offers
-  std::uint64_t seed = 1;    // every random choice derives from this
-  bool quiet = false;        // print nothing but errors
+  int threads = 0;         // 0: all cores OpenMP offers
+  std::uint64_t seed = 1;  // every random choice derives from this
+  bool quiet = false;      // print nothing but errors
 };
 
 // Set by SIGINT/SIGTERM/SIGUSR1 handlers installed in main().
 extern std::atomic<bool> g_stop_requested;
-inline StopToken stop_token() { return StopToken{&g_stop_requested}; }
+inline StopToken stop_token() {
+  return StopToken{&g_stop_requested};
+}
 
 // Prints a line on stdout unless --quiet.
 void say(const GlobalOptions& g, const std::string& line);

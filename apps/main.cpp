@@ -26,7 +26,9 @@ void apply_globals(const GlobalOptions& g) {
 
 namespace {
 
-extern "C" void request_stop(int) { unfurl::app::g_stop_requested.store(true); }
+extern "C" void request_stop(int) {
+  unfurl::app::g_stop_requested.store(true);
+}
 
 int fail(unfurl::ExitCode code, const char* message) {
   std::fflush(stdout);
@@ -38,8 +40,9 @@ int fail(unfurl::ExitCode code, const char* message) {
 
 int main(int argc, char** argv) {
   using namespace unfurl;
-  CLI::App cli{"unfurl: unfold high-dimensional points into a few coordinates that follow "
-               "geodesic distances over a neighbour graph."};
+  CLI::App cli{
+      "unfurl: unfold high-dimensional points into a few coordinates that follow "
+      "geodesic distances over a neighbour graph."};
   cli.set_version_flag("--version", std::string("unfurl ") + UNFURL_VERSION);
   cli.require_subcommand(1);
   cli.fallthrough();  // global options may follow the subcommand name

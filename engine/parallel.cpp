@@ -4,6 +4,8 @@
 
 namespace unfurl {
 
-int resolve_threads(int requested) { return requested > 0 ? requested : omp_get_max_threads(); }
+int resolve_threads(int requested) {
+  return requested > 0 ? requested : omp_get_max_threads();
+}
 
 }  // namespace unfurl

@@ -83,8 +83,8 @@ SyntheticSet ocean_buoys(std::size_t n, std::uint64_t seed, double noise) {
     for (std::size_t j = 0; j < d; ++j) {
       const Channel& c = channels[j];
       const double along = c.amp_a * std::cos(c.freq_a * a + c.phase_a);
-      const double depth = c.amp_z * std::sin(c.freq_z * z + c.phase_z) +
-                           0.3 * (1.0 - std::exp(-z / c.saturation));
+      const double depth =
+          c.amp_z * std::sin(c.freq_z * z + c.phase_z) + 0.3 * (1.0 - std::exp(-z / c.saturation));
       p[j] = static_cast<float>(along + depth + noise * rng.normal());
     }
     s.truth.row(i)[0] = static_cast<float>(along_km);

@@ -38,8 +38,8 @@ AtomicOutput::AtomicOutput(fs::path final_path) : final_(std::move(final_path)) 
   if (::access(folder.c_str(), W_OK) != 0)
     throw OutputError(final_.string() + ": folder " + folder.string() + " is not writable");
   static std::atomic<unsigned> counter{0};
-  temp_ = folder / ("." + final_.filename().string() + ".part-" + std::to_string(::getpid()) +
-                    "-" + std::to_string(counter++));
+  temp_ = folder / ("." + final_.filename().string() + ".part-" + std::to_string(::getpid()) + "-" +
+                    std::to_string(counter++));
 }
 
 AtomicOutput::~AtomicOutput() {
@@ -54,8 +54,8 @@ void AtomicOutput::commit() {
     fsync_path(temp_, O_RDONLY);
     std::error_code ec;
     fs::rename(temp_, final_, ec);
-    if (ec) throw IoError(final_.string() + ": cannot move finished output in place: " +
-                          ec.message());
+    if (ec)
+      throw IoError(final_.string() + ": cannot move finished output in place: " + ec.message());
     committed_ = true;
     fs::path folder = final_.parent_path();
     fsync_path(folder.empty() ? fs::path(".") : folder, O_RDONLY | O_DIRECTORY);
