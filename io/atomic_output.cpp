@@ -38,8 +38,14 @@ AtomicOutput::AtomicOutput(fs::path final_path) : final_(std::move(final_path)) 
   if (::access(folder.c_str(), W_OK) != 0)
     throw OutputError(final_.string() + ": folder " + folder.string() + " is not writable");
   static std::atomic<unsigned> counter{0};
-  temp_ = folder / ("." + final_.filename().string() + ".part-" + std::to_string(::getpid()) + "-" +
-                    std::to_string(counter++));
+  // Built with append, not operator+: GCC 12 gives a false -Wrestrict on the latter.
+  std::string name = ".";
+  name.append(final_.filename().string())
+      .append(".part-")
+      .append(std::to_string(::getpid()))
+      .append("-")
+      .append(std::to_string(counter++));
+  temp_ = folder / name;
 }
 
 AtomicOutput::~AtomicOutput() {
