@@ -83,39 +83,66 @@ struct Workspace {
   std::vector<float> columns;
   std::vector<double> row;
   std::vector<detail::NearestList> lists_in, lists_map;
-  std::vector<Ranked> cand_in, cand_map;
+  std::vector<std::vector<Ranked>> cand_in, cand_map;  // per query, sorted candidates
+  std::vector<double> q_pending;                       // queries that need a counting pass
+  std::vector<NodeId> pending_self;
+  std::vector<std::size_t> pending_query;
+  std::vector<std::vector<Ranked>> thresholds;
+  std::vector<std::vector<std::size_t>> counted;
 };
 
-// For each j in `from`'s first kmax, its 1-based rank in the other space: from the other
-// space's candidate list when it is there, else counted against all points.
-void ranks_in_other_space(const detail::DistanceScanner& other, const double* query, NodeId self,
-                          const std::vector<Ranked>& from, const std::vector<Ranked>& other_list,
-                          std::size_t kmax, Workspace& ws, std::vector<std::size_t>& ranks) {
-  ranks.assign(kmax, 0);
-  std::vector<Ranked> missing;
-  std::vector<std::size_t> missing_slot;
-  double one = 0;
-  for (std::size_t p = 0; p < kmax; ++p) {
-    const NodeId j = from[p].id;
-    const std::size_t pos = position_of(other_list, j);
-    if (pos != npos) {
-      ranks[p] = pos + 1;
-    } else {
-      // The same code path as the scan, so the point itself is never counted below itself.
-      other.distances(query, 1, j, j + 1, ws.columns, &one);
-      missing.push_back({one, j});
+// ranks[b][p]: for the p-th (p < kmax) neighbour of query b in `from`, its 1-based rank in the
+// other space: read from the other space's candidates when it is there, else counted against
+// all points in one pass shared by the block.
+void ranks_in_other_space(const detail::DistanceScanner& other, const double* queries,
+                          std::span<const std::uint32_t> selves,
+                          const std::vector<std::vector<Ranked>>& from,
+                          const std::vector<std::vector<Ranked>>& other_lists, std::size_t kmax,
+                          Workspace& ws, std::vector<std::vector<std::size_t>>& ranks) {
+  const std::size_t count = selves.size();
+  const std::size_t dims = other.dims();
+  ranks.resize(count);
+  ws.q_pending.clear();
+  ws.pending_self.clear();
+  ws.pending_query.clear();
+  ws.thresholds.resize(count);
+  std::size_t pending = 0;
+  for (std::size_t b = 0; b < count; ++b) {
+    ranks[b].assign(kmax, 0);
+    std::vector<Ranked>& missing = ws.thresholds[pending];
+    missing.clear();
+    const double* q = queries + b * dims;
+    for (std::size_t p = 0; p < kmax; ++p) {
+      const NodeId j = from[b][p].id;
+      const std::size_t pos = position_of(other_lists[b], j);
+      if (pos != npos) {
+        ranks[b][p] = pos + 1;
+      } else {
+        // The same code path as the scan, so the point is never counted below itself.
+        double dist2 = 0;
+        other.distances(q, 1, j, j + 1, ws.columns, &dist2);
+        missing.push_back({dist2, j});
+      }
     }
+    if (missing.empty()) continue;
+    std::sort(missing.begin(), missing.end(), detail::before);
+    ws.q_pending.insert(ws.q_pending.end(), q, q + dims);
+    ws.pending_self.push_back(static_cast<NodeId>(selves[b]));
+    ws.pending_query.push_back(b);
+    ++pending;
   }
-  if (missing.empty()) return;
-  std::vector<Ranked> sorted = missing;
-  std::sort(sorted.begin(), sorted.end(), detail::before);
-  std::vector<std::size_t> sorted_ranks(sorted.size());
-  detail::ranks_of(other, query, self, sorted, ws.columns, ws.row, sorted_ranks);
-  for (std::size_t p = 0, next = 0; p < kmax; ++p) {
-    if (ranks[p] != 0) continue;
-    const NodeId j = missing[next++].id;
-    for (std::size_t s = 0; s < sorted.size(); ++s)
-      if (sorted[s].id == j) ranks[p] = sorted_ranks[s];
+  if (pending == 0) return;
+  detail::ranks_of(other, ws.q_pending.data(), pending, ws.pending_self,
+                   std::span(ws.thresholds.data(), pending), ws.columns, ws.row, ws.counted);
+  for (std::size_t i = 0; i < pending; ++i) {
+    const std::size_t b = ws.pending_query[i];
+    const std::vector<Ranked>& t = ws.thresholds[i];
+    for (std::size_t p = 0; p < kmax; ++p) {
+      if (ranks[b][p] != 0) continue;
+      const NodeId j = from[b][p].id;
+      for (std::size_t s = 0; s < t.size(); ++s)
+        if (t[s].id == j) ranks[b][p] = ws.counted[i][s];
+    }
   }
 }
 
@@ -174,7 +201,9 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
     Workspace ws;
     ws.lists_in.resize(block);
     ws.lists_map.resize(block);
-    std::vector<std::size_t> rank_in, rank_map;
+    ws.cand_in.resize(block);
+    ws.cand_map.resize(block);
+    std::vector<std::vector<std::size_t>> rank_in, rank_map;
 #pragma omp for schedule(dynamic)
     for (std::size_t blk = 0; blk < blocks; ++blk) {
       errors.run([&] {
@@ -208,25 +237,27 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
           }
         }
         for (std::size_t b = 0; b < count; ++b) {
+          ws.lists_in[b].take_sorted(ws.cand_in[b]);
+          ws.lists_map[b].take_sorted(ws.cand_map[b]);
+        }
+        const std::span<const std::uint32_t> selves(queries.data() + q0, count);
+        ranks_in_other_space(scan_in, ws.q_in.data(), selves, ws.cand_map, ws.cand_in, kmax, ws,
+                             rank_in);
+        ranks_in_other_space(scan_map, ws.q_map.data(), selves, ws.cand_in, ws.cand_map, kmax, ws,
+                             rank_map);
+        for (std::size_t b = 0; b < count; ++b) {
           const std::size_t q = q0 + b;
-          const auto self = static_cast<NodeId>(queries[q]);
-          ws.lists_in[b].take_sorted(ws.cand_in);
-          ws.lists_map[b].take_sorted(ws.cand_map);
-          ranks_in_other_space(scan_in, ws.q_in.data() + b * d, self, ws.cand_map, ws.cand_in, kmax,
-                               ws, rank_in);
-          ranks_in_other_space(scan_map, ws.q_map.data() + b * m, self, ws.cand_in, ws.cand_map,
-                               kmax, ws, rank_map);
           for (std::size_t kk = 0; kk < nk; ++kk) {
             const std::size_t k = options.ks[kk];
             std::uint64_t t = 0, c = 0;
             std::uint32_t both = 0;
             for (std::size_t p = 0; p < k; ++p) {
               // rank_in[p]: input rank of the p-th map neighbour; beyond k it is in U_k.
-              if (rank_in[p] > k)
-                t += rank_in[p] - k;
+              if (rank_in[b][p] > k)
+                t += rank_in[b][p] - k;
               else
                 ++both;
-              if (rank_map[p] > k) c += rank_map[p] - k;
+              if (rank_map[b][p] > k) c += rank_map[b][p] - k;
             }
             t_sum[q * nk + kk] = t;
             c_sum[q * nk + kk] = c;

@@ -64,32 +64,40 @@ void NearestList::take_sorted(std::vector<Ranked>& out) {
   heap_.clear();
 }
 
-void ranks_of(const DistanceScanner& scanner, const double* query, NodeId self,
-              std::span<const Ranked> thresholds, std::vector<float>& columns,
-              std::vector<double>& dist2, std::span<std::size_t> ranks) {
-  const std::size_t m = thresholds.size();
-  if (m == 0) return;
-  // below[a]: points that come before thresholds[a] but not before thresholds[a-1]; the
-  // prefix sums are the ranks. One pass, and most points fail the first comparison.
-  std::vector<std::size_t> below(m, 0);
-  const Ranked last = thresholds[m - 1];
+void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t count,
+              std::span<const NodeId> selves, std::span<const std::vector<Ranked>> thresholds,
+              std::vector<float>& columns, std::vector<double>& dist2,
+              std::vector<std::vector<std::size_t>>& ranks) {
+  // below[b][a]: points that come before thresholds[b][a] but not before thresholds[b][a-1];
+  // the prefix sums are the ranks. Most points fail the first comparison.
+  ranks.resize(count);
+  for (std::size_t b = 0; b < count; ++b) ranks[b].assign(thresholds[b].size(), 0);
   const std::size_t n = scanner.rows();
   const std::size_t chunk = scanner.chunk();
-  dist2.resize(chunk);
-  for (std::size_t begin = 0; begin < n; begin += chunk) {
+  dist2.resize(count * chunk);
+  for (std::size_t begin = 0; begin < n && count > 0; begin += chunk) {
     const std::size_t end = std::min(n, begin + chunk);
-    scanner.distances(query, 1, begin, end, columns, dist2.data());
-    for (std::size_t l = begin; l < end; ++l) {
-      const Ranked r{dist2[l - begin], static_cast<NodeId>(l)};
-      if (!before(r, last) || l == self) continue;
-      const auto it = std::upper_bound(thresholds.begin(), thresholds.end(), r, before);
-      ++below[static_cast<std::size_t>(it - thresholds.begin())];
+    scanner.distances(queries, count, begin, end, columns, dist2.data());
+    for (std::size_t b = 0; b < count; ++b) {
+      const std::vector<Ranked>& t = thresholds[b];
+      if (t.empty()) continue;
+      const Ranked last = t.back();
+      std::vector<std::size_t>& below = ranks[b];
+      const double* row = dist2.data() + b * chunk;
+      for (std::size_t l = begin; l < end; ++l) {
+        const Ranked r{row[l - begin], static_cast<NodeId>(l)};
+        if (!before(r, last) || l == selves[b]) continue;
+        const auto it = std::upper_bound(t.begin(), t.end(), r, before);
+        ++below[static_cast<std::size_t>(it - t.begin())];
+      }
     }
   }
-  std::size_t sum = 0;
-  for (std::size_t a = 0; a < m; ++a) {
-    sum += below[a];
-    ranks[a] = sum + 1;
+  for (std::size_t b = 0; b < count; ++b) {
+    std::size_t sum = 0;
+    for (std::size_t& v : ranks[b]) {
+      sum += v;
+      v = sum + 1;
+    }
   }
 }
 

@@ -70,10 +70,13 @@ class NearestList {
   std::vector<Ranked> heap_;  // max-heap by the ranking convention
 };
 
-// ranks[a] = 1 + the number of points l != self that come before thresholds[a], for sorted,
-// distinct thresholds (the 1-based rank of that neighbour among all of self's neighbours).
-void ranks_of(const DistanceScanner& scanner, const double* query, NodeId self,
-              std::span<const Ranked> thresholds, std::vector<float>& columns,
-              std::vector<double>& dist2, std::span<std::size_t> ranks);
+// For each of `count` queries (rows of `queries`, ids selves[b]) and its sorted, distinct
+// thresholds[b]: ranks[b][a] = 1 + the number of points l != selves[b] that come before
+// thresholds[b][a], the 1-based rank of that neighbour among all the query's neighbours. One
+// pass over the points serves the whole block of queries.
+void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t count,
+              std::span<const NodeId> selves, std::span<const std::vector<Ranked>> thresholds,
+              std::vector<float>& columns, std::vector<double>& dist2,
+              std::vector<std::vector<std::size_t>>& ranks);
 
 }  // namespace unfurl::detail
