@@ -1,0 +1,61 @@
+#include "engine/detail/csr.hpp"
+
+#include <algorithm>
+#include <cstdint>
+#include <numeric>
+
+#include "engine/detail/parallel_chunks.hpp"
+
+namespace unfurl::detail {
+
+NeighbourGraph symmetric_csr(std::size_t nodes, const std::vector<Edge>& edges) {
+  std::vector<std::int64_t> start(nodes + 1, 0);
+  for (const Edge& e : edges)
+    if (e.from != e.to) {
+      ++start[e.from + 1];
+      ++start[e.to + 1];
+    }
+  std::partial_sum(start.begin(), start.end(), start.begin());
+  // Entries carry the edge's position so that "first length wins" survives the sort.
+  struct Entry {
+    NodeId target;
+    float length;
+    std::size_t order;
+  };
+  std::vector<Entry> entries(static_cast<std::size_t>(start.back()));
+  std::vector<std::int64_t> cursor(start.begin(), start.end() - 1);
+  for (std::size_t i = 0; i < edges.size(); ++i) {
+    const Edge& e = edges[i];
+    if (e.from == e.to) continue;
+    entries[static_cast<std::size_t>(cursor[e.from]++)] = {e.to, e.length, i};
+    entries[static_cast<std::size_t>(cursor[e.to]++)] = {e.from, e.length, i};
+  }
+  std::vector<std::int64_t> kept(nodes, 0);
+  parallel_chunks(nodes, 4096, {}, "graph", [&](std::size_t first, std::size_t last) {
+    for (std::size_t v = first; v < last; ++v) {
+      auto b = entries.begin() + start[v], e = entries.begin() + start[v + 1];
+      std::sort(b, e, [](const Entry& x, const Entry& y) {
+        return x.target < y.target || (x.target == y.target && x.order < y.order);
+      });
+      kept[v] =
+          std::unique(b, e, [](const Entry& x, const Entry& y) { return x.target == y.target; }) -
+          b;
+    }
+  });
+  NeighbourGraph g;
+  g.offsets.assign(nodes + 1, 0);
+  for (std::size_t v = 0; v < nodes; ++v) g.offsets[v + 1] = g.offsets[v] + kept[v];
+  g.targets.resize(static_cast<std::size_t>(g.offsets.back()));
+  g.lengths.resize(g.targets.size());
+  parallel_chunks(nodes, 4096, {}, "graph", [&](std::size_t first, std::size_t last) {
+    for (std::size_t v = first; v < last; ++v)
+      for (std::int64_t j = 0; j < kept[v]; ++j) {
+        const Entry& x = entries[static_cast<std::size_t>(start[v] + j)];
+        g.targets[static_cast<std::size_t>(g.offsets[v] + j)] = x.target;
+        g.lengths[static_cast<std::size_t>(g.offsets[v] + j)] = x.length;
+      }
+  });
+  return g;
+}
+
+}  // namespace unfurl::detail

@@ -1,0 +1,104 @@
+#include "engine/detail/neighbour_scan.hpp"
+
+#include <algorithm>
+
+namespace unfurl::detail {
+
+DistanceScanner::DistanceScanner(const PointSet& points)
+    : points_(points),
+      // About 64 KiB of transposed coordinates per chunk: small enough to stay in L2 while a
+      // block of queries reuses it, large enough to amortise the loop overhead.
+      chunk_(std::clamp<std::size_t>(16384 / std::max<std::size_t>(points.cols, 1), 64, 4096)) {}
+
+void DistanceScanner::load_query(std::size_t i, double* q) const {
+  const float* p = points_.row(i);
+  for (std::size_t c = 0; c < points_.cols; ++c) q[c] = p[c];
+}
+
+void DistanceScanner::distances(const double* queries, std::size_t count, std::size_t begin,
+                                std::size_t end, std::vector<float>& columns, double* dist2) const {
+  const std::size_t d = points_.cols;
+  const std::size_t len = end - begin;
+  const std::size_t stride = chunk_;
+  // Transposed, so the innermost loop runs over points with unit stride and vectorises.
+  columns.resize(d * stride);
+  for (std::size_t l = 0; l < len; ++l) {
+    const float* p = points_.row(begin + l);
+    for (std::size_t c = 0; c < d; ++c) columns[c * stride + l] = p[c];
+  }
+  for (std::size_t b = 0; b < count; ++b) {
+    double* out = dist2 + b * stride;
+    const double* q = queries + b * d;
+    std::fill(out, out + len, 0.0);
+    for (std::size_t c = 0; c < d; ++c) {
+      const float* x = columns.data() + c * stride;
+      const double qc = q[c];
+      for (std::size_t l = 0; l < len; ++l) {
+        const double t = static_cast<double>(x[l]) - qc;
+        out[l] += t * t;
+      }
+    }
+  }
+}
+
+void NearestList::reset(std::size_t size) {
+  size_ = size;
+  heap_.clear();
+  heap_.reserve(size);
+}
+
+void NearestList::push(double dist2, NodeId id) {
+  heap_.push_back({dist2, id});
+  std::push_heap(heap_.begin(), heap_.end(), before);
+}
+
+void NearestList::replace_worst(double dist2, NodeId id) {
+  std::pop_heap(heap_.begin(), heap_.end(), before);
+  heap_.back() = {dist2, id};
+  std::push_heap(heap_.begin(), heap_.end(), before);
+}
+
+void NearestList::take_sorted(std::vector<Ranked>& out) {
+  std::sort_heap(heap_.begin(), heap_.end(), before);
+  out.swap(heap_);
+  heap_.clear();
+}
+
+void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t count,
+              std::span<const NodeId> selves, std::span<const std::vector<Ranked>> thresholds,
+              std::vector<float>& columns, std::vector<double>& dist2,
+              std::vector<std::vector<std::size_t>>& ranks) {
+  // below[b][a]: points that come before thresholds[b][a] but not before thresholds[b][a-1];
+  // the prefix sums are the ranks. Most points fail the first comparison.
+  ranks.resize(count);
+  for (std::size_t b = 0; b < count; ++b) ranks[b].assign(thresholds[b].size(), 0);
+  const std::size_t n = scanner.rows();
+  const std::size_t chunk = scanner.chunk();
+  dist2.resize(count * chunk);
+  for (std::size_t begin = 0; begin < n && count > 0; begin += chunk) {
+    const std::size_t end = std::min(n, begin + chunk);
+    scanner.distances(queries, count, begin, end, columns, dist2.data());
+    for (std::size_t b = 0; b < count; ++b) {
+      const std::vector<Ranked>& t = thresholds[b];
+      if (t.empty()) continue;
+      const Ranked last = t.back();
+      std::vector<std::size_t>& below = ranks[b];
+      const double* row = dist2.data() + b * chunk;
+      for (std::size_t l = begin; l < end; ++l) {
+        const Ranked r{row[l - begin], static_cast<NodeId>(l)};
+        if (!before(r, last) || l == selves[b]) continue;
+        const auto it = std::upper_bound(t.begin(), t.end(), r, before);
+        ++below[static_cast<std::size_t>(it - t.begin())];
+      }
+    }
+  }
+  for (std::size_t b = 0; b < count; ++b) {
+    std::size_t sum = 0;
+    for (std::size_t& v : ranks[b]) {
+      sum += v;
+      v = sum + 1;
+    }
+  }
+}
+
+}  // namespace unfurl::detail

@@ -1,0 +1,82 @@
+// Exact neighbour ranks against every point, without storing a distance row: distances are
+// recomputed chunk by chunk (a chunk of points stays in cache while a block of queries uses it).
+//
+// Ranking convention (shared by every quality score): neighbours of a query are ordered by
+// (squared distance, id), so equal distances go to the lower id, which is what a stable sort
+// of the distance row gives. The query itself is excluded by id, never by position, so a
+// duplicate of the query ranks first like any other point at distance 0.
+#pragma once
+
+#include <cstddef>
+#include <span>
+#include <vector>
+
+#include "engine/points.hpp"
+
+namespace unfurl::detail {
+
+struct Ranked {
+  double dist2;  // squared Euclidean distance from the query
+  NodeId id;
+};
+
+inline bool before(const Ranked& a, const Ranked& b) {
+  return a.dist2 < b.dist2 || (a.dist2 == b.dist2 && a.id < b.id);
+}
+
+// Squared distances in double. The difference of two float32 values is exact in double, so
+// bit-identical points give bit-identical distances and ties are real ties.
+class DistanceScanner {
+ public:
+  explicit DistanceScanner(const PointSet& points);
+
+  std::size_t rows() const { return points_.rows; }
+  std::size_t dims() const { return points_.cols; }
+  std::size_t chunk() const { return chunk_; }  // points per chunk
+
+  // Row i as doubles into q (dims() values).
+  void load_query(std::size_t i, double* q) const;
+
+  // dist2[b * chunk() + (l - begin)] = |q_b - x_l|^2 for b < count, l in [begin, end), where
+  // end - begin <= chunk() and queries holds count rows of dims() doubles. `columns` is the
+  // caller's scratch (the chunk transposed), reused between calls.
+  void distances(const double* queries, std::size_t count, std::size_t begin, std::size_t end,
+                 std::vector<float>& columns, double* dist2) const;
+
+ private:
+  const PointSet& points_;
+  std::size_t chunk_;
+};
+
+// Keeps the `size` points that come first in the ranking convention. Points must be offered
+// in increasing id order (the scan order), which lets a plain distance comparison break ties.
+class NearestList {
+ public:
+  void reset(std::size_t size);
+  void offer(double dist2, NodeId id) {
+    if (heap_.size() < size_) {
+      push(dist2, id);
+    } else if (dist2 < heap_.front().dist2) {
+      replace_worst(dist2, id);
+    }
+  }
+  // Ascending by (dist2, id); the list is emptied.
+  void take_sorted(std::vector<Ranked>& out);
+
+ private:
+  void push(double dist2, NodeId id);
+  void replace_worst(double dist2, NodeId id);
+  std::size_t size_ = 0;
+  std::vector<Ranked> heap_;  // max-heap by the ranking convention
+};
+
+// For each of `count` queries (rows of `queries`, ids selves[b]) and its sorted, distinct
+// thresholds[b]: ranks[b][a] = 1 + the number of points l != selves[b] that come before
+// thresholds[b][a], the 1-based rank of that neighbour among all the query's neighbours. One
+// pass over the points serves the whole block of queries.
+void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t count,
+              std::span<const NodeId> selves, std::span<const std::vector<Ranked>> thresholds,
+              std::vector<float>& columns, std::vector<double>& dist2,
+              std::vector<std::vector<std::size_t>>& ranks);
+
+}  // namespace unfurl::detail

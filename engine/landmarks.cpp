@@ -1,0 +1,140 @@
+#include "engine/landmarks.hpp"
+
+#include <omp.h>
+
+#include <algorithm>
+#include <chrono>
+#include <limits>
+#include <numeric>
+
+#include "engine/detail/dijkstra.hpp"
+#include "engine/error.hpp"
+#include "engine/geodesic.hpp"
+#include "engine/parallel.hpp"
+#include "engine/random.hpp"
+
+namespace unfurl {
+
+std::size_t default_landmark_count(std::size_t nodes, std::size_t dims) {
+  return std::min(nodes, std::max<std::size_t>(dims + 1, 256));
+}
+
+std::size_t LandmarkOptions::resolved_count(std::size_t nodes) const {
+  return count == 0 ? default_landmark_count(nodes, dims) : count;
+}
+
+void LandmarkOptions::validate(std::size_t nodes) const {
+  if (dims < 1) throw OptionError("--dims: must be at least 1, got 0");
+  const std::size_t l = resolved_count(nodes);
+  if (l < dims + 1)
+    throw OptionError(
+        "--landmarks: must be at least dims + 1 = " + std::to_string(dims + 1) + ", got " +
+        std::to_string(l) +
+        (count == 0 ? " (the graph has only " + std::to_string(nodes) + " nodes)" : std::string()));
+  if (l > nodes)
+    throw OptionError("--landmarks: must be at most the number of graph nodes, " +
+                      std::to_string(nodes) + ", got " + std::to_string(l));
+}
+
+namespace {
+
+// Greedy maxmin; see the header for how the choice and the rows share the threads.
+void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& rows,
+                 LandmarkSummary& summary, StopToken stop) {
+  const std::size_t n = graph.nodes();
+  std::vector<double> nearest(n, std::numeric_limits<double>::infinity());
+  std::vector<char> chosen(n, 0);
+  detail::DistanceHeap heap;
+  std::vector<detail::DijkstraWorkspace> work(static_cast<std::size_t>(omp_get_max_threads()));
+  Random rng(seed);
+  ExceptionCollector errors;
+#pragma omp parallel
+#pragma omp single
+  {
+    for (std::size_t k = 0; k < rows.rows && !errors.failed(); ++k) {
+      NodeId pick = 0;
+      errors.run([&] {
+        stop.check("landmarks");
+        if (k == 0) {
+          pick = static_cast<NodeId>(rng.below(n));
+          return;
+        }
+        double farthest = -1.0;
+        for (std::size_t i = 0; i < n; ++i) {
+          if (!chosen[i] && nearest[i] > farthest) {  // strict: ties keep the lowest id
+            farthest = nearest[i];
+            pick = static_cast<NodeId>(i);
+          }
+        }
+        if (farthest == 0.0)
+          summary.warnings.push_back("landmarks: landmark " + std::to_string(k) + " (node " +
+                                     std::to_string(pick) +
+                                     ") is at distance 0 from an earlier one: duplicate points");
+      });
+      if (errors.failed()) break;
+      chosen[pick] = 1;
+      rows.sources[k] = pick;
+#pragma omp task default(none) firstprivate(k, pick) shared(rows, graph, work, errors, stop)
+      errors.run([&] {
+        if (errors.failed()) return;
+        stop.check("landmarks");
+        auto& mine = work[static_cast<std::size_t>(omp_get_thread_num())];
+        const std::size_t unreachable = mine.run(graph, pick, rows.row(k));
+        if (unreachable > 0) detail::throw_unreachable(unreachable, graph.nodes(), pick);
+      });
+      errors.run([&] {
+        summary.choice_visits += detail::lower_bounds_from(graph, pick, nearest, heap);
+        if (k > 0) return;
+        const auto unreachable = static_cast<std::size_t>(
+            std::count(nearest.begin(), nearest.end(), std::numeric_limits<double>::infinity()));
+        if (unreachable > 0) detail::throw_unreachable(unreachable, n, pick);
+      });
+    }
+#pragma omp taskwait
+  }
+  errors.rethrow();
+  summary.coverage_radius = *std::max_element(nearest.begin(), nearest.end());
+}
+
+void pick_random(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& rows,
+                 StopToken stop) {
+  // Partial Fisher-Yates shuffle: the first L entries are a uniform draw without repeats.
+  std::vector<NodeId> ids(graph.nodes());
+  std::iota(ids.begin(), ids.end(), NodeId{0});
+  Random rng(seed);
+  for (std::size_t k = 0; k < rows.rows; ++k) {
+    const std::size_t j = k + static_cast<std::size_t>(rng.below(ids.size() - k));
+    std::swap(ids[k], ids[j]);
+    rows.sources[k] = ids[k];
+  }
+  detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
+}
+
+}  // namespace
+
+LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
+                              StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  const std::size_t n = graph.nodes();
+  options.validate(n);
+  detail::check_graph(graph);
+  LandmarkResult result;
+  DistanceRows& rows = result.rows;
+  rows.rows = options.resolved_count(n);
+  rows.cols = n;
+  rows.sources.assign(rows.rows, 0);
+  rows.values.resize(rows.rows * rows.cols);
+  LandmarkSummary& summary = result.summary;
+  summary.landmarks = rows.rows;
+  summary.nodes = n;
+  summary.pick = options.pick;
+  summary.threads = omp_get_max_threads();
+  if (options.pick == Pick::maxmin)
+    pick_maxmin(graph, options.seed, rows, summary, stop);
+  else
+    pick_random(graph, options.seed, rows, stop);
+  summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return result;
+}
+
+}  // namespace unfurl

@@ -1,0 +1,72 @@
+// Landmarks: the few source nodes whose geodesic rows landmark MDS needs (de Silva and
+// Tenenbaum 2004), picked by greedy maxmin (farthest point) or uniformly at random.
+//
+// Threads and determinism. Greedy maxmin is sequential: landmark k + 1 is the node farthest
+// from landmarks 0..k. The picker therefore splits the work in two:
+// - the choice runs on one thread and keeps, for every node, its distance to the nearest
+//   landmark so far; after each pick a pruned Dijkstra lowers those distances, visiting only
+//   the nodes whose distance actually drops (about N / k nodes for the k-th pick), so the
+//   choice costs a few full Dijkstra runs in total;
+// - each picked landmark's full row is an OpenMP task that the other threads (and the
+//   choosing thread, once done) run while the choice goes on.
+// The choice reads only the pruned distances, never the rows, so it is exactly the greedy
+// maxmin sequence whatever the thread count; rows are computed by one thread each. Same
+// graph and seed, same bytes.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "engine/distance_rows.hpp"
+#include "engine/graph.hpp"
+#include "engine/stop.hpp"
+
+namespace unfurl {
+
+enum class Pick {
+  maxmin,  // first landmark drawn from the seed, each next the node farthest from those chosen
+  random,  // `count` distinct nodes drawn uniformly from the seed
+};
+
+// The count used when LandmarkOptions::count is 0: min(N, max(dims + 1, 256)). 256 rows of a
+// million nodes are 1 GB of float32, the budget of the million-point target; more landmarks
+// barely move the map of a 2-D or 3-D sheet (the error of landmark MDS falls with L quickly
+// once the landmarks cover the sheet).
+std::size_t default_landmark_count(std::size_t nodes, std::size_t dims);
+
+struct LandmarkOptions {
+  std::size_t count = 0;     // landmarks to pick; 0: default_landmark_count(N, dims)
+  std::size_t dims = 2;      // map dimensions the landmarks must support: count >= dims + 1
+  Pick pick = Pick::maxmin;  // how to pick them
+  std::uint64_t seed = 1;    // first maxmin landmark, or the whole random draw
+
+  // Throws OptionError naming the field: dims < 1, count < dims + 1 or count > nodes.
+  void validate(std::size_t nodes) const;
+  // count, or the default when count is 0.
+  std::size_t resolved_count(std::size_t nodes) const;
+};
+
+struct LandmarkSummary {
+  std::size_t landmarks = 0;      // rows picked
+  std::size_t nodes = 0;          // graph nodes
+  Pick pick = Pick::maxmin;       // rule used
+  double coverage_radius = 0.0;   // maxmin: largest distance from a node to its nearest landmark
+  std::size_t choice_visits = 0;  // maxmin: nodes settled by the pruned Dijkstra runs
+  double seconds = 0.0;           // wall time: choice and rows
+  int threads = 0;                // OpenMP threads
+  std::vector<std::string> warnings;  // e.g. landmarks that coincide (duplicate points)
+};
+
+struct LandmarkResult {
+  DistanceRows rows;  // sources = the landmarks in pick order; L x N geodesic distances
+  LandmarkSummary summary;
+};
+
+// Throws OptionError for bad options, DataError when the graph is malformed or not
+// connected, InterruptedError when `stop` is requested (polled before every pick and row).
+LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
+                              StopToken stop = {});
+
+}  // namespace unfurl

@@ -1,0 +1,267 @@
+#include "engine/neighbours.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <string>
+
+#include "engine/detail/csr.hpp"
+#include "engine/detail/duplicates.hpp"
+#include "engine/detail/neighbour_search.hpp"
+#include "engine/error.hpp"
+
+namespace unfurl {
+namespace {
+
+using detail::Edge;
+using detail::Neighbour;
+
+void require_finite(const PointSet& points, const char* what) {
+  for (std::size_t i = 0; i < points.rows; ++i)
+    for (std::size_t j = 0; j < points.cols; ++j)
+      if (!std::isfinite(points.row(i)[j]))
+        throw DataError(std::string(what) + ": row " + std::to_string(i) + ", column " +
+                        std::to_string(j) + " is not a finite number");
+}
+
+std::vector<Neighbour> knn_lists(const PointSet& data, const PointSet& queries, std::size_t k,
+                                 Search search, bool exclude_self, std::size_t block_rows,
+                                 StopToken stop) {
+  std::vector<Neighbour> out(queries.rows * k);
+  if (search == Search::tree)
+    detail::knn_tree(data, queries, k, exclude_self, out, stop);
+  else
+    detail::knn_scan(data, queries, k, exclude_self, block_rows, out, stop);
+  return out;
+}
+
+float length_of(double squared) {
+  return static_cast<float>(std::sqrt(squared));
+}
+
+// i~j in the union graph when either lists the other; in the mutual graph when both do.
+std::vector<Edge> knn_edges(const std::vector<Neighbour>& lists, std::size_t nodes, std::size_t k,
+                            bool mutual) {
+  std::vector<Edge> edges;
+  edges.reserve(nodes * k);
+  for (std::size_t i = 0; i < nodes; ++i)
+    for (std::size_t a = 0; a < k; ++a) {
+      const Neighbour& n = lists[i * k + a];
+      if (mutual) {
+        const auto* other = &lists[static_cast<std::size_t>(n.index) * k];
+        const bool listed_back =
+            std::any_of(other, other + k, [i](const Neighbour& m) { return m.index == i; });
+        if (!listed_back || n.index < i) continue;  // keep each mutual pair once
+      }
+      edges.push_back({static_cast<NodeId>(i), n.index, length_of(n.squared)});
+    }
+  return edges;
+}
+
+float quantile(std::vector<float>& v, double q) {
+  const std::size_t rank = static_cast<std::size_t>(std::ceil(q * static_cast<double>(v.size())));
+  const std::size_t at = rank == 0 ? 0 : std::min(v.size() - 1, rank - 1);
+  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(at), v.end());
+  return v[at];
+}
+
+void summarise(const NeighbourGraph& g, GraphSummary& s) {
+  s.nodes = g.nodes();
+  s.directed_edges = g.directed_edges();
+  s.undirected_edges = g.directed_edges() / 2;
+  std::vector<std::size_t> degree(g.nodes());
+  for (std::size_t v = 0; v < g.nodes(); ++v) degree[v] = g.degree(v);
+  s.isolated_nodes = static_cast<std::size_t>(std::count(degree.begin(), degree.end(), 0u));
+  if (!degree.empty()) {
+    std::sort(degree.begin(), degree.end());
+    s.degree_min = degree.front();
+    s.degree_median = degree[(degree.size() - 1) / 2];
+    s.degree_max = degree.back();
+  }
+  std::vector<float> lengths;
+  lengths.reserve(s.undirected_edges);
+  for (std::size_t v = 0; v < g.nodes(); ++v)
+    for (auto e = g.offsets[v]; e < g.offsets[v + 1]; ++e)
+      if (g.targets[static_cast<std::size_t>(e)] > v)
+        lengths.push_back(g.lengths[static_cast<std::size_t>(e)]);
+  if (lengths.empty()) return;
+  s.length_min = *std::min_element(lengths.begin(), lengths.end());
+  s.length_max = *std::max_element(lengths.begin(), lengths.end());
+  s.length_p05 = quantile(lengths, 0.05);
+  s.length_median = quantile(lengths, 0.5);
+  s.length_p95 = quantile(lengths, 0.95);
+}
+
+// keep_duplicates: every extra copy becomes a node of its own hanging off its group's first
+// row by one epsilon edge; the graph among first rows is the merged one.
+NeighbourGraph attach_copies(const NeighbourGraph& merged, const detail::DuplicateGroups& dup,
+                             float epsilon) {
+  const std::size_t n = dup.node_of_point.size();
+  std::vector<Edge> edges;
+  edges.reserve(merged.directed_edges() / 2 + dup.extra_rows);
+  for (std::size_t v = 0; v < merged.nodes(); ++v)
+    for (auto e = merged.offsets[v]; e < merged.offsets[v + 1]; ++e) {
+      const NodeId w = merged.targets[static_cast<std::size_t>(e)];
+      if (w > v)
+        edges.push_back({static_cast<NodeId>(dup.point_of_node[v]),
+                         static_cast<NodeId>(dup.point_of_node[w]),
+                         merged.lengths[static_cast<std::size_t>(e)]});
+    }
+  for (std::size_t r = 0; r < n; ++r) {
+    const std::size_t first = dup.point_of_node[dup.node_of_point[r]];
+    if (first != r) edges.push_back({static_cast<NodeId>(first), static_cast<NodeId>(r), epsilon});
+  }
+  return detail::symmetric_csr(n, edges);
+}
+
+}  // namespace
+
+const char* search_name(Search search) {
+  switch (search) {
+    case Search::automatic:
+      return "automatic";
+    case Search::tree:
+      return "tree";
+    case Search::scan:
+      return "scan";
+  }
+  return "?";
+}
+
+Search choose_search(Search requested, std::size_t n, std::size_t d) {
+  if (requested != Search::automatic) return requested;
+  // k-d trees pay off when N >> 2^d and stop helping near 20 dimensions (DESIGN.md 5).
+  if (d <= 16 && static_cast<double>(n) >= 16.0 * std::ldexp(1.0, static_cast<int>(d)))
+    return Search::tree;
+  return Search::scan;
+}
+
+void GraphOptions::validate(std::size_t points) const {
+  if (!std::isfinite(radius) || radius < 0.0)
+    throw OptionError("--radius: must be a positive number, got " + std::to_string(radius));
+  if (radius > 0.0 && k != 0)
+    throw OptionError("--radius: cannot be combined with --k " + std::to_string(k) +
+                      " (a radius graph takes k = 0)");
+  if (radius == 0.0 && k < 1) throw OptionError("--k: must be at least 1, got 0");
+  if (radius == 0.0 && k >= points)
+    throw OptionError("--k: must be less than the number of points (" + std::to_string(points) +
+                      "), got " + std::to_string(k));
+  if (block_rows < 1) throw OptionError("--block-rows: must be at least 1, got 0");
+  if (!(duplicate_epsilon >= 0.0f) || !std::isfinite(duplicate_epsilon))
+    throw OptionError("--duplicate-epsilon: must be >= 0 (0 = automatic), got " +
+                      std::to_string(duplicate_epsilon));
+}
+
+KnnResult exact_knn(const PointSet& data, const PointSet& queries, std::size_t k, Search search,
+                    bool exclude_self, std::size_t block_rows, StopToken stop) {
+  if (queries.cols != data.cols)
+    throw DataError("queries: " + std::to_string(queries.cols) + " columns, the data have " +
+                    std::to_string(data.cols));
+  if (exclude_self && queries.rows != data.rows)
+    throw InternalError("exact_knn: exclude_self needs the data themselves as queries");
+  const std::size_t available = data.rows - (exclude_self && data.rows > 0 ? 1 : 0);
+  if (k < 1) throw OptionError("--k: must be at least 1, got 0");
+  if (k > available)
+    throw OptionError("--k: must be at most " + std::to_string(available) +
+                      " (the data rows available), got " + std::to_string(k));
+  if (block_rows < 1) throw OptionError("--block-rows: must be at least 1, got 0");
+  require_finite(data, "data");
+  if (&queries != &data) require_finite(queries, "queries");
+  KnnResult r;
+  r.k = k;
+  r.search_used = choose_search(search, data.rows, data.cols);
+  const auto lists = knn_lists(data, queries, k, r.search_used, exclude_self, block_rows, stop);
+  r.index.resize(lists.size());
+  r.distance.resize(lists.size());
+  for (std::size_t i = 0; i < lists.size(); ++i) {
+    r.index[i] = lists[i].index;
+    r.distance[i] = length_of(lists[i].squared);
+  }
+  return r;
+}
+
+GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& options,
+                                  StopToken stop) {
+  const auto started = std::chrono::steady_clock::now();
+  options.validate(points.rows);
+  if (points.cols == 0) throw DataError("points: no columns");
+  require_finite(points, "points");
+  GraphResult result;
+  GraphSummary& s = result.summary;
+  auto dup = detail::find_duplicates(points, stop);
+  s.duplicate_groups = dup.groups_with_copies;
+  s.duplicate_rows = dup.extra_rows;
+  const std::size_t distinct = dup.point_of_node.size();
+  if (options.radius == 0.0 && options.k >= distinct)
+    throw DataError("--k: " + std::to_string(options.k) + " needs at least " +
+                    std::to_string(options.k + 1) + " distinct points, the data have " +
+                    std::to_string(distinct) + " (" + std::to_string(dup.extra_rows) +
+                    " rows repeat others)");
+  PointSet unique_rows;
+  if (dup.extra_rows > 0) unique_rows = detail::select_rows(points, dup.point_of_node);
+  const PointSet& nodes = dup.extra_rows > 0 ? unique_rows : points;
+  s.search_used = choose_search(options.search, nodes.rows, nodes.cols);
+
+  std::vector<Edge> edges;
+  if (options.radius > 0.0) {
+    const auto lists =
+        s.search_used == Search::tree
+            ? detail::radius_tree(nodes, nodes, options.radius, true, stop)
+            : detail::radius_scan(nodes, nodes, options.radius, true, options.block_rows, stop);
+    for (std::size_t i = 0; i < lists.size(); ++i)
+      for (const Neighbour& n : lists[i])
+        if (n.index > i) edges.push_back({static_cast<NodeId>(i), n.index, length_of(n.squared)});
+    if (edges.empty() && nodes.rows > 1) {
+      const auto nearest =
+          knn_lists(nodes, nodes, 1, s.search_used, true, options.block_rows, stop);
+      const auto closest = std::min_element(nearest.begin(), nearest.end(), detail::closer);
+      throw DataError("--radius: no two points lie within " + std::to_string(options.radius) +
+                      "; the closest pair is " + std::to_string(std::sqrt(closest->squared)) +
+                      " apart");
+    }
+  } else {
+    const auto lists =
+        knn_lists(nodes, nodes, options.k, s.search_used, true, options.block_rows, stop);
+    edges = knn_edges(lists, nodes.rows, options.k, options.mutual);
+  }
+  NeighbourGraph merged = detail::symmetric_csr(nodes.rows, edges);
+  edges = {};
+
+  if (options.keep_duplicates && dup.extra_rows > 0) {
+    float epsilon = options.duplicate_epsilon;
+    if (epsilon == 0.0f) {
+      std::vector<float> positive;
+      for (float l : merged.lengths)
+        if (l > 0.0f) positive.push_back(l);
+      epsilon = positive.empty() ? 1e-6f : 1e-6f * quantile(positive, 0.5);
+    }
+    result.graph = attach_copies(merged, dup, epsilon);
+    result.node_of_point.resize(points.rows);
+    result.point_of_node.resize(points.rows);
+    for (std::size_t r = 0; r < points.rows; ++r) {
+      result.node_of_point[r] = static_cast<NodeId>(r);
+      result.point_of_node[r] = r;
+    }
+    s.warnings.push_back(std::to_string(dup.extra_rows) + " rows repeat an earlier row (" +
+                         std::to_string(dup.groups_with_copies) +
+                         " groups); kept, joined by edges of length " + std::to_string(epsilon));
+  } else {
+    result.graph = std::move(merged);
+    result.node_of_point = std::move(dup.node_of_point);
+    result.point_of_node = std::move(dup.point_of_node);
+    if (dup.extra_rows > 0)
+      s.warnings.push_back(std::to_string(dup.extra_rows) + " rows repeat an earlier row (" +
+                           std::to_string(dup.groups_with_copies) +
+                           " groups); merged into one node each");
+  }
+  summarise(result.graph, s);
+  if (s.isolated_nodes > 0)
+    s.warnings.push_back(std::to_string(s.isolated_nodes) + " of " + std::to_string(s.nodes) +
+                         " nodes have no edge (" +
+                         (options.radius > 0.0 ? "radius too small for them" : "mutual graph") +
+                         ")");
+  s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  return result;
+}
+
+}  // namespace unfurl

@@ -1,0 +1,100 @@
+// The neighbour graph stage: exact k-nearest or radius graphs over a point set, with exact
+// duplicate points merged, and a plain exact kNN query for other stages.
+//
+// Exactness: both back ends report exact Euclidean distances (computed in double from the
+// float rows, rounded to float once) and the exact neighbour sets; ties in distance go to the
+// smaller index, so the tree and the scan give identical graphs. Results do not depend on
+// the thread count. Parallel: k-d tree queries and scan blocks run on all OpenMP threads; the
+// k-d tree build is single-threaded (nanoflann 1.4).
+#pragma once
+
+#include <cstddef>
+#include <string>
+#include <vector>
+
+#include "engine/graph.hpp"
+#include "engine/points.hpp"
+#include "engine/stop.hpp"
+
+namespace unfurl {
+
+enum class Search {
+  automatic,  // tree when d <= 16 and N >= 16 * 2^d (k-d trees pay off for N >> 2^d), else scan
+  tree,       // k-d tree (nanoflann): low dimension
+  scan,       // blocked brute force from float32 matrix products: high dimension
+};
+const char* search_name(Search search);  // "automatic", "tree", "scan"
+
+struct GraphOptions {
+  // Neighbours per point for a k-nearest graph; must be 0 when radius is set.
+  std::size_t k = 10;
+  // > 0: radius graph instead, joining points at Euclidean distance <= radius (inclusive,
+  // as SciPy's cKDTree.query_pairs), in data units. 0: not a radius graph.
+  double radius = 0.0;
+  // false: union symmetrisation (i~j when either lists the other); true: mutual (both must).
+  bool mutual = false;
+  // Which exact search runs (see Search).
+  Search search = Search::automatic;
+  // false: exact duplicate rows are merged into one node (their zero-length edges would make
+  // distinct rows geodesically identical and break shortest-path ties). true: every row is
+  // a node and each duplicate is joined to its group's first row by an edge of length
+  // duplicate_epsilon; a kNN edge between duplicates also gets that length.
+  bool keep_duplicates = false;
+  // Length of the edges between kept duplicates, in data units. 0: automatic, 1e-6 times the
+  // median non-zero edge length (small against every real edge, yet never zero).
+  float duplicate_epsilon = 0.0f;
+  // Scan back end: query rows per block. Memory per thread is about block_rows x 2048 floats
+  // plus the candidate lists, so the scan never holds an N x N matrix.
+  std::size_t block_rows = 512;
+
+  // Throws OptionError naming the field: k < 1 without radius, k >= number of nodes,
+  // radius < 0 or not finite, k and radius both set, block_rows < 1, negative epsilon.
+  void validate(std::size_t points) const;
+};
+
+struct GraphSummary {
+  std::size_t nodes = 0;           // unique points (or all rows with keep_duplicates)
+  std::size_t directed_edges = 0;  // stored CSR entries (twice the undirected edges)
+  std::size_t undirected_edges = 0;
+  std::size_t degree_min = 0, degree_median = 0, degree_max = 0;
+  // Edge length quantiles (nearest rank): min, 5%, 50%, 95%, max; zeros when no edges.
+  float length_min = 0, length_p05 = 0, length_median = 0, length_p95 = 0, length_max = 0;
+  std::size_t isolated_nodes = 0;     // nodes without any edge (radius graphs, mutual graphs)
+  std::size_t duplicate_groups = 0;   // sets of two or more identical rows
+  std::size_t duplicate_rows = 0;     // rows beyond the first of each group (merged or kept)
+  Search search_used = Search::tree;  // the back end that actually ran
+  double seconds = 0.0;               // wall time of the whole stage
+  std::vector<std::string> warnings;  // isolated nodes, duplicates, ...
+};
+
+struct GraphResult {
+  NeighbourGraph graph;                    // over the nodes (unique points by default)
+  std::vector<NodeId> node_of_point;       // N input rows -> node (duplicates share one)
+  std::vector<std::size_t> point_of_node;  // node -> its representative (first) input row
+  GraphSummary summary;
+};
+
+// Builds the graph. Throws OptionError for bad options, DataError for non-finite values
+// (naming row and column), too few distinct points for k, or a radius under which no two
+// points are joined (the message gives the smallest nearest-neighbour distance). Isolated
+// nodes short of that are a warning; components are the business of engine/components.hpp.
+GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& options,
+                                  StopToken stop = {});
+
+// The k nearest data rows of every query row, N_queries x k row-major, nearest first, ties
+// to the smaller index. exclude_self: queries are the data themselves (same rows, same
+// order) and row i never lists itself, though it lists its exact duplicates at distance 0.
+struct KnnResult {
+  std::size_t k = 0;
+  std::vector<NodeId> index;    // queries.rows * k data row ids
+  std::vector<float> distance;  // queries.rows * k Euclidean distances
+  Search search_used = Search::tree;
+};
+KnnResult exact_knn(const PointSet& data, const PointSet& queries, std::size_t k,
+                    Search search = Search::automatic, bool exclude_self = false,
+                    std::size_t block_rows = 512, StopToken stop = {});
+
+// The back end Search::automatic picks for n points in d dimensions.
+Search choose_search(Search requested, std::size_t n, std::size_t d);
+
+}  // namespace unfurl

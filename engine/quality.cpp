@@ -1,0 +1,319 @@
+#include "engine/quality.hpp"
+
+#include <omp.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <span>
+#include <string>
+#include <unordered_set>
+
+#include "engine/detail/neighbour_scan.hpp"
+#include "engine/detail/point_checks.hpp"
+#include "engine/error.hpp"
+#include "engine/parallel.hpp"
+#include "engine/random.hpp"
+
+namespace unfurl {
+
+const char* score_method_name(ScoreMethod method) {
+  switch (method) {
+    case ScoreMethod::automatic:
+      return "automatic";
+    case ScoreMethod::exact:
+      return "exact";
+    case ScoreMethod::sampled:
+      return "sampled";
+  }
+  return "unknown";
+}
+
+void QualityOptions::validate(std::size_t n) const {
+  if (ks.empty()) throw OptionError("--k: give at least one neighbourhood size");
+  for (std::size_t k : ks) {
+    if (k < 1) throw OptionError("--k: must be at least 1, got 0");
+    // 2k < N is k < N/2 without rounding; T and C leave [0, 1] beyond it.
+    if (2 * k >= n)
+      throw OptionError("--k: must be less than N/2 = " + std::to_string(n / 2) +
+                        (n % 2 ? ".5" : "") + " for " + std::to_string(n) + " points, got " +
+                        std::to_string(k));
+  }
+  if (sample < 2)
+    throw OptionError("--sample: must be at least 2 query points, got " + std::to_string(sample));
+  if (threads < 0)
+    throw OptionError("--threads: must be 0 (all) or more, got " + std::to_string(threads));
+  if (method == ScoreMethod::automatic && exact_limit < 1)
+    throw OptionError("--exact-limit: must be at least 1, got 0");
+}
+
+namespace {
+
+using detail::Ranked;
+
+// Floyd's algorithm: `count` distinct rows of n, uniform, ascending; depends on the seed only.
+std::vector<std::uint32_t> sample_rows(std::size_t n, std::size_t count, std::uint64_t seed) {
+  Random rng(seed);
+  std::unordered_set<std::uint32_t> chosen;
+  chosen.reserve(count * 2);
+  std::vector<std::uint32_t> rows;
+  rows.reserve(count);
+  for (std::size_t j = n - count; j < n; ++j) {
+    const auto t = static_cast<std::uint32_t>(rng.below(j + 1));
+    const auto pick = chosen.insert(t).second ? t : static_cast<std::uint32_t>(j);
+    if (pick != t) chosen.insert(pick);
+    rows.push_back(pick);
+  }
+  std::sort(rows.begin(), rows.end());
+  return rows;
+}
+
+// Where id sits in a sorted candidate list, or npos.
+constexpr std::size_t npos = static_cast<std::size_t>(-1);
+std::size_t position_of(const std::vector<Ranked>& list, NodeId id) {
+  for (std::size_t p = 0; p < list.size(); ++p)
+    if (list[p].id == id) return p;
+  return npos;
+}
+
+// Per-thread working memory.
+struct Workspace {
+  std::vector<double> q_in, q_map;  // block x dims
+  std::vector<double> d_in, d_map;  // block x chunk
+  std::vector<float> columns;
+  std::vector<double> row;
+  std::vector<detail::NearestList> lists_in, lists_map;
+  std::vector<std::vector<Ranked>> cand_in, cand_map;  // per query, sorted candidates
+  std::vector<double> q_pending;                       // queries that need a counting pass
+  std::vector<NodeId> pending_self;
+  std::vector<std::size_t> pending_query;
+  std::vector<std::vector<Ranked>> thresholds;
+  std::vector<std::vector<std::size_t>> counted;
+};
+
+// ranks[b][p]: for the p-th (p < kmax) neighbour of query b in `from`, its 1-based rank in the
+// other space: read from the other space's candidates when it is there, else counted against
+// all points in one pass shared by the block.
+void ranks_in_other_space(const detail::DistanceScanner& other, const double* queries,
+                          std::span<const std::uint32_t> selves,
+                          const std::vector<std::vector<Ranked>>& from,
+                          const std::vector<std::vector<Ranked>>& other_lists, std::size_t kmax,
+                          Workspace& ws, std::vector<std::vector<std::size_t>>& ranks) {
+  const std::size_t count = selves.size();
+  const std::size_t dims = other.dims();
+  ranks.resize(count);
+  ws.q_pending.clear();
+  ws.pending_self.clear();
+  ws.pending_query.clear();
+  ws.thresholds.resize(count);
+  std::size_t pending = 0;
+  for (std::size_t b = 0; b < count; ++b) {
+    ranks[b].assign(kmax, 0);
+    std::vector<Ranked>& missing = ws.thresholds[pending];
+    missing.clear();
+    const double* q = queries + b * dims;
+    for (std::size_t p = 0; p < kmax; ++p) {
+      const NodeId j = from[b][p].id;
+      const std::size_t pos = position_of(other_lists[b], j);
+      if (pos != npos) {
+        ranks[b][p] = pos + 1;
+      } else {
+        // The same code path as the scan, so the point is never counted below itself.
+        double dist2 = 0;
+        other.distances(q, 1, j, j + 1, ws.columns, &dist2);
+        missing.push_back({dist2, j});
+      }
+    }
+    if (missing.empty()) continue;
+    std::sort(missing.begin(), missing.end(), detail::before);
+    ws.q_pending.insert(ws.q_pending.end(), q, q + dims);
+    ws.pending_self.push_back(static_cast<NodeId>(selves[b]));
+    ws.pending_query.push_back(b);
+    ++pending;
+  }
+  if (pending == 0) return;
+  detail::ranks_of(other, ws.q_pending.data(), pending, ws.pending_self,
+                   std::span(ws.thresholds.data(), pending), ws.columns, ws.row, ws.counted);
+  for (std::size_t i = 0; i < pending; ++i) {
+    const std::size_t b = ws.pending_query[i];
+    const std::vector<Ranked>& t = ws.thresholds[i];
+    for (std::size_t p = 0; p < kmax; ++p) {
+      if (ranks[b][p] != 0) continue;
+      const NodeId j = from[b][p].id;
+      for (std::size_t s = 0; s < t.size(); ++s)
+        if (t[s].id == j) ranks[b][p] = ws.counted[i][s];
+    }
+  }
+}
+
+}  // namespace
+
+NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
+                                         const QualityOptions& options, StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::require_finite(input, "quality input points");
+  detail::require_finite(map, "quality map");
+  if (input.rows != map.rows)
+    throw DataError("quality: the map has " + std::to_string(map.rows) +
+                    " rows but the input points have " + std::to_string(input.rows));
+  const std::size_t n = input.rows;
+  if (n >= (std::size_t{1} << 31))
+    throw DataError("quality: " + std::to_string(n) + " points exceed the 2^31 row limit");
+  options.validate(n);
+
+  NeighbourhoodScores out;
+  out.points = n;
+  const bool sampled =
+      options.sample < n && (options.method == ScoreMethod::sampled ||
+                             (options.method == ScoreMethod::automatic && n > options.exact_limit));
+  out.method = sampled ? ScoreMethod::sampled : ScoreMethod::exact;
+  std::vector<std::uint32_t> queries;
+  if (sampled) {
+    queries = sample_rows(n, options.sample, options.seed);
+  } else {
+    queries.resize(n);
+    for (std::size_t i = 0; i < n; ++i) queries[i] = static_cast<std::uint32_t>(i);
+    if (options.method == ScoreMethod::sampled)
+      out.warnings.push_back("quality: sample of " + std::to_string(options.sample) +
+                             " is not smaller than N = " + std::to_string(n) + "; scored exactly");
+  }
+  const std::size_t nq = queries.size();
+  const std::size_t nk = options.ks.size();
+  const std::size_t kmax = *std::max_element(options.ks.begin(), options.ks.end());
+  // Candidates beyond kmax make most ranks of misplaced neighbours free; only those farther
+  // out need a counting pass.
+  const std::size_t kc = std::min(n - 1, std::max(4 * kmax, kmax + 32));
+
+  std::vector<std::uint64_t> t_sum(nq * nk), c_sum(nq * nk);
+  std::vector<std::uint32_t> shared(nq * nk);
+
+  const detail::DistanceScanner scan_in(input), scan_map(map);
+  const std::size_t chunk = std::min(scan_in.chunk(), scan_map.chunk());
+  const std::size_t block = 8;
+  const std::size_t blocks = (nq + block - 1) / block;
+  const std::size_t d = input.cols, m = map.cols;
+  const int threads = resolve_threads(options.threads);
+  out.threads = threads;
+  ExceptionCollector errors;
+
+#pragma omp parallel num_threads(threads)
+  {
+    Workspace ws;
+    ws.lists_in.resize(block);
+    ws.lists_map.resize(block);
+    ws.cand_in.resize(block);
+    ws.cand_map.resize(block);
+    std::vector<std::vector<std::size_t>> rank_in, rank_map;
+#pragma omp for schedule(dynamic)
+    for (std::size_t blk = 0; blk < blocks; ++blk) {
+      errors.run([&] {
+        if (errors.failed()) return;
+        stop.check("quality");
+        const std::size_t q0 = blk * block;
+        const std::size_t count = std::min(block, nq - q0);
+        ws.q_in.resize(count * d);
+        ws.q_map.resize(count * m);
+        for (std::size_t b = 0; b < count; ++b) {
+          scan_in.load_query(queries[q0 + b], ws.q_in.data() + b * d);
+          scan_map.load_query(queries[q0 + b], ws.q_map.data() + b * m);
+          ws.lists_in[b].reset(kc);
+          ws.lists_map[b].reset(kc);
+        }
+        ws.d_in.resize(count * scan_in.chunk());
+        ws.d_map.resize(count * scan_map.chunk());
+        for (std::size_t begin = 0; begin < n; begin += chunk) {
+          const std::size_t end = std::min(n, begin + chunk);
+          scan_in.distances(ws.q_in.data(), count, begin, end, ws.columns, ws.d_in.data());
+          scan_map.distances(ws.q_map.data(), count, begin, end, ws.columns, ws.d_map.data());
+          for (std::size_t b = 0; b < count; ++b) {
+            const std::size_t self = queries[q0 + b];
+            const double* din = ws.d_in.data() + b * scan_in.chunk();
+            const double* dmap = ws.d_map.data() + b * scan_map.chunk();
+            for (std::size_t l = begin; l < end; ++l) {
+              if (l == self) continue;
+              ws.lists_in[b].offer(din[l - begin], static_cast<NodeId>(l));
+              ws.lists_map[b].offer(dmap[l - begin], static_cast<NodeId>(l));
+            }
+          }
+        }
+        for (std::size_t b = 0; b < count; ++b) {
+          ws.lists_in[b].take_sorted(ws.cand_in[b]);
+          ws.lists_map[b].take_sorted(ws.cand_map[b]);
+        }
+        const std::span<const std::uint32_t> selves(queries.data() + q0, count);
+        ranks_in_other_space(scan_in, ws.q_in.data(), selves, ws.cand_map, ws.cand_in, kmax, ws,
+                             rank_in);
+        ranks_in_other_space(scan_map, ws.q_map.data(), selves, ws.cand_in, ws.cand_map, kmax, ws,
+                             rank_map);
+        for (std::size_t b = 0; b < count; ++b) {
+          const std::size_t q = q0 + b;
+          for (std::size_t kk = 0; kk < nk; ++kk) {
+            const std::size_t k = options.ks[kk];
+            std::uint64_t t = 0, c = 0;
+            std::uint32_t both = 0;
+            for (std::size_t p = 0; p < k; ++p) {
+              // rank_in[p]: input rank of the p-th map neighbour; beyond k it is in U_k.
+              if (rank_in[b][p] > k)
+                t += rank_in[b][p] - k;
+              else
+                ++both;
+              if (rank_map[b][p] > k) c += rank_map[b][p] - k;
+            }
+            t_sum[q * nk + kk] = t;
+            c_sum[q * nk + kk] = c;
+            shared[q * nk + kk] = both;
+          }
+        }
+      });
+    }
+  }
+  errors.rethrow();
+
+  const double z = 1.959963984540054;  // two-sided 95% normal quantile
+  for (std::size_t kk = 0; kk < nk; ++kk) {
+    const std::size_t k = options.ks[kk];
+    NeighbourhoodScore s;
+    s.k = k;
+    s.sampled = sampled;
+    s.sample_size = nq;
+    s.scored_points = queries;
+    s.t_terms.resize(nq);
+    s.c_terms.resize(nq);
+    const double scale = 2.0 / (static_cast<double>(k) * (2.0 * n - 3.0 * k - 1.0));
+    double t_mean = 0, c_mean = 0, shared_mean = 0;
+    for (std::size_t q = 0; q < nq; ++q) {
+      s.t_terms[q] = static_cast<double>(t_sum[q * nk + kk]) * scale;
+      s.c_terms[q] = static_cast<double>(c_sum[q * nk + kk]) * scale;
+      t_mean += s.t_terms[q];
+      c_mean += s.c_terms[q];
+      shared_mean += static_cast<double>(shared[q * nk + kk]) / static_cast<double>(k);
+    }
+    t_mean /= static_cast<double>(nq);
+    c_mean /= static_cast<double>(nq);
+    s.trustworthiness = 1.0 - t_mean;
+    s.continuity = 1.0 - c_mean;
+    s.knn_preservation = shared_mean / static_cast<double>(nq);
+    s.t_low = s.t_high = s.trustworthiness;
+    s.c_low = s.c_high = s.continuity;
+    if (sampled) {
+      double t_var = 0, c_var = 0;
+      for (std::size_t q = 0; q < nq; ++q) {
+        t_var += (s.t_terms[q] - t_mean) * (s.t_terms[q] - t_mean);
+        c_var += (s.c_terms[q] - c_mean) * (s.c_terms[q] - c_mean);
+      }
+      const double fpc = std::sqrt(static_cast<double>(n - nq) / static_cast<double>(n - 1));
+      const double t_half = z * std::sqrt(t_var / (nq - 1.0) / nq) * fpc;
+      const double c_half = z * std::sqrt(c_var / (nq - 1.0) / nq) * fpc;
+      s.t_low = std::max(0.0, s.trustworthiness - t_half);
+      s.t_high = std::min(1.0, s.trustworthiness + t_half);
+      s.c_low = std::max(0.0, s.continuity - c_half);
+      s.c_high = std::min(1.0, s.continuity + c_half);
+    }
+    out.by_k.push_back(std::move(s));
+  }
+  out.queries = nq;
+  out.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return out;
+}
+
+}  // namespace unfurl

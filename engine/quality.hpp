@@ -1,0 +1,89 @@
+// Neighbourhood quality of a map: trustworthiness T(k), continuity C(k) and k-nearest-neighbour
+// preservation, exact or from a seeded sample of query points.
+//
+// Definitions (Venna and Kaski, ICANN 2001; Neural Networks 19, 2006):
+//   T(k) = 1 - 2 / (N k (2N - 3k - 1)) * sum_i sum_{j in U_k(i)} (r(i, j) - k)
+// U_k(i): the points among i's k nearest in the map but not among its k nearest in input space;
+// r(i, j): the rank (1-based) of j among i's input-space neighbours. C(k) swaps the two spaces.
+// Both need k < N/2. Input neighbours use the Euclidean distance on the original points.
+//
+// Ranks and ties: neighbours are ordered by (distance, row index): equal distances go to the
+// lower row, as a stable sort of the distance row orders them. A point is excluded from its
+// own neighbours by its index, never by position, so duplicates are ordinary neighbours at
+// distance 0. Distances are exact squared differences in double (no N x N storage).
+//
+// Per-point terms: for a scored point i, t_term = 2 / (k (2N - 3k - 1)) * sum_{j in U_k(i)}
+// (r(i, j) - k), which lies in [0, 1] (1 when i's k map neighbours are its k farthest input
+// points), and 1 - T is the mean of t_term over all N points. c_term likewise for 1 - C.
+//
+// Sampled estimate: a uniform sample without replacement of n query points (seeded), each
+// ranked exactly against all N points; T is estimated by 1 - mean(t_term) and its 95%
+// interval by the normal approximation to the sampling distribution of that mean:
+// +-1.96 s / sqrt(n) * sqrt((N - n) / (N - 1)), s the sample standard deviation of the terms and
+// the last factor the finite-population correction. The interval is clipped to [0, 1].
+// Results depend on the seed, never on the number of threads.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "engine/points.hpp"
+#include "engine/stop.hpp"
+
+namespace unfurl {
+
+enum class ScoreMethod {
+  automatic,  // exact up to exact_limit points, sampled beyond
+  exact,      // every point is a query point
+  sampled,    // `sample` query points drawn with `seed`
+};
+
+// "automatic", "exact" or "sampled" (the names the command line uses).
+const char* score_method_name(ScoreMethod method);
+
+struct QualityOptions {
+  std::vector<std::size_t> ks = {12};           // neighbourhood sizes; each 1 <= k < N/2
+  ScoreMethod method = ScoreMethod::automatic;  // exact up to exact_limit points, then sampled
+  std::size_t exact_limit = 50000;              // largest N scored exactly by `automatic`
+  std::size_t sample = 2000;  // query points when sampled (at least 2; all N if larger than N)
+  std::uint64_t seed = 1;     // seed of the query sample
+  int threads = 0;            // OpenMP threads; 0: all that OpenMP offers
+
+  // Throws OptionError naming the field (--k, --sample, --exact-limit, --threads) for N points.
+  void validate(std::size_t n) const;
+};
+
+struct NeighbourhoodScore {
+  std::size_t k = 0;
+  double trustworthiness = 0;    // T(k), or its estimate when sampled
+  double continuity = 0;         // C(k), or its estimate when sampled
+  double knn_preservation = 0;   // mean fraction of the k input neighbours among the k map ones
+  double t_low = 0, t_high = 0;  // 95% interval of T when sampled; equal to T when exact
+  double c_low = 0, c_high = 0;  // 95% interval of C when sampled; equal to C when exact
+  bool sampled = false;
+  std::size_t sample_size = 0;               // number of query points (N when exact)
+  std::vector<std::uint32_t> scored_points;  // query rows, ascending
+  std::vector<double> t_terms;  // per scored point, its term of 1 - T (see the header comment)
+  std::vector<double> c_terms;  // per scored point, its term of 1 - C
+};
+
+struct NeighbourhoodScores {
+  std::vector<NeighbourhoodScore> by_k;  // one entry per options.ks, in that order
+  // Summary
+  std::size_t points = 0;                   // N
+  std::size_t queries = 0;                  // query points ranked against all N
+  ScoreMethod method = ScoreMethod::exact;  // exact or sampled, as decided
+  int threads = 0;                          // threads used
+  double seconds = 0;                       // wall time of the stage
+  std::vector<std::string> warnings;
+};
+
+// input: the original points (N x d); map: the map (N x m), row i of both the same point.
+// Throws DataError for different row counts, empty sets or non-finite values (naming the row),
+// OptionError for bad options, InterruptedError when `stop` is requested.
+NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
+                                         const QualityOptions& options, StopToken stop = {});
+
+}  // namespace unfurl

@@ -1,0 +1,216 @@
+#include "engine/quality_residual.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+
+#include "engine/detail/point_checks.hpp"
+#include "engine/error.hpp"
+#include "engine/parallel.hpp"
+#include "engine/random.hpp"
+
+namespace unfurl {
+namespace {
+
+// Means and centred co-moments of (x, y_1..y_m) over a group of pairs, combined group by group
+// with the pairwise update of Chan, Golub and LeVeque (1979) so no sum cancels.
+struct Moments {
+  double n = 0, mean_x = 0, sxx = 0;
+  std::vector<double> mean_y, syy, sxy;
+  explicit Moments(std::size_t m) : mean_y(m, 0.0), syy(m, 0.0), sxy(m, 0.0) {}
+
+  void merge(const Moments& o) {
+    if (o.n == 0) return;
+    const double total = n + o.n;
+    const double f = n * o.n / total;
+    const double dx = o.mean_x - mean_x;
+    for (std::size_t d = 0; d < mean_y.size(); ++d) {
+      const double dy = o.mean_y[d] - mean_y[d];
+      syy[d] += o.syy[d] + dy * dy * f;
+      sxy[d] += o.sxy[d] + dx * dy * f;
+      mean_y[d] += dy * o.n / total;
+    }
+    sxx += o.sxx + dx * dx * f;
+    mean_x += dx * o.n / total;
+    n = total;
+  }
+};
+
+// Distances between map rows a and b using the first 1..m axes.
+void map_distances(const PointSet& map, std::size_t a, std::size_t b, double* out) {
+  const float* p = map.row(a);
+  const float* q = map.row(b);
+  double s = 0;
+  for (std::size_t c = 0; c < map.cols; ++c) {
+    const double t = static_cast<double>(p[c]) - q[c];
+    s += t * t;
+    out[c] = std::sqrt(s);
+  }
+}
+
+// Two passes over one group of pairs: means, then centred sums. pair(i, a, b, x) gives pair i.
+template <class Pair>
+Moments group_moments(const PointSet& map, std::size_t count, Pair pair) {
+  const std::size_t m = map.cols;
+  Moments g(m);
+  std::vector<double> y(m);
+  std::size_t a, b;
+  double x;
+  std::size_t used = 0;
+  for (std::size_t i = 0; i < count; ++i) {
+    if (!pair(i, a, b, x)) continue;
+    map_distances(map, a, b, y.data());
+    g.mean_x += x;
+    for (std::size_t d = 0; d < m; ++d) g.mean_y[d] += y[d];
+    ++used;
+  }
+  if (used == 0) return g;
+  g.n = static_cast<double>(used);
+  g.mean_x /= g.n;
+  for (double& v : g.mean_y) v /= g.n;
+  for (std::size_t i = 0; i < count; ++i) {
+    if (!pair(i, a, b, x)) continue;
+    map_distances(map, a, b, y.data());
+    const double cx = x - g.mean_x;
+    g.sxx += cx * cx;
+    for (std::size_t d = 0; d < m; ++d) {
+      const double cy = y[d] - g.mean_y[d];
+      g.syy[d] += cy * cy;
+      g.sxy[d] += cx * cy;
+    }
+  }
+  return g;
+}
+
+ResidualVarianceCurve finish(const Moments& total, std::size_t m) {
+  ResidualVarianceCurve curve;
+  curve.pairs = static_cast<std::size_t>(total.n);
+  if (total.n < 2) throw DataError("residual variance: fewer than 2 point pairs to correlate");
+  if (!(total.sxx > 0))
+    throw DataError("residual variance: every given distance is equal; R is undefined");
+  for (std::size_t d = 0; d < m; ++d) {
+    if (!(total.syy[d] > 0)) {
+      curve.by_dims.push_back(1.0);
+      curve.warnings.push_back("residual variance: the first " + std::to_string(d + 1) +
+                               " map axes put every pair at the same distance; taken as 1");
+      continue;
+    }
+    const double r = total.sxy[d] / std::sqrt(total.sxx * total.syy[d]);
+    curve.by_dims.push_back(std::clamp(1.0 - r * r, 0.0, 1.0));
+  }
+  return curve;
+}
+
+}  // namespace
+
+ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const PointSet& map,
+                                        StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::require_finite(map, "residual variance map");
+  if (geodesic.cols != map.rows)
+    throw DataError("residual variance: geodesic rows have " + std::to_string(geodesic.cols) +
+                    " columns but the map has " + std::to_string(map.rows) + " rows");
+  if (geodesic.rows == 0 || geodesic.sources.size() != geodesic.rows ||
+      geodesic.values.size() != geodesic.rows * geodesic.cols)
+    throw DataError("residual variance: geodesic rows are empty or inconsistent in size");
+  const std::size_t m = map.cols;
+  std::vector<Moments> rows(geodesic.rows, Moments(m));
+  ExceptionCollector errors;
+#pragma omp parallel for schedule(dynamic)
+  for (std::size_t r = 0; r < geodesic.rows; ++r) {
+    errors.run([&] {
+      if (errors.failed()) return;
+      stop.check("residual variance");
+      const std::size_t s = geodesic.sources[r];
+      if (s >= geodesic.cols)
+        throw DataError("residual variance: geodesic row " + std::to_string(r) + " has source " +
+                        std::to_string(s) + ", not a map row");
+      const float* g = geodesic.row(r);
+      for (std::size_t j = 0; j < geodesic.cols; ++j)
+        if (!std::isfinite(g[j]))
+          throw DataError("residual variance: geodesic row " + std::to_string(r) + " column " +
+                          std::to_string(j) + " is not finite");
+      rows[r] = group_moments(map, geodesic.cols,
+                              [&](std::size_t j, std::size_t& a, std::size_t& b, double& x) {
+                                a = s;
+                                b = j;
+                                x = g[j];
+                                return j != s;
+                              });
+    });
+  }
+  errors.rethrow();
+  Moments total(m);
+  for (const Moments& g : rows) total.merge(g);
+  ResidualVarianceCurve curve = finish(total, m);
+  curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return curve;
+}
+
+ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, const PointSet& map,
+                                        StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::require_finite(map, "residual variance map");
+  for (std::size_t i = 0; i < pairs.size(); ++i) {
+    const PairDistance& p = pairs[i];
+    if (p.a >= map.rows || p.b >= map.rows || p.a == p.b || !std::isfinite(p.distance))
+      throw DataError("residual variance: pair " + std::to_string(i) +
+                      " names rows outside the map, the same row twice or a non-finite distance");
+  }
+  // Fixed groups, so the sums (and the result) do not depend on the thread count.
+  const std::size_t group = 65536;
+  const std::size_t groups = (pairs.size() + group - 1) / group;
+  const std::size_t m = map.cols;
+  std::vector<Moments> parts(groups, Moments(m));
+  ExceptionCollector errors;
+#pragma omp parallel for schedule(dynamic)
+  for (std::size_t g = 0; g < groups; ++g) {
+    errors.run([&] {
+      if (errors.failed()) return;
+      stop.check("residual variance");
+      const std::size_t first = g * group;
+      const std::size_t count = std::min(group, pairs.size() - first);
+      parts[g] =
+          group_moments(map, count, [&](std::size_t i, std::size_t& a, std::size_t& b, double& x) {
+            const PairDistance& p = pairs[first + i];
+            a = p.a;
+            b = p.b;
+            x = p.distance;
+            return true;
+          });
+    });
+  }
+  errors.rethrow();
+  Moments total(m);
+  for (const Moments& g : parts) total.merge(g);
+  ResidualVarianceCurve curve = finish(total, m);
+  curve.sampled = true;
+  curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return curve;
+}
+
+std::vector<PairDistance> sample_pair_distances(const PointSet& points, std::size_t count,
+                                                std::uint64_t seed) {
+  if (count == 0) throw OptionError("--pairs: must be at least 1, got 0");
+  detail::require_finite(points, "residual variance points");
+  if (points.rows < 2) throw DataError("residual variance: fewer than 2 points to pair");
+  Random rng(seed);
+  std::vector<PairDistance> pairs(count);
+  for (PairDistance& p : pairs) {
+    p.a = static_cast<NodeId>(rng.below(points.rows));
+    // b uniform among the other rows: draw from n - 1 and step over a.
+    p.b = static_cast<NodeId>(rng.below(points.rows - 1));
+    if (p.b >= p.a) ++p.b;
+    const float* x = points.row(p.a);
+    const float* y = points.row(p.b);
+    double s = 0;
+    for (std::size_t c = 0; c < points.cols; ++c) {
+      const double t = static_cast<double>(x[c]) - y[c];
+      s += t * t;
+    }
+    p.distance = std::sqrt(s);
+  }
+  return pairs;
+}
+
+}  // namespace unfurl

@@ -1,0 +1,95 @@
+#include "engine/geodesic.hpp"
+
+#include <omp.h>
+
+#include <atomic>
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <numeric>
+
+#include "engine/error.hpp"
+#include "tests/test_util.hpp"
+
+using unfurl::NodeId;
+using unfurl::test::Edge;
+
+TEST_CASE("dijkstra on a path graph gives the prefix sums of the lengths", "[geodesic]") {
+  // Known answer: on a path the only route between two nodes is the path itself.
+  const std::vector<float> lengths{0.5f, 1.25f, 2.0f, 0.75f};
+  std::vector<Edge> edges;
+  for (NodeId i = 0; i < lengths.size(); ++i) edges.push_back({i, i + 1, lengths[i]});
+  const auto g = unfurl::test::graph_from_edges(5, edges);
+  const std::vector<NodeId> sources{0, 4, 2};
+  const auto rows = unfurl::geodesic_rows(g, sources);
+  REQUIRE(rows.rows == 3);
+  REQUIRE(rows.cols == 5);
+  CHECK(rows.sources == sources);
+  const std::vector<double> from0{0.0, 0.5, 1.75, 3.75, 4.5};
+  for (std::size_t j = 0; j < 5; ++j) {
+    CHECK(rows.row(0)[j] == Approx(from0[j]));
+    CHECK(rows.row(1)[j] == Approx(4.5 - from0[j]));
+    CHECK(rows.row(2)[j] == Approx(std::abs(from0[j] - 1.75)));
+  }
+}
+
+TEST_CASE("dijkstra rows equal Floyd-Warshall on random graphs", "[geodesic]") {
+  for (std::uint64_t seed : {1u, 2u, 3u}) {
+    const auto g = unfurl::test::random_connected_graph(60, 120, seed);
+    const auto oracle = unfurl::test::floyd_warshall(g);  // Floyd 1962, see test_util.hpp
+    const auto rows = unfurl::all_geodesic_rows(g);
+    REQUIRE(rows.rows == 60);
+    for (std::size_t i = 0; i < 60; ++i)
+      for (std::size_t j = 0; j < 60; ++j)
+        REQUIRE(rows.row(i)[j] == Approx(oracle[i * 60 + j]).epsilon(1e-6));
+  }
+}
+
+TEST_CASE("rows do not depend on the thread count", "[geodesic]") {
+  const auto g = unfurl::test::random_connected_graph(300, 900, 9);
+  const int before = omp_get_max_threads();
+  omp_set_num_threads(1);
+  const auto one = unfurl::all_geodesic_rows(g);
+  omp_set_num_threads(2);
+  const auto two = unfurl::all_geodesic_rows(g);
+  omp_set_num_threads(before);
+  CHECK(one.values == two.values);
+}
+
+TEST_CASE("an unreachable node is an error that says how many", "[geodesic]") {
+  // Two components: {0, 1, 2} and {3, 4}. The DataError is thrown inside the parallel region
+  // and must reach the caller.
+  const auto g = unfurl::test::graph_from_edges(5, {{0, 1, 1.f}, {1, 2, 1.f}, {3, 4, 1.f}});
+  const std::vector<NodeId> sources{0, 1, 2, 3};
+  CHECK_THROWS_AS(unfurl::geodesic_rows(g, sources), unfurl::DataError);
+  const std::vector<NodeId> first{0};
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, first),
+                    Catch::Contains("2 of 5 graph nodes are unreachable from node 0"));
+}
+
+TEST_CASE("bad sources and malformed graphs are data errors", "[geodesic]") {
+  auto g = unfurl::test::graph_from_edges(3, {{0, 1, 1.f}, {1, 2, 1.f}});
+  const std::vector<NodeId> beyond{3};
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, beyond), Catch::Contains("source 0 is node 3"));
+  g.targets[0] = 7;
+  const std::vector<NodeId> ok{0};
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, ok), Catch::Contains("points to node 7"));
+  g.targets[0] = 1;
+  g.lengths[1] = std::nanf("");
+  CHECK_THROWS_AS(unfurl::geodesic_rows(g, ok), unfurl::DataError);
+}
+
+TEST_CASE("a stop request stops dijkstra", "[geodesic]") {
+  const auto g = unfurl::test::random_connected_graph(200, 400, 4);
+  std::atomic<bool> flag{true};
+  CHECK_THROWS_AS(unfurl::all_geodesic_rows(g, unfurl::StopToken{&flag}), unfurl::InterruptedError);
+  flag = false;
+  CHECK_NOTHROW(unfurl::all_geodesic_rows(g, unfurl::StopToken{&flag}));
+}
+
+TEST_CASE("duplicate points: zero-length edges give zero distances", "[geodesic]") {
+  const auto g = unfurl::test::graph_from_edges(3, {{0, 1, 0.f}, {1, 2, 2.f}});
+  const std::vector<NodeId> s{0};
+  const auto rows = unfurl::geodesic_rows(g, s);
+  CHECK(rows.row(0)[1] == 0.0f);
+  CHECK(rows.row(0)[2] == 2.0f);
+}

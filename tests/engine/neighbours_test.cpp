@@ -1,0 +1,283 @@
+#include "engine/neighbours.hpp"
+
+#include <omp.h>
+
+#include <algorithm>
+#include <atomic>
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <set>
+#include <stdexcept>
+#include <tuple>
+
+#include "engine/detail/neighbour_search.hpp"
+#include "engine/error.hpp"
+#include "engine/random.hpp"
+
+using namespace unfurl;
+
+namespace {
+
+PointSet random_points(std::size_t n, std::size_t d, std::uint64_t seed, bool integer_grid) {
+  Random rng(seed);
+  PointSet p(n, d);
+  for (float& v : p.values)
+    v = integer_grid ? static_cast<float>(rng.below(4)) : static_cast<float>(rng.normal());
+  return p;
+}
+
+// The oracle: every distance in long double, sorted by (distance, index).
+struct Brute {
+  std::vector<NodeId> index;
+  std::vector<float> distance;
+};
+Brute brute_knn(const PointSet& data, const PointSet& queries, std::size_t k, bool exclude_self) {
+  Brute b;
+  for (std::size_t q = 0; q < queries.rows; ++q) {
+    std::vector<std::pair<long double, NodeId>> all;
+    for (std::size_t i = 0; i < data.rows; ++i) {
+      if (exclude_self && i == q) continue;
+      long double s = 0;
+      for (std::size_t j = 0; j < data.cols; ++j) {
+        const long double diff = (long double)queries.row(q)[j] - data.row(i)[j];
+        s += diff * diff;
+      }
+      all.push_back({s, static_cast<NodeId>(i)});
+    }
+    std::sort(all.begin(), all.end());
+    for (std::size_t a = 0; a < k; ++a) {
+      b.index.push_back(all[a].second);
+      b.distance.push_back(static_cast<float>(std::sqrt(all[a].first)));
+    }
+  }
+  return b;
+}
+
+void check_equal(const KnnResult& r, const Brute& b) {
+  REQUIRE(r.index.size() == b.index.size());
+  for (std::size_t i = 0; i < b.index.size(); ++i) {
+    CHECK(r.index[i] == b.index[i]);
+    CHECK(r.distance[i] == Approx(b.distance[i]).epsilon(1e-6).margin(1e-30));
+  }
+}
+
+using EdgeSet = std::set<std::tuple<NodeId, NodeId>>;
+EdgeSet edges_of(const NeighbourGraph& g) {
+  EdgeSet s;
+  for (std::size_t v = 0; v < g.nodes(); ++v)
+    for (auto e = g.offsets[v]; e < g.offsets[v + 1]; ++e)
+      s.insert({static_cast<NodeId>(v), g.targets[static_cast<std::size_t>(e)]});
+  return s;
+}
+
+// CSR invariants of engine/graph.hpp: symmetric, sorted, lengths equal both ways.
+void check_csr(const NeighbourGraph& g) {
+  for (std::size_t v = 0; v < g.nodes(); ++v)
+    for (auto e = g.offsets[v]; e < g.offsets[v + 1]; ++e) {
+      const NodeId w = g.targets[static_cast<std::size_t>(e)];
+      if (e > g.offsets[v]) REQUIRE(g.targets[static_cast<std::size_t>(e - 1)] < w);
+      const auto b = g.targets.begin() + g.offsets[w], end = g.targets.begin() + g.offsets[w + 1];
+      const auto back = std::lower_bound(b, end, static_cast<NodeId>(v));
+      REQUIRE(back != end);
+      REQUIRE(*back == v);
+      REQUIRE(g.lengths[static_cast<std::size_t>(back - g.targets.begin())] ==
+              g.lengths[static_cast<std::size_t>(e)]);
+    }
+}
+
+}  // namespace
+
+TEST_CASE("tree and scan equal brute force, ties and duplicates included", "[neighbours]") {
+  // Oracle: brute force in long double in this test (common practice, no source).
+  for (const bool grid : {false, true}) {
+    for (const std::size_t d : {2u, 3u, 9u, 40u}) {
+      const auto data = random_points(300, d, 11 + d, grid);
+      const auto queries = random_points(40, d, 99 + d, grid);
+      for (const std::size_t k : {1u, 7u, 25u}) {
+        const auto self = brute_knn(data, data, k, true);
+        const auto other = brute_knn(data, queries, k, false);
+        for (const Search s : {Search::tree, Search::scan}) {
+          INFO("grid " << grid << " d " << d << " k " << k << " " << search_name(s));
+          check_equal(exact_knn(data, data, k, s, true, 64), self);
+          check_equal(exact_knn(data, queries, k, s, false, 7), other);
+        }
+      }
+    }
+  }
+}
+
+TEST_CASE("scan stays exact when the data sit far from the origin", "[neighbours]") {
+  // Large offsets make |x|^2 - 2x.y + |y|^2 cancel badly in float; the centring and the
+  // certified rescan must still give the oracle's answer (brute force, no source).
+  auto data = random_points(200, 30, 5, false);
+  for (std::size_t i = 0; i < data.rows; ++i)
+    for (std::size_t j = 0; j < data.cols; ++j) data.row(i)[j] = 1000.0f + 0.01f * data.row(i)[j];
+  check_equal(exact_knn(data, data, 5, Search::scan, true, 16), brute_knn(data, data, 5, true));
+}
+
+TEST_CASE("kNN graph is the union or mutual symmetrisation of the brute-force lists",
+          "[neighbours]") {
+  const auto pts = random_points(400, 3, 3, false);
+  const std::size_t k = 6;
+  const auto b = brute_knn(pts, pts, k, true);
+  EdgeSet unions, mutuals;
+  for (std::size_t i = 0; i < pts.rows; ++i)
+    for (std::size_t a = 0; a < k; ++a) {
+      const NodeId j = b.index[i * k + a];
+      unions.insert({static_cast<NodeId>(i), j});
+      unions.insert({j, static_cast<NodeId>(i)});
+      const auto* back = &b.index[j * k];
+      if (std::find(back, back + k, static_cast<NodeId>(i)) != back + k)
+        mutuals.insert({static_cast<NodeId>(i), j});
+    }
+  for (const Search s : {Search::tree, Search::scan}) {
+    GraphOptions o;
+    o.k = k;
+    o.search = s;
+    const auto u = build_neighbour_graph(pts, o);
+    check_csr(u.graph);
+    CHECK(edges_of(u.graph) == unions);
+    CHECK(u.summary.search_used == s);
+    CHECK(u.summary.degree_min >= k);
+    o.mutual = true;
+    const auto m = build_neighbour_graph(pts, o);
+    check_csr(m.graph);
+    CHECK(edges_of(m.graph) == mutuals);
+  }
+}
+
+TEST_CASE("radius graph is inclusive at the boundary", "[neighbours]") {
+  // Points 0, 1, 3 and 6 on a line: the pair (1, 3) is exactly 2 apart, representable in
+  // float and double alike (SciPy's query_pairs counts distance <= r too).
+  PointSet p(4, 2);
+  const float xs[] = {0, 1, 3, 6};
+  for (std::size_t i = 0; i < 4; ++i) p.row(i)[0] = xs[i];
+  for (const Search s : {Search::tree, Search::scan}) {
+    GraphOptions o;
+    o.k = 0;
+    o.radius = 2.0;
+    o.search = s;
+    const auto g = build_neighbour_graph(p, o);
+    CHECK(edges_of(g.graph) == EdgeSet{{0, 1}, {1, 0}, {1, 2}, {2, 1}});
+    CHECK(g.summary.isolated_nodes == 1);
+    CHECK(!g.summary.warnings.empty());
+    o.radius = std::nextafter(2.0, 0.0);
+    CHECK(edges_of(build_neighbour_graph(p, o).graph) == EdgeSet{{0, 1}, {1, 0}});
+  }
+}
+
+TEST_CASE("radius graph equals brute force on random data", "[neighbours]") {
+  for (const std::size_t d : {3u, 20u}) {
+    const auto pts = random_points(300, d, 17, false);
+    const double r = d == 3 ? 0.6 : 4.5;
+    EdgeSet expect;
+    for (std::size_t i = 0; i < pts.rows; ++i)
+      for (std::size_t j = 0; j < pts.rows; ++j)
+        if (i != j && detail::exact_squared(pts.row(i), pts.row(j), d) <= r * r)
+          expect.insert({static_cast<NodeId>(i), static_cast<NodeId>(j)});
+    REQUIRE(!expect.empty());
+    for (const Search s : {Search::tree, Search::scan}) {
+      GraphOptions o;
+      o.k = 0;
+      o.radius = r;
+      o.search = s;
+      const auto g = build_neighbour_graph(pts, o);
+      check_csr(g.graph);
+      CHECK(edges_of(g.graph) == expect);
+    }
+  }
+}
+
+TEST_CASE("duplicate rows are merged, counted and mapped to their first row", "[neighbours]") {
+  const std::size_t base = 200;
+  auto pts = random_points(base, 3, 21, false);
+  PointSet all(base + 20, 3);  // 10% repeated rows: rows base.. copy rows 0, 10, ..., 0, 10...
+  std::copy(pts.values.begin(), pts.values.end(), all.values.begin());
+  for (std::size_t c = 0; c < 20; ++c) std::copy_n(pts.row((c % 10) * 10), 3, all.row(base + c));
+  all.row(5)[0] = -0.0f;  // -0 and +0 are the same coordinate
+  all.row(6)[0] = 0.0f;
+  all.row(6)[1] = all.row(5)[1];
+  all.row(6)[2] = all.row(5)[2];
+  GraphOptions o;
+  o.k = 5;
+  const auto g = build_neighbour_graph(all, o);
+  CHECK(g.summary.duplicate_groups == 11);
+  CHECK(g.summary.duplicate_rows == 21);
+  CHECK(g.graph.nodes() == base + 20 - 21);
+  REQUIRE(g.node_of_point.size() == all.rows);
+  for (std::size_t r = 0; r < all.rows; ++r) {
+    const std::size_t first = g.point_of_node[g.node_of_point[r]];
+    CHECK(first <= r);
+    for (std::size_t j = 0; j < 3; ++j) CHECK(all.row(first)[j] == all.row(r)[j]);
+  }
+  CHECK(g.point_of_node[g.node_of_point[base + 3]] == 30);
+  CHECK(g.node_of_point[6] == g.node_of_point[5]);
+  CHECK(g.summary.length_min > 0.0f);
+
+  o.keep_duplicates = true;
+  o.duplicate_epsilon = 1e-4f;
+  const auto kept = build_neighbour_graph(all, o);
+  check_csr(kept.graph);
+  CHECK(kept.graph.nodes() == all.rows);
+  CHECK(kept.graph.degree(base + 3) == 1);
+  CHECK(kept.graph.targets[static_cast<std::size_t>(kept.graph.offsets[base + 3])] == 30);
+  CHECK(kept.graph.lengths[static_cast<std::size_t>(kept.graph.offsets[base + 3])] == 1e-4f);
+}
+
+TEST_CASE("bad options and data are refused with the field named", "[neighbours]") {
+  const auto pts = random_points(20, 3, 1, false);
+  GraphOptions o;
+  o.k = 0;
+  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), "--k: must be at least 1, got 0");
+  o.k = 20;
+  CHECK_THROWS_AS(build_neighbour_graph(pts, o), OptionError);
+  o.k = 3;
+  o.radius = 1.0;
+  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), Catch::Contains("--radius"));
+  o.k = 0;
+  o.radius = -1.0;
+  CHECK_THROWS_AS(build_neighbour_graph(pts, o), OptionError);
+  // A radius under which every point is isolated is an error, not an empty graph.
+  o.radius = 1e-6;
+  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), Catch::Contains("closest pair"));
+  CHECK_THROWS_AS(build_neighbour_graph(pts, o), DataError);
+  // Too few distinct points for k.
+  PointSet same(10, 2);
+  GraphOptions k3;
+  k3.k = 3;
+  CHECK_THROWS_AS(build_neighbour_graph(same, k3), DataError);
+  auto bad = pts;
+  bad.row(7)[2] = std::nanf("");
+  CHECK_THROWS_WITH(build_neighbour_graph(bad, k3),
+                    "points: row 7, column 2 is not a finite number");
+}
+
+TEST_CASE("results do not depend on the thread count", "[neighbours]") {
+  const auto pts = random_points(3000, 3, 8, false);
+  GraphOptions o;
+  o.k = 8;
+  const int threads = omp_get_max_threads();
+  omp_set_num_threads(1);
+  const auto one = build_neighbour_graph(pts, o);
+  omp_set_num_threads(std::max(2, threads));
+  const auto many = build_neighbour_graph(pts, o);
+  omp_set_num_threads(threads);
+  CHECK(one.graph.targets == many.graph.targets);
+  CHECK(one.graph.lengths == many.graph.lengths);
+}
+
+TEST_CASE("an exception inside a parallel region reaches the caller", "[neighbours][parallel]") {
+  std::atomic<int> ran{0};
+  CHECK_THROWS_WITH(detail::parallel_chunks(100, 1, {}, "test",
+                                            [&](std::size_t b, std::size_t) {
+                                              ++ran;
+                                              if (b == 37) throw DataError("chunk 37 failed");
+                                            }),
+                    "chunk 37 failed");
+  CHECK(ran >= 1);
+  // A stop request surfaces as InterruptedError from the stage itself.
+  std::atomic<bool> flag{true};
+  GraphOptions o;
+  CHECK_THROWS_AS(build_neighbour_graph(random_points(2000, 3, 2, false), o, StopToken{&flag}),
+                  InterruptedError);
+}
