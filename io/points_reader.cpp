@@ -69,6 +69,7 @@ void handle_nonfinite(PointReadResult& result, std::size_t first_row, bool drop,
   if (kept == 0)
     throw DataError(where + ": every one of the " + std::to_string(p.rows) +
                     " rows read holds NaN or inf; no points left");
+  result.nonfinite_values = bad_values;
   p.rows = kept;
   p.values.resize(kept * p.cols);
 }

@@ -52,6 +52,7 @@ struct PointReadResult {
   PointSet points;                         // kept rows, row-major float32, one buffer
   std::vector<std::int64_t> rows;          // input row index of every kept row
   std::vector<std::int64_t> dropped_rows;  // rows dropped as non-finite (drop_nonfinite)
+  std::size_t nonfinite_values = 0;        // NaN/inf values found (all in dropped rows)
   std::string format;                      // "hdf5", "csv", "tsv", "npy"
   std::string dataset;                     // HDF5 dataset path read ("" for other formats)
   std::string source_type;                 // stored type: "float64", "int16", "text", ...

@@ -18,16 +18,6 @@ namespace unfurl::io::detail {
 
 namespace {
 
-struct NpyHeader {
-  char kind = 0;  // 'f', 'i', 'u'
-  std::size_t item = 0;
-  bool swap = false;  // file byte order differs from this machine's
-  bool fortran = false;
-  std::vector<std::size_t> shape;
-  std::uint64_t data_offset = 0;
-  std::string descr;
-};
-
 std::string dict_value(const std::string& dict, const std::string& key, const std::string& where) {
   const std::string quoted[2] = {"'" + key + "'", "\"" + key + "\""};
   std::size_t pos = std::string::npos;
@@ -55,7 +45,9 @@ std::string dict_value(const std::string& dict, const std::string& key, const st
   return dict.substr(pos, end == std::string::npos ? std::string::npos : end - pos);
 }
 
-NpyHeader parse_header(std::ifstream& in, std::uint64_t file_size, const std::string& where) {
+}  // namespace
+
+NpyHeader read_npy_header(std::istream& in, std::uint64_t file_size, const std::string& where) {
   std::array<unsigned char, 10> pre{};
   in.read(reinterpret_cast<char*>(pre.data()), 8);
   if (in.gcount() != 8 || std::memcmp(pre.data(), "\x93NUMPY", 6) != 0)
@@ -85,6 +77,8 @@ NpyHeader parse_header(std::ifstream& in, std::uint64_t file_size, const std::st
     throw IoError(where + ": NPY header is truncated");
 
   NpyHeader h;
+  h.major = major;
+  h.minor = pre[7];
   h.data_offset = offset + header_len;
   const std::string descr = dict_value(dict, "descr", where);
   if (descr.size() < 3 || (descr.front() != '\'' && descr.front() != '"'))
@@ -128,6 +122,8 @@ NpyHeader parse_header(std::ifstream& in, std::uint64_t file_size, const std::st
   return h;
 }
 
+namespace {
+
 template <class T>
 double load(const unsigned char* p, bool swap) {
   std::array<unsigned char, sizeof(T)> bytes;
@@ -167,12 +163,12 @@ double load_value(const NpyHeader& h, const unsigned char* p) {
   }
 }
 
-std::string type_name(const NpyHeader& h) {
-  if (h.kind == 'f') return h.item == 4 ? "float32" : "float64";
-  return (h.kind == 'u' ? "uint" : "int") + std::to_string(h.item * 8);
-}
-
 }  // namespace
+
+std::string NpyHeader::type_name() const {
+  if (kind == 'f') return item == 4 ? "float32" : "float64";
+  return (kind == 'u' ? "uint" : "int") + std::to_string(item * 8);
+}
 
 void read_npy_points(const std::filesystem::path& file, const PointReadOptions& options,
                      PointReadResult& result) {
@@ -182,8 +178,8 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
   if (ec) throw MissingInputError(where + ": cannot be read (" + ec.message() + ")");
   std::ifstream in(file, std::ios::binary);
   if (!in) throw MissingInputError(where + ": cannot be opened for reading");
-  const NpyHeader h = parse_header(in, file_size, where);
-  result.source_type = type_name(h);
+  const NpyHeader h = read_npy_header(in, file_size, where);
+  result.source_type = h.type_name();
   if (h.shape.empty() || h.shape.size() > 2)
     throw DataError(where + ": NPY array is " + std::to_string(h.shape.size()) +
                     "-D; points need a 2-D array (a 1-D array is read as one column)");

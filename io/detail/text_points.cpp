@@ -85,6 +85,33 @@ bool is_content(std::string_view line) {
 
 }  // namespace
 
+TextLayout scan_text_layout(const std::filesystem::path& file, const std::string& format) {
+  std::ifstream in(file, std::ios::binary);
+  if (!in) throw MissingInputError(file.string() + ": cannot be opened for reading");
+  TextLayout layout;
+  std::string line;
+  std::vector<std::string_view> fields;
+  bool first = true;
+  while (std::getline(in, line)) {
+    if (!is_content(line)) continue;
+    if (first) {
+      first = false;
+      layout.delimiter = format == "tsv" ? '\t' : sniff_delimiter(line);
+      split(line, layout.delimiter, fields);
+      layout.columns = fields.size();
+      double ignored = 0;
+      if (std::any_of(fields.begin(), fields.end(),
+                      [&](std::string_view f) { return !parse_number(f, ignored); })) {
+        for (std::string_view f : fields) layout.column_names.emplace_back(unquote(f));
+        continue;
+      }
+    }
+    ++layout.data_rows;
+  }
+  if (in.bad()) throw IoError(file.string() + ": read failed part way");
+  return layout;
+}
+
 void read_text_points(const std::filesystem::path& file, const PointReadOptions& options,
                       const std::string& format, PointReadResult& result) {
   const std::string name = file.string();
