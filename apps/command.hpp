@@ -32,5 +32,6 @@ void say(const GlobalOptions& g, const std::string& line);
 void apply_globals(const GlobalOptions& g);
 
 void add_demo_command(CLI::App& app, GlobalOptions& g);
+void add_inspect_command(CLI::App& app, GlobalOptions& g);
 
 }  // namespace unfurl::app

@@ -1,0 +1,139 @@
+#include "io/detail/hdf5_catalog.hpp"
+
+#include <array>
+
+#include "engine/error.hpp"
+
+namespace unfurl::io::detail {
+
+namespace {
+
+struct VisitState {
+  std::vector<std::string> paths;
+};
+
+herr_t collect_dataset(hid_t, const char* name, const H5O_info_t* info, void* data) {
+  auto* state = static_cast<VisitState*>(data);
+  if (info->type == H5O_TYPE_DATASET && name && std::string_view(name) != ".")
+    state->paths.push_back(std::string("/") + name);
+  return 0;
+}
+
+}  // namespace
+
+Hid open_hdf5_read(const std::filesystem::path& file) {
+  quiet_hdf5_errors();
+  std::error_code ec;
+  if (!std::filesystem::exists(file, ec)) throw MissingInputError(file.string() + ": no such file");
+  const std::string name = file.string();
+  const htri_t is_hdf5 = H5Fis_hdf5(name.c_str());
+  if (is_hdf5 < 0) throw MissingInputError(name + ": cannot be opened for reading");
+  if (is_hdf5 == 0) throw IoError(name + ": not an HDF5 file (no HDF5 signature)");
+  Hid fapl(H5Pcreate(H5P_FILE_ACCESS));
+  if (!fapl) throw IoError(name + ": cannot create HDF5 file access properties");
+  // Lock when the filesystem supports it, read anyway when it does not.
+  H5Pset_file_locking(fapl.get(), true, true);
+  Hid f(H5Fopen(name.c_str(), H5F_ACC_RDONLY, fapl.get()));
+  if (!f) throw IoError(name + ": HDF5 file cannot be opened (truncated or corrupt)");
+  return f;
+}
+
+std::vector<std::string> dataset_paths(hid_t file, const std::string& where) {
+  VisitState state;
+  if (H5Ovisit(file, H5_INDEX_NAME, H5_ITER_INC, collect_dataset, &state) < 0)
+    throw IoError(where + ": cannot list the HDF5 objects (corrupt file)");
+  return state.paths;
+}
+
+std::string hdf5_type_name(hid_t type) {
+  const std::size_t bits = H5Tget_size(type) * 8;
+  switch (H5Tget_class(type)) {
+    case H5T_INTEGER:
+      return (H5Tget_sign(type) == H5T_SGN_NONE ? "uint" : "int") + std::to_string(bits);
+    case H5T_FLOAT:
+      return "float" + std::to_string(bits);
+    case H5T_STRING:
+      return "string";
+    case H5T_COMPOUND:
+      return "compound";
+    case H5T_ENUM:
+      return "enum";
+    case H5T_ARRAY:
+      return "array";
+    case H5T_VLEN:
+      return "variable-length";
+    case H5T_OPAQUE:
+      return "opaque";
+    case H5T_BITFIELD:
+      return "bitfield";
+    case H5T_REFERENCE:
+      return "reference";
+    case H5T_TIME:
+      return "time";
+    default:
+      return "unknown";
+  }
+}
+
+bool is_numeric_type(hid_t type) {
+  const H5T_class_t c = H5Tget_class(type);
+  return c == H5T_INTEGER || c == H5T_FLOAT;
+}
+
+std::vector<hsize_t> dataspace_dims(hid_t space, const std::string& where) {
+  const H5S_class_t kind = H5Sget_simple_extent_type(space);
+  if (kind == H5S_SCALAR || kind == H5S_NULL) return {};
+  const int ndims = H5Sget_simple_extent_ndims(space);
+  if (kind != H5S_SIMPLE || ndims < 0 || ndims > H5S_MAX_RANK)
+    throw IoError(where + ": unreadable dataspace (corrupt file)");
+  std::vector<hsize_t> dims(static_cast<std::size_t>(ndims));
+  if (ndims > 0 && H5Sget_simple_extent_dims(space, dims.data(), nullptr) != ndims)
+    throw IoError(where + ": unreadable dataspace (corrupt file)");
+  return dims;
+}
+
+std::vector<std::string> point_dataset_paths(hid_t file, const std::string& where) {
+  std::vector<std::string> found;
+  for (const std::string& path : dataset_paths(file, where)) {
+    Hid d(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
+    if (!d) continue;
+    Hid type(H5Dget_type(d.get()));
+    Hid space(H5Dget_space(d.get()));
+    if (!type || !space || !is_numeric_type(type.get())) continue;
+    try {
+      const auto dims = dataspace_dims(space.get(), where + ":" + path);
+      if (dims.size() == 2 && dims[0] > 0 && dims[1] > 0) found.push_back(path);
+    } catch (const IoError&) {
+      // A damaged dataset is no candidate; naming it explicitly reports the damage.
+    }
+  }
+  return found;
+}
+
+std::string join_paths(const std::vector<std::string>& paths) {
+  if (paths.empty()) return "none";
+  std::string out;
+  for (const auto& p : paths) out += (out.empty() ? "" : ", ") + p;
+  return out;
+}
+
+std::vector<FilterInfo> dataset_filters(hid_t dcpl) {
+  std::vector<FilterInfo> filters;
+  const int n = H5Pget_nfilters(dcpl);
+  for (int i = 0; i < n; ++i) {
+    unsigned flags = 0, config = 0;
+    std::size_t nvalues = 0;
+    std::array<char, 256> name{};
+    const H5Z_filter_t id = H5Pget_filter2(dcpl, static_cast<unsigned>(i), &flags, &nvalues,
+                                           nullptr, name.size(), name.data(), &config);
+    FilterInfo f;
+    f.id = static_cast<int>(id);
+    f.name = id < 0 ? "unreadable" : std::string(name.data());
+    if (f.name.empty()) f.name = "filter " + std::to_string(f.id);
+    f.available = id >= 0 && H5Zfilter_avail(id) > 0;
+    filters.push_back(f);
+  }
+  return filters;
+}
+
+}  // namespace unfurl::io::detail

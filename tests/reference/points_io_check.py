@@ -1,0 +1,179 @@
+"""Point input read by unfurl against the outside reference: files written by h5py and
+numpy (Debian's python3-h5py and python3-numpy) in several dtypes, chunkings, compressions,
+byte orders and element orders. `unfurl inspect --json` must report numpy's rows, columns and
+per-column min/max/mean; points_probe dumps what read_points read so that every value is
+compared exactly with numpy's float32 cast (IEEE 754 round to nearest, as C++'s conversion).
+Bad inputs must exit with the project's codes (engine/error.hpp) and one-line messages, and
+inspect must never create a file.
+"""
+import json
+import os
+import subprocess
+import sys
+import tempfile
+
+import h5py
+import numpy as np
+
+UNFURL = os.environ["UNFURL_BIN"]
+PROBE = os.path.join(os.environ["UNFURL_PROBE_DIR"], "points_probe")
+failures = []
+
+
+def check(ok, what):
+    print(("ok   " if ok else "FAIL ") + what)
+    if not ok:
+        failures.append(what)
+
+
+def snapshot(folder):
+    seen = {}
+    for root, _, files in os.walk(folder):
+        for name in files:
+            path = os.path.join(root, name)
+            st = os.stat(path)
+            seen[path] = (st.st_size, st.st_mtime_ns)
+    return seen
+
+
+def run(args, cwd):
+    return subprocess.run(args, cwd=cwd, capture_output=True, text=True, timeout=120)
+
+
+def compare(tmp, label, path, expected, extra=()):
+    """expected: the numpy array (any dtype) the file holds, rows = points."""
+    expected = np.asarray(expected)
+    if expected.ndim == 1:
+        expected = expected[:, None]
+    want = expected.astype(np.float32)
+    empty = tempfile.mkdtemp(dir=tmp)
+    before = snapshot(tmp)
+    r = run([UNFURL, "inspect", path, "--json", *extra], cwd=empty)
+    check(r.returncode == 0, f"{label}: inspect exit 0 (got {r.returncode}: {r.stderr.strip()})")
+    check(snapshot(tmp) == before and not os.listdir(empty), f"{label}: inspect created no file")
+    if r.returncode != 0:
+        return
+    pts = json.loads(r.stdout)["points"]
+    check((pts["rows"], pts["cols"]) == want.shape,
+          f"{label}: shape {pts['rows']} x {pts['cols']} vs numpy {want.shape}")
+    mins = np.array([c["min"] for c in pts["columns"]])
+    maxs = np.array([c["max"] for c in pts["columns"]])
+    means = np.array([c["mean"] for c in pts["columns"]])
+    check(np.array_equal(mins, want.min(axis=0).astype(np.float64)), f"{label}: column minima equal")
+    check(np.array_equal(maxs, want.max(axis=0).astype(np.float64)), f"{label}: column maxima equal")
+    ref_mean = want.astype(np.float64).mean(axis=0)
+    scale = np.maximum(np.abs(want).max(axis=0).astype(np.float64), 1e-30)
+    err = float(np.max(np.abs(means - ref_mean) / scale))
+    check(err < 1e-12, f"{label}: column means, max error {err:.2e} of the column scale (< 1e-12)")
+
+    dump = os.path.join(tmp, "dump.bin")
+    p = run([PROBE, path, dump, *extra], cwd=empty)
+    check(p.returncode == 0, f"{label}: probe exit 0 ({p.stderr.strip()})")
+    if p.returncode != 0:
+        return
+    raw = open(dump, "rb").read()
+    os.remove(dump)
+    n, d = (int(v) for v in np.frombuffer(raw[:16], dtype="<u8"))
+    values = np.frombuffer(raw[16:16 + 4 * n * d], dtype="<f4").reshape(n, d)
+    check(values.shape == want.shape and np.array_equal(values, want),
+          f"{label}: all {want.size} values equal numpy's float32 cast")
+
+
+def expect_failure(tmp, label, args, code, needle):
+    empty = tempfile.mkdtemp(dir=tmp)
+    before = snapshot(tmp)
+    r = run([UNFURL, "inspect", *args], cwd=empty)
+    lines = r.stderr.strip().splitlines()
+    check(r.returncode == code, f"{label}: exit {r.returncode}, expected {code}")
+    check(len(lines) == 1 and needle in lines[0],
+          f"{label}: one-line message naming '{needle}': {r.stderr.strip()!r}")
+    check(snapshot(tmp) == before and not os.listdir(empty), f"{label}: no file created")
+
+
+def main():
+    rng = np.random.default_rng(20261201)
+    with tempfile.TemporaryDirectory() as tmp:
+        base = rng.normal(size=(257, 6))
+        ints = rng.integers(-120, 120, size=(257, 6))
+        h5 = os.path.join(tmp, "many.h5")
+        with h5py.File(h5, "w") as f:
+            f.attrs["note"] = "reader check"
+            f.create_dataset("f32", data=base.astype(np.float32))
+            f.create_dataset("deep/f64_gzip", data=base * 1e5, chunks=(16, 6), compression="gzip")
+            f.create_dataset("i16", data=ints.astype(">i2"), chunks=(50, 2), shuffle=True,
+                             compression="gzip", compression_opts=9)
+            f.create_dataset("u8", data=(ints + 120).astype(np.uint8), chunks=(7, 6))
+            f.create_dataset("i64", data=ints.astype(np.int64) * 1000003)
+            f.create_dataset("u32be", data=(ints + 200).astype(">u4"))
+            f.create_dataset("f16", data=base.astype(np.float16))
+            f.create_dataset("f64be", data=base.astype(">f8"), chunks=(100, 1))
+            f.create_dataset("cube", data=np.zeros((3, 4, 5)))
+            f.create_dataset("names", data=np.array([[b"a", b"b"], [b"c", b"d"]]))
+            f.create_dataset("labels", data=np.arange(257))
+        with h5py.File(h5, "r") as f:
+            for name in ["f32", "deep/f64_gzip", "i16", "u8", "i64", "u32be", "f16", "f64be"]:
+                compare(tmp, f"h5py {name}", h5, f[name][()], ["--dataset", name])
+            compare(tmp, "h5py i16 rows 10:200", h5, f["i16"][10:200], ["--dataset", "/i16", "--rows", "10:200"])
+            compare(tmp, "h5py f64_gzip rows 250:", h5, f["deep/f64_gzip"][250:],
+                    ["--dataset", "/deep/f64_gzip", "--rows", "250:"])
+
+        single = os.path.join(tmp, "single.h5")
+        with h5py.File(single, "w") as f:
+            f.create_dataset("points", data=base, chunks=(32, 3), compression="gzip")
+            f.create_dataset("labels", data=np.arange(257))
+        compare(tmp, "h5py default dataset", single, base)
+
+        for dtype, fortran, version in [("<f4", False, (1, 0)), ("<f8", True, (2, 0)),
+                                        (">f8", False, (3, 0)), (">i4", True, (1, 0)),
+                                        ("<u2", False, (1, 0)), ("|i1", True, (2, 0)),
+                                        ("<i8", False, (1, 0)), (">u8", True, (1, 0))]:
+            a = (base * 40).astype(dtype) if dtype[1] == "f" else (ints + (0 if dtype[1] == "i" else 120)).astype(dtype)
+            a = np.asfortranarray(a) if fortran else np.ascontiguousarray(a)
+            path = os.path.join(tmp, f"a{dtype[1:]}{'F' if fortran else 'C'}.npy")
+            with open(path, "wb") as out:
+                np.lib.format.write_array(out, a, version=version)
+            label = f"numpy {dtype} {'Fortran' if fortran else 'C'} order, format {version[0]}.0"
+            compare(tmp, label, path, a)
+            compare(tmp, label + " rows 3:100", path, a[3:100], ["--rows", "3:100"])
+        np.save(os.path.join(tmp, "line.npy"), base[:, 0])
+        compare(tmp, "numpy 1-D as one column", os.path.join(tmp, "line.npy"), base[:, 0])
+
+        for delimiter, ext in [(",", "csv"), ("\t", "tsv"), (";", "csv"), (" ", "txt")]:
+            path = os.path.join(tmp, f"t{ord(delimiter)}.{ext}")
+            np.savetxt(path, base, delimiter=delimiter, header=delimiter.join("abcdef"),
+                       comments="", fmt="%.9g")
+            compare(tmp, f"numpy savetxt delimiter {delimiter!r}", path,
+                    np.loadtxt(path, delimiter=None if delimiter == " " else delimiter, skiprows=1))
+
+        # Bad inputs: exit codes of engine/error.hpp.
+        nan = base.copy()
+        nan[40, 2] = np.nan
+        np.save(os.path.join(tmp, "nan.npy"), nan)
+        cut = open(h5, "rb").read()
+        open(os.path.join(tmp, "half.h5"), "wb").write(cut[: len(cut) // 2])
+        open(os.path.join(tmp, "noise.h5"), "wb").write(rng.bytes(5000))
+        whole = open(os.path.join(tmp, "af4C.npy"), "rb").read()
+        open(os.path.join(tmp, "cut.npy"), "wb").write(whole[:-7])
+        open(os.path.join(tmp, "ragged.csv"), "w").write("1,2,3\n4,5,6\n7,8\n")
+        expect_failure(tmp, "missing file", [os.path.join(tmp, "absent.h5")], 66, "absent.h5")
+        expect_failure(tmp, "NaN", [os.path.join(tmp, "nan.npy")], 65, "row 40")
+        expect_failure(tmp, "no such dataset", [h5, "--dataset", "/nope"], 66, "/nope")
+        expect_failure(tmp, "several 2-D datasets", [h5], 64, "--dataset")
+        expect_failure(tmp, "3-D dataset", [h5, "--dataset", "cube"], 65, "3-D")
+        expect_failure(tmp, "string dataset", [h5, "--dataset", "names"], 65, "string")
+        expect_failure(tmp, "rows outside", [single, "--rows", "200:300"], 64, "--rows")
+        expect_failure(tmp, "rows syntax", [single, "--rows", "9-3"], 64, "--rows")
+        expect_failure(tmp, "truncated HDF5", [os.path.join(tmp, "half.h5")], 74, "half.h5")
+        expect_failure(tmp, "random bytes .h5", [os.path.join(tmp, "noise.h5")], 74, "noise.h5")
+        expect_failure(tmp, "truncated NPY", [os.path.join(tmp, "cut.npy")], 74, "truncated")
+        expect_failure(tmp, "ragged CSV", [os.path.join(tmp, "ragged.csv")], 65, "line 3")
+
+    total = "points_io_check"
+    if failures:
+        print(f"{total}: {len(failures)} comparison(s) failed")
+        sys.exit(1)
+    print(f"{total}: every comparison passed")
+
+
+if __name__ == "__main__":
+    main()
