@@ -1,25 +1,137 @@
+// `unfurl demo`: generates a scenario with known hidden quantities (by default the ocean-buoy
+// fleet of engine/synthetic.hpp), writes it as a point file, unfolds it with the embed job
+// and reports how well the map recovers the hidden quantities.
 #include <fmt/core.h>
 
-#include "apps/command.hpp"
+#include <cmath>
+#include <filesystem>
+#include <memory>
+
+#include "apps/embed_job.hpp"
+#include "engine/error.hpp"
 #include "engine/synthetic.hpp"
+#include "io/atomic_output.hpp"
+#include "io/hdf5_file.hpp"
+#include "io/map_file.hpp"
 
 namespace unfurl::app {
+namespace {
+
+struct DemoArgs {
+  std::string scenario = "ocean-buoys";
+  std::size_t points = 4000;
+  std::string out = "demo-output";
+  double noise = -1;  // < 0: the scenario's own default
+  bool data_only = false;
+  EmbedArgs embed;
+};
+
+SyntheticSet generate(const DemoArgs& a, std::uint64_t seed) {
+  if (a.scenario == "swiss-roll") return swiss_roll(a.points, seed, std::max(a.noise, 0.0));
+  if (a.scenario == "s-curve") return s_curve(a.points, seed, std::max(a.noise, 0.0));
+  return ocean_buoys(a.points, seed, a.noise < 0 ? 0.02 : a.noise);
+}
+
+void write_scenario(const std::filesystem::path& path, const DemoArgs& a, const SyntheticSet& s,
+                    std::uint64_t seed) {
+  io::AtomicOutput out(path);
+  {
+    io::H5Writer w(out.temp_path());
+    w.write("/points", s.points.values, {s.points.rows, s.points.cols}, {.gzip_level = 4});
+    w.write("/truth", s.truth.values, {s.truth.rows, s.truth.cols});
+    std::string names;
+    for (const auto& n : s.truth_names) names += (names.empty() ? "" : ",") + n;
+    w.set_string_attribute("/truth", "columns", names);
+    w.set_string_attribute("/", "scenario", a.scenario);
+    w.set_string_attribute("/", "description",
+                           "invented demo data of unfurl; /truth holds the hidden quantities");
+    w.set_int_attribute("/", "seed", static_cast<std::int64_t>(seed));
+    w.close();
+  }
+  out.commit();
+}
+
+// |Pearson correlation| of map axis `axis` with truth column `col` over the map rows.
+double abs_correlation(const PointSet& map, std::size_t axis, const PointSet& truth,
+                       std::size_t col, const std::vector<std::int64_t>& rows) {
+  const double n = static_cast<double>(rows.size());
+  double sx = 0, sy = 0, sxx = 0, syy = 0, sxy = 0;
+  for (std::size_t r = 0; r < rows.size(); ++r) {
+    const double x = map.row(r)[axis];
+    const double y = truth.row(static_cast<std::size_t>(rows[r]))[col];
+    sx += x;
+    sy += y;
+    sxx += x * x;
+    syy += y * y;
+    sxy += x * y;
+  }
+  const double cov = sxy - sx * sy / n;
+  const double vx = sxx - sx * sx / n, vy = syy - sy * sy / n;
+  return vx > 0 && vy > 0 ? std::abs(cov / std::sqrt(vx * vy)) : 0.0;
+}
+
+void run_demo(const GlobalOptions& g, DemoArgs& a) {
+  apply_globals(g);
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  fs::create_directories(a.out, ec);
+  if (ec || !fs::is_directory(a.out))
+    throw OutputError("--out: cannot create the folder " + a.out + (ec ? ": " + ec.message() : ""));
+  const fs::path data = fs::path(a.out) / (a.scenario + ".h5");
+  a.embed.output = (fs::path(a.out) / (a.scenario + "-map.h5")).string();
+  a.embed.json = (fs::path(a.out) / (a.scenario + "-report.json")).string();
+  check_outputs(a.embed);
+
+  const SyntheticSet set = generate(a, g.seed);
+  write_scenario(data, a, set, g.seed);
+  say(g, fmt::format("demo: {} records x {} channels of the '{}' scenario written to {}",
+                     set.points.rows, set.points.cols, a.scenario, data.string()));
+  if (a.data_only) return;
+
+  io::PointReadResult in;
+  in.points = set.points;
+  in.rows.resize(set.points.rows);
+  for (std::size_t i = 0; i < in.rows.size(); ++i) in.rows[i] = static_cast<std::int64_t>(i);
+  in.format = "hdf5";
+  in.dataset = "/points";
+  EmbedResult result;
+  run_embed_job(g, a.embed, in, io::input_identity(data, "/points"), &result);
+
+  for (std::size_t c = 0; c < set.truth.cols; ++c) {
+    std::size_t best = 0;
+    double best_r = -1;
+    for (std::size_t axis = 0; axis < result.coords.cols; ++axis) {
+      std::vector<std::int64_t> rows(result.rows.begin(), result.rows.end());
+      const double r = abs_correlation(result.coords, axis, set.truth, c, rows);
+      if (r > best_r) best_r = r, best = axis;
+    }
+    say(g, fmt::format("recovery: hidden '{}' follows map axis {} with |correlation| {:.3f}",
+                       set.truth_names[c], best + 1, best_r));
+  }
+  say(g, fmt::format("demo: map {}, report {}", a.embed.output, a.embed.json));
+}
+
+}  // namespace
 
 void add_demo_command(CLI::App& app, GlobalOptions& g) {
-  auto* cmd = app.add_subcommand("demo", "Generate the ocean-buoy scenario and unfold it");
-  auto rows = std::make_shared<std::size_t>(4000);
-  auto out = std::make_shared<std::string>("demo-output");
-  cmd->add_option("--points", *rows, "Number of buoy records to generate")
-      ->check(CLI::Range(std::size_t{1}, std::size_t{1} << 31))
+  auto* cmd = app.add_subcommand("demo",
+                                 "Generate a scenario with known hidden quantities and "
+                                 "unfold it");
+  auto a = std::make_shared<DemoArgs>();
+  cmd->add_option("--scenario", a->scenario, "Which invented scenario to generate")
+      ->check(CLI::IsMember({"ocean-buoys", "swiss-roll", "s-curve"}))
       ->capture_default_str();
-  cmd->add_option("--out", *out, "Folder for the demo's data, map and report")
+  cmd->add_option("--points", a->points, "Number of points (records) to generate")
+      ->check(CLI::Range(std::size_t{3}, std::size_t{1} << 31))
       ->capture_default_str();
-  cmd->callback([&g, rows, out] {
-    apply_globals(g);
-    const SyntheticSet set = ocean_buoys(*rows, g.seed);
-    say(g, fmt::format("demo: generated {} buoy records x {} sensor channels", set.points.rows,
-                       set.points.cols));
-  });
+  cmd->add_option("--noise", a->noise,
+                  "Standard deviation of the added noise (default: 0.02 for ocean-buoys, 0 "
+                  "otherwise)");
+  cmd->add_option("--out", a->out, "Folder for the scenario, its map and report")
+      ->capture_default_str();
+  cmd->add_flag("--data-only", a->data_only, "Write the scenario's point file and stop");
+  add_embed_job_options(cmd, a->embed);
+  cmd->callback([&g, a] { run_demo(g, *a); });
 }
 
 }  // namespace unfurl::app

@@ -55,6 +55,7 @@ int main(int argc, char** argv) {
   cli.add_flag("--quiet", g.quiet, "Print nothing but errors");
 
   app::add_demo_command(cli, g);
+  app::add_embed_command(cli, g);
   app::add_inspect_command(cli, g);
 
   std::signal(SIGINT, request_stop);

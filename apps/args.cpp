@@ -1,0 +1,157 @@
+#include "apps/args.hpp"
+
+#include <cmath>
+
+#include "engine/error.hpp"
+
+namespace unfurl::app {
+
+void add_point_input(CLI::App* cmd, PointInputArgs& a, const std::string& name) {
+  if (name.empty())
+    cmd->add_option("--points", a.file, "Point file (HDF5, CSV/TSV or NPY)")->required();
+  else
+    cmd->add_option(name, a.file, "Point file (HDF5, CSV/TSV or NPY)")->required();
+  cmd->add_option("--dataset", a.dataset,
+                  "HDF5 dataset of points (default: the file's only 2-D numeric dataset)");
+  cmd->add_option("--rows", a.rows, "Read only rows A:B (half-open, 0-based)");
+  cmd->add_option("--format", a.format, "Force the input format instead of detecting it")
+      ->check(CLI::IsMember({"hdf5", "csv", "tsv", "npy"}));
+  cmd->add_flag("--drop-nonfinite", a.drop_nonfinite,
+                "Drop rows holding NaN or infinite values (listed in the output) instead of "
+                "failing");
+}
+
+io::PointReadOptions to_read_options(const PointInputArgs& a) {
+  io::PointReadOptions o;
+  o.dataset = a.dataset;
+  if (!a.rows.empty()) o.rows = io::parse_row_range(a.rows);
+  o.drop_nonfinite = a.drop_nonfinite;
+  o.format = a.format;
+  o.validate();
+  return o;
+}
+
+void add_graph_options(CLI::App* cmd, GraphArgs& a) {
+  cmd->add_option("--k", a.k, "Neighbours per point of the k-nearest graph")->capture_default_str();
+  cmd->add_option("--radius", a.radius,
+                  "Join points closer than or at this Euclidean distance instead (data units)");
+  cmd->add_flag("--mutual", a.mutual, "Keep an edge only when both points list each other");
+  cmd->add_option("--search", a.search, "Exact search back end")
+      ->check(CLI::IsMember({"automatic", "tree", "scan"}))
+      ->capture_default_str();
+  cmd->add_flag("--keep-duplicates", a.keep_duplicates,
+                "Keep identical rows as separate nodes joined by tiny edges (default: merge)");
+  cmd->add_option("--disconnected", a.disconnected,
+                  "Graph in several pieces: fail, keep the largest, or bridge them by the "
+                  "shortest edges between them")
+      ->check(CLI::IsMember({"fail", "largest", "bridge"}))
+      ->capture_default_str();
+}
+
+GraphOptions to_graph_options(const GraphArgs& a) {
+  GraphOptions o;
+  o.radius = a.radius;
+  o.k = a.radius > 0 ? 0 : a.k;
+  o.mutual = a.mutual;
+  o.search = a.search == "tree"   ? Search::tree
+             : a.search == "scan" ? Search::scan
+                                  : Search::automatic;
+  o.keep_duplicates = a.keep_duplicates;
+  return o;
+}
+
+ComponentOptions to_component_options(const GraphArgs& a) {
+  ComponentOptions o;
+  o.policy = a.disconnected == "largest"  ? ComponentPolicy::largest
+             : a.disconnected == "bridge" ? ComponentPolicy::bridge
+                                          : ComponentPolicy::fail;
+  return o;
+}
+
+void add_map_options(CLI::App* cmd, MapArgs& a) {
+  cmd->add_option("--dims", a.dims, "Dimensions of the map")->capture_default_str();
+  cmd->add_option("--landmarks", a.landmarks,
+                  "Landmark count, 'auto' (min(N, max(dims + 1, 256))) or 'all' (exact mode: "
+                  "N x N geodesics)")
+      ->capture_default_str();
+  cmd->add_option("--pick", a.pick, "How landmarks are chosen")
+      ->check(CLI::IsMember({"maxmin", "random"}))
+      ->capture_default_str();
+  cmd->add_flag("--keep-geodesics", a.keep_geodesics,
+                "Store the landmark geodesic rows in the map (needed to place new points)");
+}
+
+void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
+  o.spectral.dims = a.dims;
+  o.landmarks.dims = a.dims;
+  o.landmarks.seed = seed;
+  o.landmarks.pick = a.pick == "random" ? Pick::random : Pick::maxmin;
+  o.keep_geodesics = a.keep_geodesics;
+  o.exact = a.landmarks == "all";
+  o.landmarks.count = 0;
+  if (a.landmarks != "all" && a.landmarks != "auto") {
+    std::size_t used = 0;
+    unsigned long long count = 0;
+    try {
+      count = std::stoull(a.landmarks, &used);
+    } catch (const std::exception&) {
+      used = 0;
+    }
+    if (used != a.landmarks.size() || a.landmarks[0] == '-' || count == 0)
+      throw OptionError("--landmarks: expected a positive count, 'auto' or 'all', got '" +
+                        a.landmarks + "'");
+    o.landmarks.count = count;
+  }
+  if (a.dims < 1) throw OptionError("--dims: must be at least 1, got 0");
+}
+
+void add_score_options(CLI::App* cmd, ScoreArgs& a) {
+  cmd->add_option("--score-k", a.ks, "Neighbourhood sizes for trustworthiness and continuity")
+      ->capture_default_str();
+  cmd->add_option("--score-method", a.method,
+                  "exact (every point), sampled, or automatic (exact up to 50,000 points)")
+      ->check(CLI::IsMember({"automatic", "exact", "sampled"}))
+      ->capture_default_str();
+  cmd->add_option("--sample", a.sample, "Query points when scores are sampled")
+      ->capture_default_str();
+}
+
+AssessOptions to_assess_options(const ScoreArgs& a, std::uint64_t seed) {
+  AssessOptions o;
+  o.neighbourhoods.ks = a.ks;
+  o.neighbourhoods.method = a.method == "exact"     ? ScoreMethod::exact
+                            : a.method == "sampled" ? ScoreMethod::sampled
+                                                    : ScoreMethod::automatic;
+  o.neighbourhoods.sample = a.sample;
+  o.neighbourhoods.seed = seed;
+  return o;
+}
+
+std::uint64_t parse_bytes(const std::string& option, const std::string& text) {
+  std::size_t used = 0;
+  double value = 0;
+  try {
+    value = std::stod(text, &used);
+  } catch (const std::exception&) {
+    used = 0;
+  }
+  double scale = 1;
+  const std::string unit = used == 0 ? std::string() : text.substr(used);
+  if (unit == "" || unit == "B")
+    scale = 1;
+  else if (unit == "K" || unit == "KiB")
+    scale = 1024.0;
+  else if (unit == "M" || unit == "MiB")
+    scale = 1024.0 * 1024;
+  else if (unit == "G" || unit == "GiB")
+    scale = 1024.0 * 1024 * 1024;
+  else if (unit == "T" || unit == "TiB")
+    scale = 1024.0 * 1024 * 1024 * 1024;
+  else
+    used = 0;
+  if (used == 0 || !std::isfinite(value) || value <= 0)
+    throw OptionError(option + ": expected a size such as 8G, 512M or 1000000, got '" + text + "'");
+  return static_cast<std::uint64_t>(value * scale);
+}
+
+}  // namespace unfurl::app

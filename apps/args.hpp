@@ -1,0 +1,66 @@
+// Command-line options shared by several commands, and their translation into the engine's
+// and io's option structs. Values are checked twice on purpose: CLI11 rejects malformed
+// text (exit 64), and each options struct's validate() rejects values that make no sense for
+// the data at hand (also exit 64, naming the option).
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include <CLI/CLI.hpp>
+
+#include "engine/assessment.hpp"
+#include "engine/embedding.hpp"
+#include "io/points_reader.hpp"
+
+namespace unfurl::app {
+
+// The point file every command starts from.
+struct PointInputArgs {
+  std::string file;
+  std::string dataset;
+  std::string rows;
+  std::string format;
+  bool drop_nonfinite = false;
+};
+// name: the positional's name ("POINTS"); empty: --points FILE instead of a positional.
+void add_point_input(CLI::App* cmd, PointInputArgs& args, const std::string& name);
+io::PointReadOptions to_read_options(const PointInputArgs& args);
+
+// The neighbour graph and what to do when it falls apart.
+struct GraphArgs {
+  std::size_t k = 10;
+  double radius = 0;
+  bool mutual = false;
+  std::string search = "automatic";
+  bool keep_duplicates = false;
+  std::string disconnected = "fail";
+};
+void add_graph_options(CLI::App* cmd, GraphArgs& args);
+GraphOptions to_graph_options(const GraphArgs& args);
+ComponentOptions to_component_options(const GraphArgs& args);
+
+// Landmarks and the spectral stage.
+struct MapArgs {
+  std::size_t dims = 2;
+  std::string landmarks = "auto";  // a count, "auto" or "all"
+  std::string pick = "maxmin";
+  bool keep_geodesics = false;
+};
+void add_map_options(CLI::App* cmd, MapArgs& args);
+void apply_map_options(const MapArgs& args, std::uint64_t seed, EmbedOptions& options);
+
+// Quality scores.
+struct ScoreArgs {
+  std::vector<std::size_t> ks{12};
+  std::string method = "automatic";
+  std::size_t sample = 2000;
+};
+void add_score_options(CLI::App* cmd, ScoreArgs& args);
+AssessOptions to_assess_options(const ScoreArgs& args, std::uint64_t seed);
+
+// "8G", "512M", "1.5G", "1000000" -> bytes; OptionError naming `option` otherwise.
+std::uint64_t parse_bytes(const std::string& option, const std::string& text);
+
+}  // namespace unfurl::app

@@ -1,0 +1,33 @@
+// What a run tells its user and stores with its map: one JSON document per run, built once
+// and used three ways (the text summary on stdout, --json FILE, the map's attributes and
+// /quality, /graph datasets).
+#pragma once
+
+#include <nlohmann/json.hpp>
+#include <string>
+#include <vector>
+
+#include "apps/command.hpp"
+#include "engine/assessment.hpp"
+#include "engine/embedding.hpp"
+#include "io/map_file.hpp"
+
+namespace unfurl::app {
+
+nlohmann::json graph_json(const GraphSummary& s);
+nlohmann::json embed_json(const EmbedResult& r);
+nlohmann::json assessment_json(const Assessment& a);
+
+// The datasets under /quality (scores, curves, per-point terms) and /graph.
+std::vector<io::MapArray> assessment_arrays(const Assessment& a);
+std::vector<io::MapArray> graph_arrays(const EmbedResult& r);
+
+// Human-readable lines.
+void print_graph(const GlobalOptions& g, const GraphSummary& s);
+void print_embedding(const GlobalOptions& g, const EmbedResult& r);
+void print_assessment(const GlobalOptions& g, const Assessment& a);
+
+// Writes `doc` to `path` atomically (pretty-printed JSON).
+void write_json_file(const std::string& path, const nlohmann::json& doc);
+
+}  // namespace unfurl::app

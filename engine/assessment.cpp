@@ -1,0 +1,62 @@
+#include "engine/assessment.hpp"
+
+#include "engine/error.hpp"
+#include "engine/neighbours.hpp"
+#include "engine/timer.hpp"
+
+namespace unfurl {
+
+void AssessOptions::validate(std::size_t points) const {
+  neighbourhoods.validate(points);
+  if (residual && residual_pairs == 0) throw OptionError("--pairs: must be at least 1");
+  if (dimension_k == 1) throw OptionError("--dimension-k: must be 0 (skip) or at least 2");
+  if (dimension_k >= points)
+    throw OptionError("--dimension-k: must be below the number of points (" +
+                      std::to_string(points) + "), got " + std::to_string(dimension_k));
+}
+
+Assessment assess_map(const PointSet& input, const PointSet& map, const DistanceRows* geodesic,
+                      const std::vector<double>& spectrum, const AssessOptions& options,
+                      StopToken stop) {
+  const Stopwatch watch;
+  if (input.rows != map.rows)
+    throw DataError("the map has " + std::to_string(map.rows) + " rows but the points have " +
+                    std::to_string(input.rows));
+  options.validate(input.rows);
+  Assessment a;
+  a.neighbourhoods = neighbourhood_scores(input, map, options.neighbourhoods, stop);
+  for (const auto& w : a.neighbourhoods.warnings) a.warnings.push_back("neighbourhoods: " + w);
+
+  if (options.residual) {
+    if (geodesic && geodesic->rows > 0) {
+      if (geodesic->cols != map.rows)
+        throw InternalError("geodesic rows have " + std::to_string(geodesic->cols) +
+                            " columns for a map of " + std::to_string(map.rows) + " rows");
+      a.residual = residual_variance(*geodesic, map, stop);
+    } else {
+      const auto pairs =
+          sample_pair_distances(input, options.residual_pairs, options.neighbourhoods.seed);
+      a.residual = residual_variance(pairs, map, stop);
+      a.warnings.push_back(
+          "residual variance: no geodesic rows, so against input-space distances of sampled "
+          "pairs");
+    }
+  }
+
+  if (options.dimension_k > 0) {
+    const KnnResult knn =
+        exact_knn(input, input, options.dimension_k, Search::automatic, true, 512, stop);
+    a.dimension = levina_bickel(knn.distance, input.rows, options.dimension_k);
+    for (const auto& w : a.dimension->warnings) a.warnings.push_back("dimension: " + w);
+  }
+
+  double positive = 0;
+  for (double v : spectrum)
+    if (v > 0) positive += v;
+  for (std::size_t d = 0; d < map.cols && d < spectrum.size(); ++d)
+    a.axis_share.push_back(positive > 0 && spectrum[d] > 0 ? spectrum[d] / positive : 0.0);
+  a.seconds = watch.seconds();
+  return a;
+}
+
+}  // namespace unfurl

@@ -1,0 +1,187 @@
+#include "engine/embedding.hpp"
+
+#include <algorithm>
+#include <limits>
+#include <numeric>
+
+#include "engine/error.hpp"
+#include "engine/timer.hpp"
+
+namespace unfurl {
+namespace {
+
+constexpr NodeId kNoNode = std::numeric_limits<NodeId>::max();
+
+// In exact mode the residual variance needs geodesic rows too, but not all N of them:
+// this many evenly spaced rows give its pairs (a documented, deterministic subset).
+constexpr std::size_t kExactScoringRows = 256;
+
+void append_warnings(std::vector<std::string>& to, const char* stage,
+                     const std::vector<std::string>& from) {
+  for (const auto& w : from) to.push_back(std::string(stage) + ": " + w);
+}
+
+// Rows `picked` of `all` (N x N, sources 0..N-1), as a new DistanceRows.
+DistanceRows select_rows(const DistanceRows& all, const std::vector<NodeId>& picked) {
+  DistanceRows out;
+  out.rows = picked.size();
+  out.cols = all.cols;
+  out.sources = picked;
+  out.values.resize(out.rows * out.cols);
+  for (std::size_t r = 0; r < picked.size(); ++r)
+    std::copy_n(all.row(picked[r]), all.cols, out.row(r));
+  return out;
+}
+
+// Everything after the graph: connect, geodesics, spectral, and the way back to input rows.
+// node_of_point: input point -> graph node; point_of_node: graph node -> representative.
+EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeId>& node_of_point,
+                            const std::vector<std::size_t>& point_of_node,
+                            const PointSet& node_points, const EmbedOptions& options,
+                            StopToken stop, EmbedResult result, const Stopwatch& total) {
+  Stopwatch watch;
+  ComponentResult connected = make_connected(graph, options.components, node_points, stop);
+  result.seconds.components = watch.seconds();
+  result.components = connected.summary;
+  append_warnings(result.warnings, "components", connected.summary.warnings);
+  for (const BridgeEdge& e : connected.bridges)
+    result.bridges.push_back({static_cast<NodeId>(point_of_node[e.from]),
+                              static_cast<NodeId>(point_of_node[e.to]), e.length});
+
+  const NeighbourGraph& g = connected.graph;
+  std::vector<NodeId> kept_of_node(graph.nodes(), kNoNode);
+  for (std::size_t c = 0; c < connected.old_of_new.size(); ++c)
+    kept_of_node[connected.old_of_new[c]] = static_cast<NodeId>(c);
+
+  watch = Stopwatch();
+  SpectralOptions spectral = options.spectral;
+  SpectralResult map;
+  DistanceRows rows_for_output;
+  if (options.exact) {
+    GeodesicSummary gs;
+    DistanceRows all = all_geodesic_rows(g, stop, &gs);
+    result.seconds.geodesics = watch.seconds();
+    result.landmarks.landmarks = all.rows;
+    result.landmarks.nodes = all.cols;
+    result.landmarks.seconds = gs.seconds;
+    result.landmarks.threads = gs.threads;
+    watch = Stopwatch();
+    map = exact_mds(all, spectral, stop);
+    std::vector<NodeId> picked;
+    if (options.keep_geodesics) {
+      picked.resize(all.rows);
+      std::iota(picked.begin(), picked.end(), NodeId{0});
+    } else {
+      const std::size_t count = std::min(all.rows, kExactScoringRows);
+      for (std::size_t i = 0; i < count; ++i)
+        picked.push_back(static_cast<NodeId>(i * all.rows / count));
+    }
+    rows_for_output = select_rows(all, picked);
+  } else {
+    LandmarkOptions lo = options.landmarks;
+    lo.dims = spectral.dims;
+    LandmarkResult lr = pick_landmarks(g, lo, stop);
+    result.seconds.geodesics = watch.seconds();
+    result.landmarks = lr.summary;
+    append_warnings(result.warnings, "landmarks", lr.summary.warnings);
+    watch = Stopwatch();
+    map = landmark_mds(lr.rows, spectral, stop);
+    rows_for_output = std::move(lr.rows);
+  }
+  result.seconds.spectral = watch.seconds();
+  result.spectral = map.summary;
+  append_warnings(result.warnings, "spectral", map.summary.warnings);
+  result.spectrum = std::move(map.spectrum);
+  result.negative_ratio = map.negative_ratio;
+  result.landmark_coords = std::move(map.landmark_coords);
+
+  // Back to input rows: every point whose node survived, in input order.
+  const std::size_t dims = map.coords.cols;
+  std::vector<NodeId> kept_of_point(node_of_point.size(), kNoNode);
+  for (std::size_t p = 0; p < node_of_point.size(); ++p) {
+    const NodeId k = kept_of_node[node_of_point[p]];
+    kept_of_point[p] = k;
+    if (k == kNoNode)
+      result.dropped.push_back(p);
+    else
+      result.rows.push_back(p);
+  }
+  result.coords = PointSet(result.rows.size(), dims);
+  for (std::size_t r = 0; r < result.rows.size(); ++r)
+    std::copy_n(map.coords.row(kept_of_point[result.rows[r]]), dims, result.coords.row(r));
+
+  // Landmarks as input rows; geodesic rows re-indexed to map rows.
+  std::vector<std::size_t> map_row_of_kept(g.nodes(), 0);
+  for (std::size_t r = result.rows.size(); r-- > 0;)  // the first row of a duplicate group wins
+    map_row_of_kept[kept_of_point[result.rows[r]]] = r;
+  DistanceRows& geo = result.geodesic;
+  geo.rows = rows_for_output.rows;
+  geo.cols = result.rows.size();
+  geo.values.resize(geo.rows * geo.cols);
+  for (std::size_t l = 0; l < geo.rows; ++l) {
+    const NodeId kept = rows_for_output.sources[l];
+    result.landmark_rows.push_back(point_of_node[connected.old_of_new[kept]]);
+    geo.sources.push_back(static_cast<NodeId>(map_row_of_kept[kept]));
+    const float* from = rows_for_output.row(l);
+    float* to = geo.row(l);
+    for (std::size_t r = 0; r < geo.cols; ++r) to[r] = from[kept_of_point[result.rows[r]]];
+  }
+  if (options.exact && !options.keep_geodesics) {
+    // landmark_rows lists every node in exact mode, in node order.
+    result.landmark_rows.clear();
+    for (NodeId k = 0; k < g.nodes(); ++k)
+      result.landmark_rows.push_back(point_of_node[connected.old_of_new[k]]);
+  }
+  result.seconds.total = total.seconds();
+  return result;
+}
+
+}  // namespace
+
+void EmbedOptions::validate(std::size_t points) const {
+  if (points < 3)
+    throw DataError("the input has " + std::to_string(points) +
+                    " points; an embedding needs at least 3");
+  components.validate();
+  if (!exact) {
+    LandmarkOptions lo = landmarks;  // the stage checks again against the graph's nodes
+    lo.dims = spectral.dims;
+    lo.validate(points);
+  }
+  if (exact && landmarks.count != 0)
+    throw OptionError("--landmarks: give a count or 'all', not both");
+}
+
+EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop) {
+  const Stopwatch total;
+  options.validate(points.rows);
+  EmbedResult result;
+  Stopwatch watch;
+  GraphResult gr = build_neighbour_graph(points, options.graph, stop);
+  result.seconds.graph = watch.seconds();
+  result.graph = gr.summary;
+  append_warnings(result.warnings, "graph", gr.summary.warnings);
+  PointSet node_points;
+  if (options.components.policy == ComponentPolicy::bridge) {
+    node_points = PointSet(gr.point_of_node.size(), points.cols);
+    for (std::size_t v = 0; v < gr.point_of_node.size(); ++v)
+      std::copy_n(points.row(gr.point_of_node[v]), points.cols, node_points.row(v));
+  }
+  return embed_connected(gr.graph, gr.node_of_point, gr.point_of_node, node_points, options, stop,
+                         std::move(result), total);
+}
+
+EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options, StopToken stop) {
+  const Stopwatch total;
+  options.validate(graph.nodes());
+  if (options.components.policy == ComponentPolicy::bridge)
+    throw OptionError("--disconnected bridge: needs points; a given graph has none (use largest)");
+  std::vector<NodeId> node_of_point(graph.nodes());
+  std::iota(node_of_point.begin(), node_of_point.end(), NodeId{0});
+  std::vector<std::size_t> point_of_node(graph.nodes());
+  std::iota(point_of_node.begin(), point_of_node.end(), std::size_t{0});
+  return embed_connected(graph, node_of_point, point_of_node, {}, options, stop, EmbedResult{},
+                         total);
+}
+
+}  // namespace unfurl

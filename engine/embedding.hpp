@@ -1,0 +1,69 @@
+// The embedding pipeline, in memory: points (or a given graph) -> neighbour graph ->
+// one connected component -> geodesic rows from landmarks (or from every node in exact
+// mode) -> classical / landmark MDS -> a map with one row per kept input point.
+//
+// Row bookkeeping. Input points become graph nodes (exact duplicates share one node), the
+// component policy may drop nodes, and the spectral stage returns one row per remaining
+// node. The result maps back: `coords` row r belongs to input point `rows[r]` (ascending, so
+// the map keeps the input order), and every duplicate gets its representative's coordinates.
+#pragma once
+
+#include <cstddef>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "engine/components.hpp"
+#include "engine/distance_rows.hpp"
+#include "engine/geodesic.hpp"
+#include "engine/landmarks.hpp"
+#include "engine/neighbours.hpp"
+#include "engine/spectral.hpp"
+#include "engine/stop.hpp"
+
+namespace unfurl {
+
+struct EmbedOptions {
+  GraphOptions graph;           // neighbour graph (ignored for embed_graph)
+  ComponentOptions components;  // what to do with a disconnected graph
+  bool exact = false;           // every node a source: N x N geodesics (memory-bounded)
+  LandmarkOptions landmarks;    // landmark count and pick rule (landmark mode)
+  SpectralOptions spectral;     // map dimensions and eigen solver settings
+  bool keep_geodesics = false;  // return the landmark rows, columns in map-row order
+  // Throws OptionError naming the field; `points` is the number of input points.
+  void validate(std::size_t points) const;
+};
+
+struct StageSeconds {
+  double graph = 0, components = 0, geodesics = 0, spectral = 0, total = 0;
+};
+
+struct EmbedResult {
+  PointSet coords;                         // map rows x dims, float32
+  std::vector<std::size_t> rows;           // input point of each map row, ascending
+  std::vector<std::size_t> dropped;        // input points left out (outside the component)
+  std::vector<std::size_t> landmark_rows;  // input point (representative) of each landmark
+  std::vector<double> landmark_coords;     // landmarks x dims
+  std::vector<double> spectrum;            // eigenvalues of B, descending
+  double negative_ratio = 0;               // sum |negative| / sum positive eigenvalues
+  // Landmark geodesic rows with columns in map-row order (keep_geodesics, or needed by the
+  // residual variance score); empty otherwise.
+  DistanceRows geodesic;
+  std::optional<GraphSummary> graph;  // absent for a given graph
+  ComponentSummary components;
+  std::vector<BridgeEdge> bridges;  // as input points (from, to), when bridged
+  LandmarkSummary landmarks;
+  SpectralSummary spectral;
+  StageSeconds seconds;
+  std::vector<std::string> warnings;  // every stage's warnings, prefixed by stage
+};
+
+// From points. The graph options pick the neighbourhood; exact duplicates are merged.
+EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop = {});
+
+// From a given graph (edge list or partial distances): nodes are the input rows.
+// The bridge policy needs points and is refused here.
+EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options,
+                        StopToken stop = {});
+
+}  // namespace unfurl
