@@ -29,8 +29,15 @@ void DistanceScanner::distances(const double* queries, std::size_t count, std::s
   for (std::size_t b = 0; b < count; ++b) {
     double* out = dist2 + b * stride;
     const double* q = queries + b * d;
-    std::fill(out, out + len, 0.0);
-    for (std::size_t c = 0; c < d; ++c) {
+    {
+      const float* x = columns.data();
+      const double q0 = q[0];
+      for (std::size_t l = 0; l < len; ++l) {
+        const double t = static_cast<double>(x[l]) - q0;
+        out[l] = t * t;
+      }
+    }
+    for (std::size_t c = 1; c < d; ++c) {
       const float* x = columns.data() + c * stride;
       const double qc = q[c];
       for (std::size_t l = 0; l < len; ++l) {
@@ -85,6 +92,7 @@ void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t
       std::vector<std::size_t>& below = ranks[b];
       const double* row = dist2.data() + b * chunk;
       for (std::size_t l = begin; l < end; ++l) {
+        if (row[l - begin] > last.dist2) continue;  // the common case, one compare
         const Ranked r{row[l - begin], static_cast<NodeId>(l)};
         if (!before(r, last) || l == selves[b]) continue;
         const auto it = std::upper_bound(t.begin(), t.end(), r, before);
