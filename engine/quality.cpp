@@ -163,8 +163,11 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   const std::size_t nk = options.ks.size();
   const std::size_t kmax = *std::max_element(options.ks.begin(), options.ks.end());
   // Candidates beyond kmax make most ranks of misplaced neighbours free; only those farther
-  // out need a counting pass.
-  const std::size_t kc = std::min(n - 1, std::max(8 * kmax, kmax + 96));
+  // out need a counting pass (a second scan of all points). Keeping more candidates costs
+  // about kc log(N / kc) heap updates per query, small against the N-point scan while
+  // kc <= N / 64.
+  const std::size_t kc =
+      std::min(n - 1, std::max({8 * kmax, kmax + 96, std::min<std::size_t>(n / 64, 1024)}));
 
   std::vector<std::uint64_t> t_sum(nq * nk), c_sum(nq * nk);
   std::vector<std::uint32_t> shared(nq * nk);

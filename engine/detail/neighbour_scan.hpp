@@ -47,6 +47,9 @@ class DistanceScanner {
  private:
   const PointSet& points_;
   std::size_t chunk_;
+  // The whole set transposed (d x N) when it takes at most 1 GiB, else empty and each chunk
+  // is transposed on the fly: transposing per chunk costs as much as the distances for low d.
+  std::vector<float> columns_;
 };
 
 // Keeps the `size` points that come first in the ranking convention. Points must be offered
