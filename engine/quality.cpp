@@ -7,13 +7,12 @@
 #include <cmath>
 #include <span>
 #include <string>
-#include <unordered_set>
 
 #include "engine/detail/neighbour_scan.hpp"
 #include "engine/detail/point_checks.hpp"
+#include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
-#include "engine/random.hpp"
 
 namespace unfurl {
 
@@ -50,23 +49,6 @@ void QualityOptions::validate(std::size_t n) const {
 namespace {
 
 using detail::Ranked;
-
-// Floyd's algorithm: `count` distinct rows of n, uniform, ascending; depends on the seed only.
-std::vector<std::uint32_t> sample_rows(std::size_t n, std::size_t count, std::uint64_t seed) {
-  Random rng(seed);
-  std::unordered_set<std::uint32_t> chosen;
-  chosen.reserve(count * 2);
-  std::vector<std::uint32_t> rows;
-  rows.reserve(count);
-  for (std::size_t j = n - count; j < n; ++j) {
-    const auto t = static_cast<std::uint32_t>(rng.below(j + 1));
-    const auto pick = chosen.insert(t).second ? t : static_cast<std::uint32_t>(j);
-    if (pick != t) chosen.insert(pick);
-    rows.push_back(pick);
-  }
-  std::sort(rows.begin(), rows.end());
-  return rows;
-}
 
 // Where id sits in a sorted candidate list, or npos.
 constexpr std::size_t npos = static_cast<std::size_t>(-1);
@@ -169,7 +151,7 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   out.method = sampled ? ScoreMethod::sampled : ScoreMethod::exact;
   std::vector<std::uint32_t> queries;
   if (sampled) {
-    queries = sample_rows(n, options.sample, options.seed);
+    queries = detail::sample_rows(n, options.sample, options.seed);
   } else {
     queries.resize(n);
     for (std::size_t i = 0; i < n; ++i) queries[i] = static_cast<std::uint32_t>(i);
@@ -181,8 +163,11 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   const std::size_t nk = options.ks.size();
   const std::size_t kmax = *std::max_element(options.ks.begin(), options.ks.end());
   // Candidates beyond kmax make most ranks of misplaced neighbours free; only those farther
-  // out need a counting pass.
-  const std::size_t kc = std::min(n - 1, std::max(4 * kmax, kmax + 32));
+  // out need a counting pass (a second scan of all points). Keeping more candidates costs
+  // about kc log(N / kc) heap updates per query, small against the N-point scan while
+  // kc <= N / 64.
+  const std::size_t kc =
+      std::min(n - 1, std::max({8 * kmax, kmax + 96, std::min<std::size_t>(n / 64, 1024)}));
 
   std::vector<std::uint64_t> t_sum(nq * nk), c_sum(nq * nk);
   std::vector<std::uint32_t> shared(nq * nk);
@@ -229,11 +214,8 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
             const std::size_t self = queries[q0 + b];
             const double* din = ws.d_in.data() + b * scan_in.chunk();
             const double* dmap = ws.d_map.data() + b * scan_map.chunk();
-            for (std::size_t l = begin; l < end; ++l) {
-              if (l == self) continue;
-              ws.lists_in[b].offer(din[l - begin], static_cast<NodeId>(l));
-              ws.lists_map[b].offer(dmap[l - begin], static_cast<NodeId>(l));
-            }
+            ws.lists_in[b].offer_range(din, begin, end, self);
+            ws.lists_map[b].offer_range(dmap, begin, end, self);
           }
         }
         for (std::size_t b = 0; b < count; ++b) {
@@ -269,7 +251,6 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   }
   errors.rethrow();
 
-  const double z = 1.959963984540054;  // two-sided 95% normal quantile
   for (std::size_t kk = 0; kk < nk; ++kk) {
     const std::size_t k = options.ks[kk];
     NeighbourhoodScore s;
@@ -280,34 +261,25 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
     s.t_terms.resize(nq);
     s.c_terms.resize(nq);
     const double scale = 2.0 / (static_cast<double>(k) * (2.0 * n - 3.0 * k - 1.0));
-    double t_mean = 0, c_mean = 0, shared_mean = 0;
+    double shared_mean = 0;
     for (std::size_t q = 0; q < nq; ++q) {
       s.t_terms[q] = static_cast<double>(t_sum[q * nk + kk]) * scale;
       s.c_terms[q] = static_cast<double>(c_sum[q * nk + kk]) * scale;
-      t_mean += s.t_terms[q];
-      c_mean += s.c_terms[q];
       shared_mean += static_cast<double>(shared[q * nk + kk]) / static_cast<double>(k);
     }
-    t_mean /= static_cast<double>(nq);
-    c_mean /= static_cast<double>(nq);
-    s.trustworthiness = 1.0 - t_mean;
-    s.continuity = 1.0 - c_mean;
+    // Exact scoring has no sampling error: mean_interval gives half = 0 when nq == n.
+    const auto t_est = detail::mean_interval(s.t_terms, n);
+    const auto c_est = detail::mean_interval(s.c_terms, n);
+    s.trustworthiness = 1.0 - t_est.mean;
+    s.continuity = 1.0 - c_est.mean;
     s.knn_preservation = shared_mean / static_cast<double>(nq);
     s.t_low = s.t_high = s.trustworthiness;
     s.c_low = s.c_high = s.continuity;
     if (sampled) {
-      double t_var = 0, c_var = 0;
-      for (std::size_t q = 0; q < nq; ++q) {
-        t_var += (s.t_terms[q] - t_mean) * (s.t_terms[q] - t_mean);
-        c_var += (s.c_terms[q] - c_mean) * (s.c_terms[q] - c_mean);
-      }
-      const double fpc = std::sqrt(static_cast<double>(n - nq) / static_cast<double>(n - 1));
-      const double t_half = z * std::sqrt(t_var / (nq - 1.0) / nq) * fpc;
-      const double c_half = z * std::sqrt(c_var / (nq - 1.0) / nq) * fpc;
-      s.t_low = std::max(0.0, s.trustworthiness - t_half);
-      s.t_high = std::min(1.0, s.trustworthiness + t_half);
-      s.c_low = std::max(0.0, s.continuity - c_half);
-      s.c_high = std::min(1.0, s.continuity + c_half);
+      s.t_low = std::max(0.0, s.trustworthiness - t_est.half);
+      s.t_high = std::min(1.0, s.trustworthiness + t_est.half);
+      s.c_low = std::max(0.0, s.continuity - c_est.half);
+      s.c_high = std::min(1.0, s.continuity + c_est.half);
     }
     out.by_k.push_back(std::move(s));
   }

@@ -8,7 +8,14 @@ DistanceScanner::DistanceScanner(const PointSet& points)
     : points_(points),
       // About 64 KiB of transposed coordinates per chunk: small enough to stay in L2 while a
       // block of queries reuses it, large enough to amortise the loop overhead.
-      chunk_(std::clamp<std::size_t>(16384 / std::max<std::size_t>(points.cols, 1), 64, 4096)) {}
+      chunk_(std::clamp<std::size_t>(16384 / std::max<std::size_t>(points.cols, 1), 64, 4096)) {
+  const std::size_t n = points.rows, d = points.cols;
+  if (n * d <= (std::size_t{1} << 28)) {
+    columns_.resize(n * d);
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t c = 0; c < d; ++c) columns_[c * n + i] = points.values[i * d + c];
+  }
+}
 
 void DistanceScanner::load_query(std::size_t i, double* q) const {
   const float* p = points_.row(i);
@@ -20,18 +27,35 @@ void DistanceScanner::distances(const double* queries, std::size_t count, std::s
   const std::size_t d = points_.cols;
   const std::size_t len = end - begin;
   const std::size_t stride = chunk_;
-  // Transposed, so the innermost loop runs over points with unit stride and vectorises.
-  columns.resize(d * stride);
-  for (std::size_t l = 0; l < len; ++l) {
-    const float* p = points_.row(begin + l);
-    for (std::size_t c = 0; c < d; ++c) columns[c * stride + l] = p[c];
+  // Column c of the chunk starts at base + c * column_step.
+  const float* base;
+  std::size_t column_step;
+  if (!columns_.empty()) {
+    base = columns_.data() + begin;
+    column_step = points_.rows;
+  } else {
+    // Transposed, so the innermost loop runs over points with unit stride and vectorises.
+    columns.resize(d * stride);
+    for (std::size_t l = 0; l < len; ++l) {
+      const float* p = points_.row(begin + l);
+      for (std::size_t c = 0; c < d; ++c) columns[c * stride + l] = p[c];
+    }
+    base = columns.data();
+    column_step = stride;
   }
   for (std::size_t b = 0; b < count; ++b) {
     double* out = dist2 + b * stride;
     const double* q = queries + b * d;
-    std::fill(out, out + len, 0.0);
-    for (std::size_t c = 0; c < d; ++c) {
-      const float* x = columns.data() + c * stride;
+    {
+      const float* x = base;
+      const double q0 = q[0];
+      for (std::size_t l = 0; l < len; ++l) {
+        const double t = static_cast<double>(x[l]) - q0;
+        out[l] = t * t;
+      }
+    }
+    for (std::size_t c = 1; c < d; ++c) {
+      const float* x = base + c * column_step;
       const double qc = q[c];
       for (std::size_t l = 0; l < len; ++l) {
         const double t = static_cast<double>(x[l]) - qc;
@@ -85,6 +109,7 @@ void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t
       std::vector<std::size_t>& below = ranks[b];
       const double* row = dist2.data() + b * chunk;
       for (std::size_t l = begin; l < end; ++l) {
+        if (row[l - begin] > last.dist2) continue;  // the common case, one compare
         const Ranked r{row[l - begin], static_cast<NodeId>(l)};
         if (!before(r, last) || l == selves[b]) continue;
         const auto it = std::upper_bound(t.begin(), t.end(), r, before);

@@ -8,6 +8,7 @@
 #pragma once
 
 #include <cstddef>
+#include <limits>
 #include <span>
 #include <vector>
 
@@ -46,6 +47,9 @@ class DistanceScanner {
  private:
   const PointSet& points_;
   std::size_t chunk_;
+  // The whole set transposed (d x N) when it takes at most 1 GiB, else empty and each chunk
+  // is transposed on the fly: transposing per chunk costs as much as the distances for low d.
+  std::vector<float> columns_;
 };
 
 // Keeps the `size` points that come first in the ranking convention. Points must be offered
@@ -53,17 +57,25 @@ class DistanceScanner {
 class NearestList {
  public:
   void reset(std::size_t size);
-  void offer(double dist2, NodeId id) {
-    if (heap_.size() < size_) {
-      push(dist2, id);
-    } else if (dist2 < heap_.front().dist2) {
-      replace_worst(dist2, id);
+  // Offers points begin..end-1 with squared distances dist2[0 .. end-begin), except `skip`
+  // (the query itself). The worst kept distance is cached, so most points cost one compare.
+  void offer_range(const double* dist2, std::size_t begin, std::size_t end, std::size_t skip) {
+    double worst = heap_.size() < size_ ? kInf : heap_.front().dist2;
+    for (std::size_t l = begin; l < end; ++l) {
+      const double d = dist2[l - begin];
+      if (!(d < worst) || l == skip) continue;
+      if (heap_.size() < size_)
+        push(d, static_cast<NodeId>(l));
+      else
+        replace_worst(d, static_cast<NodeId>(l));
+      worst = heap_.size() < size_ ? kInf : heap_.front().dist2;
     }
   }
   // Ascending by (dist2, id); the list is emptied.
   void take_sorted(std::vector<Ranked>& out);
 
  private:
+  static constexpr double kInf = std::numeric_limits<double>::infinity();
   void push(double dist2, NodeId id);
   void replace_worst(double dist2, NodeId id);
   std::size_t size_ = 0;

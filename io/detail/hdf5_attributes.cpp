@@ -99,6 +99,11 @@ std::vector<AttributeText> attribute_texts(hid_t object) {
   std::vector<AttributeText> out;
   hsize_t index = 0;
   H5Aiterate2(object, H5_INDEX_NAME, H5_ITER_INC, &index, collect_attribute, &out);
+  // One attribute, one line: control characters of stored text become spaces.
+  for (auto& a : out)
+    for (std::string* s : {&a.name, &a.value})
+      for (char& c : *s)
+        if (static_cast<unsigned char>(c) < 0x20) c = ' ';
   return out;
 }
 

@@ -198,6 +198,14 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
   const RowWindow w = resolve_rows(options.rows, rows, where);
   result.points = allocate_points(w.size(), cols, where);
 
+  if (h.kind == 'f' && h.item == sizeof(float) && !h.swap && !h.fortran) {
+    // The stored bytes are already the PointSet layout: read them in place.
+    in.seekg(static_cast<std::streamoff>(h.data_offset + std::uint64_t{w.begin} * cols * h.item));
+    const auto bytes = static_cast<std::streamsize>(result.points.values.size() * sizeof(float));
+    in.read(reinterpret_cast<char*>(result.points.values.data()), bytes);
+    if (in.gcount() != bytes) throw IoError(where + ": read failed part way (truncated file?)");
+    return;
+  }
   // Runs of contiguous file values: a row (C order) or a column's slice (Fortran order).
   const std::size_t run = h.fortran ? w.size() : w.size() * cols;
   const std::size_t runs = h.fortran ? cols : 1;

@@ -145,6 +145,17 @@ def main():
             compare(tmp, f"numpy savetxt delimiter {delimiter!r}", path,
                     np.loadtxt(path, delimiter=None if delimiter == " " else delimiter, skiprows=1))
 
+        # Open data: scikit-learn's bundled digits set (1,797 x 64), converted by
+        # datasets-scripts/digits_to_hdf5.py and compared with load_digits itself.
+        from sklearn.datasets import load_digits
+        script = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..",
+                              "datasets-scripts", "digits_to_hdf5.py")
+        digits_h5 = os.path.join(tmp, "digits.h5")
+        r = run([sys.executable, script, "--out", digits_h5], cwd=tmp)
+        check(r.returncode == 0, f"digits_to_hdf5.py exit 0 ({r.stderr.strip()[-200:]})")
+        if r.returncode == 0:
+            compare(tmp, "digits /images vs load_digits", digits_h5, load_digits().data)
+
         # Bad inputs: exit codes of engine/error.hpp.
         nan = base.copy()
         nan[40, 2] = np.nan

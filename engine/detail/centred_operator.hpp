@@ -1,0 +1,51 @@
+// B = -1/2 J S J applied to a vector without forming B: S holds the squared geodesic
+// distances, taken on the fly from the N x N float32 rows and symmetrised as
+// S_ij = (D_ij^2 + D_ji^2) / 2 (two Dijkstra runs can round d(i, j) and d(j, i) apart by an
+// ulp, and the Lanczos solver needs an exactly symmetric operator). With r the row means of
+// S and g their mean, B x = -1/2 (S x - r (1'x) - 1 (r'x) + g (1'x) 1).
+//
+// One pass over D per product: every D_ij feeds both (S x)_i and (S x)_j. The column part is
+// accumulated per block of rows into that block's own buffer and the buffers are added in
+// block order, with blocks fixed by N alone: the sums do not depend on the thread count.
+#pragma once
+
+#include <Eigen/Core>
+
+#include <cstddef>
+#include <vector>
+
+#include "engine/distance_rows.hpp"
+#include "engine/stop.hpp"
+
+namespace unfurl::detail {
+
+class CentredSquaredOperator {
+ public:
+  using Scalar = double;
+  static constexpr std::size_t kMaxBlocks = 64;
+
+  CentredSquaredOperator(const DistanceRows& rows, StopToken stop);
+
+  Eigen::Index rows() const { return static_cast<Eigen::Index>(n_); }
+  Eigen::Index cols() const { return static_cast<Eigen::Index>(n_); }
+  // y = B x; polls the stop token (throws InterruptedError).
+  void perform_op(const double* x, double* y) const;
+
+  // Bytes held besides the rows: block buffers and means.
+  static std::size_t work_bytes(std::size_t n);
+
+ private:
+  // y = S x (symmetrised squared distances), without centring.
+  void squared_product(const double* x, double* y) const;
+
+  const DistanceRows& d_;
+  std::size_t n_;
+  std::size_t blocks_;
+  StopToken stop_;
+  std::vector<double> row_means_;
+  double grand_mean_ = 0.0;
+  mutable std::vector<double> partial_;  // blocks_ x n_: column sums of each block of rows
+  mutable std::vector<double> own_;      // n_: the row sums
+};
+
+}  // namespace unfurl::detail

@@ -1,0 +1,82 @@
+// The top eigenpairs of a symmetric matrix, dense (Eigen, whole spectrum) or iterative
+// (Spectra's Lanczos solver on an operator), plus the deterministic sign rule.
+#pragma once
+
+#include <Spectra/SymEigsSolver.h>
+#include <Eigen/Dense>
+
+#include <algorithm>
+#include <cstddef>
+#include <string>
+#include <vector>
+
+namespace unfurl::detail {
+
+struct EigenPairs {
+  std::vector<double> values;    // the kept eigenvalues, descending
+  Eigen::MatrixXd vectors;       // n x values.size(), unit columns in the same order
+  std::vector<double> spectrum;  // every eigenvalue computed, descending
+  bool complete = false;         // spectrum is the whole spectrum
+  bool converged = true;         // the iterative solver reported success
+  std::size_t iterations = 0;    // Spectra restarts (0 for the dense solver)
+  std::size_t operations = 0;    // operator applications (0 for the dense solver)
+  std::vector<std::string> warnings;
+};
+
+// Whole spectrum by Eigen's SelfAdjointEigenSolver; keeps the top m pairs.
+EigenPairs dense_top(const Eigen::MatrixXd& matrix, std::size_t m);
+
+struct IterativeSettings {
+  std::size_t krylov = 0;  // ncv; 0: min(n, max(2m + 1, 20))
+  std::size_t max_iterations = 1000;
+  double tolerance = 1e-10;
+  bool negative_end = true;  // also compute the m most negative eigenvalues
+};
+
+inline std::size_t krylov_size(std::size_t n, std::size_t m, std::size_t requested) {
+  return requested ? std::min(n, requested) : std::min(n, std::max<std::size_t>(2 * m + 1, 20));
+}
+
+// Top m pairs of the symmetric operator `op` (rows(), cols(), perform_op(x, y)).
+// Non-convergence is a status and a warning, never an exception.
+template <class Op>
+EigenPairs iterative_top(Op& op, std::size_t m, const IterativeSettings& s) {
+  using Spectra::CompInfo;
+  using Spectra::SortRule;
+  const auto n = static_cast<std::size_t>(op.rows());
+  const auto ncv = static_cast<Eigen::Index>(krylov_size(n, m, s.krylov));
+  const auto nev = static_cast<Eigen::Index>(m);
+  EigenPairs out;
+  // With the negative end wanted, one run finds both ends (BothEnds: nev / 2 from each end,
+  // from one Krylov basis); the top m are then the first m in descending order.
+  const bool both = s.negative_end && 2 * m < n;
+  const Eigen::Index wanted = both ? 2 * nev : nev;
+  const Eigen::Index basis =
+      both ? std::max(ncv, std::min<Eigen::Index>(static_cast<Eigen::Index>(n), 2 * wanted + 1))
+           : ncv;
+  Spectra::SymEigsSolver<Op> solver(op, wanted, basis);
+  solver.init();
+  solver.compute(both ? SortRule::BothEnds : SortRule::LargestAlge,
+                 static_cast<Eigen::Index>(s.max_iterations), s.tolerance, SortRule::LargestAlge);
+  out.iterations = static_cast<std::size_t>(solver.num_iterations());
+  out.operations = static_cast<std::size_t>(solver.num_operations());
+  if (solver.info() != CompInfo::Successful) {
+    out.converged = false;
+    out.warnings.push_back("spectral: the Lanczos solver did not converge after " +
+                           std::to_string(out.iterations) + " restarts");
+  }
+  const Eigen::VectorXd values = solver.eigenvalues();  // descending
+  const Eigen::MatrixXd vectors = solver.eigenvectors();
+  const auto kept = std::min<Eigen::Index>(nev, values.size());
+  out.values.assign(values.data(), values.data() + kept);
+  out.vectors = vectors.leftCols(kept);
+  out.spectrum.assign(values.data(), values.data() + values.size());
+  std::sort(out.spectrum.begin(), out.spectrum.end(), std::greater<>());
+  return out;
+}
+
+// Makes each column's largest-magnitude entry positive (ties: the lowest row index), so the
+// map does not flip with the solver's arbitrary sign.
+void fix_signs(Eigen::MatrixXd& vectors);
+
+}  // namespace unfurl::detail
