@@ -31,7 +31,7 @@ io::PointReadOptions to_read_options(const PointInputArgs& a) {
   return o;
 }
 
-void add_graph_options(CLI::App* cmd, GraphArgs& a) {
+void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
   cmd->add_option("--k", a.k, "Neighbours per point of the k-nearest graph")->capture_default_str();
   cmd->add_option("--radius", a.radius,
                   "Join points closer than or at this Euclidean distance instead (data units)");
@@ -41,6 +41,7 @@ void add_graph_options(CLI::App* cmd, GraphArgs& a) {
       ->capture_default_str();
   cmd->add_flag("--keep-duplicates", a.keep_duplicates,
                 "Keep identical rows as separate nodes joined by tiny edges (default: merge)");
+  if (!with_components) return;
   cmd->add_option("--disconnected", a.disconnected,
                   "Graph in several pieces: fail, keep the largest, or bridge them by the "
                   "shortest edges between them")

@@ -37,7 +37,8 @@ struct GraphArgs {
   bool keep_duplicates = false;
   std::string disconnected = "fail";
 };
-void add_graph_options(CLI::App* cmd, GraphArgs& args);
+// with_components: also --disconnected (commands that embed).
+void add_graph_options(CLI::App* cmd, GraphArgs& args, bool with_components = true);
 GraphOptions to_graph_options(const GraphArgs& args);
 ComponentOptions to_component_options(const GraphArgs& args);
 

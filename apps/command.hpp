@@ -34,5 +34,7 @@ void apply_globals(const GlobalOptions& g);
 void add_demo_command(CLI::App& app, GlobalOptions& g);
 void add_inspect_command(CLI::App& app, GlobalOptions& g);
 void add_embed_command(CLI::App& app, GlobalOptions& g);
+void add_graph_command(CLI::App& app, GlobalOptions& g);
+void add_score_command(CLI::App& app, GlobalOptions& g);
 
 }  // namespace unfurl::app

@@ -56,7 +56,9 @@ int main(int argc, char** argv) {
 
   app::add_demo_command(cli, g);
   app::add_embed_command(cli, g);
+  app::add_graph_command(cli, g);
   app::add_inspect_command(cli, g);
+  app::add_score_command(cli, g);
 
   std::signal(SIGINT, request_stop);
   std::signal(SIGTERM, request_stop);
