@@ -155,6 +155,12 @@ void knn_tree(const PointSet& data, const PointSet& queries, std::size_t k, bool
   }
 }
 
+std::vector<NodeId> tree_leaf_order(const PointSet& points) {
+  if (points.rows == 0) return {};
+  const BuiltTree<-1> built(points);
+  return {built.tree.vAcc.begin(), built.tree.vAcc.end()};
+}
+
 RadiusLists radius_tree(const PointSet& data, const PointSet& queries, double radius,
                         bool exclude_self, StopToken stop) {
   switch (data.cols) {
