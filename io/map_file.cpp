@@ -1,14 +1,12 @@
 #include "io/map_file.hpp"
 
-#include <sys/resource.h>
-#include <unistd.h>
-
 #include <chrono>
 #include <ctime>
 #include <set>
 
 #include "engine/error.hpp"
 #include "io/atomic_output.hpp"
+#include "io/detail/file_stamp.hpp"
 #include "io/detail/h5_json.hpp"
 #include "io/hdf5_file.hpp"
 
@@ -24,26 +22,6 @@ constexpr std::size_t compress_above_bytes = std::size_t{4} << 20;
 
 H5WriteOptions layout_for(std::size_t bytes) {
   return H5WriteOptions{bytes > compress_above_bytes ? 1 : 0};
-}
-
-std::string iso8601(std::time_t t) {
-  std::tm tm{};
-  gmtime_r(&t, &tm);
-  char buf[32];
-  std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &tm);
-  return buf;
-}
-
-std::string host_name() {
-  char buf[256] = {};
-  if (::gethostname(buf, sizeof buf - 1) != 0) return "unknown";
-  return buf;
-}
-
-std::int64_t peak_memory_bytes() {
-  rusage usage{};
-  if (::getrusage(RUSAGE_SELF, &usage) != 0) return -1;
-  return static_cast<std::int64_t>(usage.ru_maxrss) * 1024;  // Linux reports KiB
 }
 
 void check_sizes(const fs::path& path, const MapContents& c) {
@@ -67,7 +45,8 @@ void check_sizes(const fs::path& path, const MapContents& c) {
 }  // namespace
 
 std::string utc_now_iso8601() {
-  return iso8601(std::chrono::system_clock::to_time_t(std::chrono::system_clock::now()));
+  return detail::iso8601_utc(
+      std::chrono::system_clock::to_time_t(std::chrono::system_clock::now()));
 }
 
 json input_identity(const fs::path& file, const std::string& dataset) {
@@ -80,7 +59,7 @@ json input_identity(const fs::path& file, const std::string& dataset) {
   return {{"path", fs::absolute(file).string()},
           {"dataset", dataset},
           {"bytes", static_cast<std::int64_t>(bytes)},
-          {"modified", iso8601(std::chrono::system_clock::to_time_t(system))}};
+          {"modified", detail::iso8601_utc(std::chrono::system_clock::to_time_t(system))}};
 }
 
 void write_map(const fs::path& path, const MapContents& c) {
@@ -106,13 +85,8 @@ void write_map(const fs::path& path, const MapContents& c) {
       out.write(extra.path, extra.values, extra.dims, layout_for(extra.values.size() * 8));
       detail::write_json_attributes(out, extra.path, extra.attributes);
     }
-    json attrs = c.attributes;
-    attrs["format_version"] = map_format_version;
-    attrs["program_version"] = UNFURL_VERSION;
-    if (!attrs.contains("creation_time")) attrs["creation_time"] = utc_now_iso8601();
-    if (!attrs.contains("host")) attrs["host"] = host_name();
-    if (!attrs.contains("peak_memory_bytes")) attrs["peak_memory_bytes"] = peak_memory_bytes();
-    detail::write_json_attributes(out, "/", attrs);
+    detail::write_json_attributes(out, "/",
+                                  detail::stamp_attributes(c.attributes, map_format_version));
     out.close();
   }
   output.commit();
@@ -123,17 +97,6 @@ namespace {
 const std::set<std::string> layout_datasets = {
     "/coords",          "/rows",    "/landmarks/rows", "/landmarks/coords", "/landmarks/geodesic",
     "/landmarks/nodes", "/spectrum"};
-
-void check_version(const H5Reader& in) {
-  const std::string where = in.path().string() + ": /";
-  if (!in.has_attribute("/", "format_version"))
-    throw DataError(where + ": no format_version attribute (not an unfurl map file?)");
-  const std::int64_t v = in.int_attribute("/", "format_version");
-  if (v > map_format_version)
-    throw DataError(in.path().string() + ": written by a newer unfurl: format version " +
-                    std::to_string(v) + ", this reads up to " + std::to_string(map_format_version));
-  if (v < 1) throw DataError(where + ": invalid format version " + std::to_string(v));
-}
 
 void expect_length(const H5Reader& in, const std::string& dataset, std::size_t got,
                    std::size_t want, const char* what) {
@@ -146,7 +109,7 @@ void expect_length(const H5Reader& in, const std::string& dataset, std::size_t g
 
 MapContents read_map(const fs::path& path, bool with_geodesic) {
   H5Reader in(path);
-  check_version(in);
+  detail::check_format_version(in, map_format_version, "map file");
   MapContents c;
   const auto coords = in.require_rank("/coords", 2);
   c.coords.rows = coords.dims[0];

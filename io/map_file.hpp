@@ -31,19 +31,12 @@
 
 #include "engine/distance_rows.hpp"
 #include "engine/points.hpp"
+#include "io/map_array.hpp"
 
 namespace unfurl::io {
 
 // The newest map layout this build writes and the newest it reads.
 inline constexpr std::int64_t map_format_version = 1;
-
-// One extra dataset: float64 values of the given dims (empty dims: a scalar).
-struct MapArray {
-  std::string path;               // absolute, e.g. "/quality/trustworthiness"
-  std::vector<double> values;     // product(dims) values, row-major
-  std::vector<std::size_t> dims;  // empty for a scalar
-  nlohmann::json attributes = nlohmann::json::object();  // written on the dataset
-};
 
 struct MapContents {
   PointSet coords;                                       // N x m map coordinates
