@@ -122,6 +122,7 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
     throw IoError(where + ": cannot set up the HDF5 transfer");
 
   for (hsize_t r = w.begin; r < w.end;) {
+    options.stop.check("reading points");
     const hsize_t stop = std::min<hsize_t>(w.end, (r / block + 1) * block);
     const hsize_t start[2] = {r, 0};
     const hsize_t count[2] = {stop - r, cols};

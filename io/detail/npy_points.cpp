@@ -217,6 +217,7 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
         h.fortran ? std::uint64_t{j} * rows + w.begin : std::uint64_t{w.begin} * cols;
     in.seekg(static_cast<std::streamoff>(h.data_offset + first * h.item));
     for (std::size_t done = 0; done < run;) {
+      options.stop.check("reading points");
       const std::size_t n = std::min(per_read, run - done);
       in.read(reinterpret_cast<char*>(buffer.data()), static_cast<std::streamsize>(n * h.item));
       if (static_cast<std::size_t>(in.gcount()) != n * h.item)

@@ -136,7 +136,7 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
   char delimiter = format == "tsv" ? '\t' : 0;
   constexpr double float_max = std::numeric_limits<float>::max();
   while (std::getline(in, line)) {
-    ++line_no;
+    if (++line_no % 65536 == 0) options.stop.check("reading points");
     if (!is_content(line)) continue;
     if (delimiter == 0) delimiter = sniff_delimiter(line);
     split(line, delimiter, fields);

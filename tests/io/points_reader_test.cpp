@@ -5,6 +5,7 @@
 #include <hdf5.h>
 
 #include <algorithm>
+#include <atomic>
 #include <bit>
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -380,4 +381,16 @@ TEST_CASE("The format comes from the magic bytes first, then the extension", "[i
   dataset_on_npy.dataset = "/x";
   CHECK_THROWS_KIND(read_points(dir / "points.bin", dataset_on_npy), OptionError,
                     Contains("--dataset"));
+}
+
+TEST_CASE("A stop request ends a read with InterruptedError", "[io][points]") {
+  TempDir dir;
+  const auto values = table<float>(20, 3);
+  write_hdf5(dir / "s.h5", "/x", {20, 3}, H5T_IEEE_F32LE, H5T_NATIVE_FLOAT, values.data());
+  write_npy(dir / "s.npy", ">f4", {20, 3}, false, npy_bytes<float>(20, 3, true, false));
+  std::atomic<bool> stop{true};
+  PointReadOptions options;
+  options.stop = StopToken{&stop};
+  CHECK_THROWS_KIND(read_points(dir / "s.h5", options), InterruptedError, Contains("stopped"));
+  CHECK_THROWS_KIND(read_points(dir / "s.npy", options), InterruptedError, Contains("stopped"));
 }
