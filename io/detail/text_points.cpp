@@ -161,11 +161,10 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
       double v = 0;
       if (!parse_number(fields[j], v))
         throw DataError(name + " line " + std::to_string(line_no) + ", column " +
-                        std::to_string(j + 1) + ": '" + std::string(fields[j].substr(0, 40)) +
-                        "' is not a number");
+                        std::to_string(j + 1) + ": '" + printable(fields[j]) + "' is not a number");
       if (std::isfinite(v) && std::fabs(v) > float_max)
         throw DataError(name + " line " + std::to_string(line_no) + ", column " +
-                        std::to_string(j + 1) + ": '" + std::string(fields[j].substr(0, 40)) +
+                        std::to_string(j + 1) + ": '" + printable(fields[j]) +
                         "' lies outside the float32 range");
       values.push_back(static_cast<float>(v));
     }
