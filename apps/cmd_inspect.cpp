@@ -129,6 +129,7 @@ void add_inspect_command(CLI::App& app, GlobalOptions& g) {
     options.dataset = args->dataset;
     options.format = args->format;
     options.drop_nonfinite = args->drop_nonfinite;
+    options.stop = stop_token();
     if (!args->rows.empty()) options.rows = io::parse_row_range(args->rows);
     options.validate();
     const io::FileDescription description = io::describe_file(args->file, args->format);

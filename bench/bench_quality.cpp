@@ -44,11 +44,11 @@ void report(benchmark::State& state, const NeighbourhoodScores& r) {
 }
 
 // Args: N, map noise (thousandths of a unit), threads.
-void BM_SampledScores(benchmark::State& state) {
+void run_scores(benchmark::State& state, ScoreMethod method) {
   const Case& c = roll_case(static_cast<std::size_t>(state.range(0)), state.range(1));
   QualityOptions o;
   o.ks = {12};
-  o.method = ScoreMethod::sampled;
+  o.method = method;
   o.sample = 2000;
   o.threads = static_cast<int>(state.range(2));
   NeighbourhoodScores r;
@@ -57,6 +57,10 @@ void BM_SampledScores(benchmark::State& state) {
     benchmark::DoNotOptimize(r.by_k.data());
   }
   report(state, r);
+}
+
+void BM_SampledScores(benchmark::State& state) {
+  run_scores(state, ScoreMethod::sampled);
 }
 BENCHMARK(BM_SampledScores)
     ->ArgNames({"N", "noise_milli", "threads"})
@@ -68,17 +72,7 @@ BENCHMARK(BM_SampledScores)
     ->Iterations(1);
 
 void BM_ExactScores(benchmark::State& state) {
-  const Case& c = roll_case(static_cast<std::size_t>(state.range(0)), state.range(1));
-  QualityOptions o;
-  o.ks = {12};
-  o.method = ScoreMethod::exact;
-  o.threads = static_cast<int>(state.range(2));
-  NeighbourhoodScores r;
-  for (auto _ : state) {
-    r = neighbourhood_scores(c.roll.points, c.map, o);
-    benchmark::DoNotOptimize(r.by_k.data());
-  }
-  report(state, r);
+  run_scores(state, ScoreMethod::exact);
 }
 BENCHMARK(BM_ExactScores)
     ->ArgNames({"N", "noise_milli", "threads"})

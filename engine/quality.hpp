@@ -22,6 +22,12 @@
 // +-1.96 s / sqrt(n) * sqrt((N - n) / (N - 1)), s the sample standard deviation of the terms and
 // the last factor the finite-population correction. The interval is clipped to [0, 1].
 // Results depend on the seed, never on the number of threads.
+//
+// Cost: every query point is compared with all N points in both spaces, in double (about
+// N (d + m) operations per query), parallel over blocks of query points; misplaced neighbours
+// ranked beyond about max(8k, N/64, up to 1024) candidates cost one more scan. Memory: a
+// transposed float copy of each point set (when it fits in 1 GiB; else chunks are transposed
+// on the fly) plus O(block x chunk) per thread; never N x N.
 #pragma once
 
 #include <cstddef>

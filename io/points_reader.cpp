@@ -181,6 +181,13 @@ PointSet allocate_points(std::size_t rows, std::size_t cols, const std::string& 
   }
 }
 
+std::string printable(std::string_view text, std::size_t limit) {
+  std::string out;
+  for (char c : text.substr(0, limit)) out += (c >= 0x20 && c < 0x7f) ? c : '?';
+  if (text.size() > limit) out += "...";
+  return out;
+}
+
 float narrow_to_float(double value, const std::string& where) {
   constexpr double max = std::numeric_limits<float>::max();
   if (std::isfinite(value) && (value > max || value < -max))

@@ -22,6 +22,7 @@
 #include <vector>
 
 #include "engine/points.hpp"
+#include "engine/stop.hpp"
 
 namespace unfurl::io {
 
@@ -43,6 +44,7 @@ struct PointReadOptions {
   std::optional<RowRange> rows;  // part of the file (default: every row)
   bool drop_nonfinite = false;   // drop rows holding NaN/inf instead of failing
   std::string format;            // "", "hdf5", "csv", "tsv", "npy"; empty: magic bytes/extension
+  StopToken stop;                // polled between blocks of rows (InterruptedError)
 
   // Throws OptionError naming the field ("--format: ...", "--rows: ...").
   void validate() const;

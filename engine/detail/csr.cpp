@@ -34,9 +34,19 @@ NeighbourGraph symmetric_csr(std::size_t nodes, const std::vector<Edge>& edges) 
   parallel_chunks(nodes, 4096, {}, "graph", [&](std::size_t first, std::size_t last) {
     for (std::size_t v = first; v < last; ++v) {
       auto b = entries.begin() + start[v], e = entries.begin() + start[v + 1];
-      std::sort(b, e, [](const Entry& x, const Entry& y) {
+      const auto before = [](const Entry& x, const Entry& y) {
         return x.target < y.target || (x.target == y.target && x.order < y.order);
-      });
+      };
+      if (e - b > 32) {
+        std::sort(b, e, before);
+      } else {  // kNN rows are short: a plain insertion sort beats std::sort's calls
+        for (auto i = b + 1; i < e; ++i) {
+          const Entry x = *i;
+          auto j = i;
+          for (; j > b && before(x, *(j - 1)); --j) *j = *(j - 1);
+          *j = x;
+        }
+      }
       kept[v] =
           std::unique(b, e, [](const Entry& x, const Entry& y) { return x.target == y.target; }) -
           b;

@@ -51,6 +51,9 @@ RadiusLists radius_tree(const PointSet& data, const PointSet& queries, double ra
 RadiusLists radius_scan(const PointSet& data, const PointSet& queries, double radius,
                         bool exclude_self, std::size_t block_rows, StopToken stop);
 
+// The rows in the leaf order of a k-d tree over them (nearby rows end up adjacent).
+std::vector<NodeId> tree_leaf_order(const PointSet& points);
+
 // Runs body(begin, end) over [0, count) in chunks of `chunk`, in parallel with OpenMP,
 // polling `stop` before each chunk and rethrowing the first exception after the region.
 template <class Body>

@@ -3,6 +3,7 @@
 #include <array>
 
 #include "engine/error.hpp"
+#include "io/detail/point_formats.hpp"
 
 namespace unfurl::io::detail {
 
@@ -113,7 +114,7 @@ std::vector<std::string> point_dataset_paths(hid_t file, const std::string& wher
 std::string join_paths(const std::vector<std::string>& paths) {
   if (paths.empty()) return "none";
   std::string out;
-  for (const auto& p : paths) out += (out.empty() ? "" : ", ") + p;
+  for (const auto& p : paths) out += (out.empty() ? "" : ", ") + printable(p, 200);
   return out;
 }
 

@@ -51,8 +51,9 @@ std::string choose_dataset(hid_t file, const std::string& requested, const std::
   if (!requested.empty()) {
     const std::string path = requested.front() == '/' ? requested : "/" + requested;
     if (!link_path_exists(file, path))
-      throw MissingInputError(name + ": no dataset " + path + " (2-D numeric datasets: " +
-                              join_paths(point_dataset_paths(file, name)) + ")");
+      throw MissingInputError(
+          name + ": no dataset " + printable(path, 200) +
+          " (2-D numeric datasets: " + join_paths(point_dataset_paths(file, name)) + ")");
     H5O_info_t info{};
     if (H5Oget_info_by_name(file, path.c_str(), &info, H5P_DEFAULT) < 0)
       throw IoError(name + ":" + path + ": object header unreadable (corrupt file)");
@@ -103,6 +104,17 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
   if (result.file_rows == 0 || cols == 0)
     throw DataError(where + ": has " + std::to_string(dims[0]) + " rows and " +
                     std::to_string(dims[1]) + " columns; points need at least one of each");
+  if (H5Pget_layout(dcpl.get()) == H5D_CONTIGUOUS) {
+    // A damaged header can claim any shape; contiguous data must all be stored in the file.
+    const hsize_t stored = H5Dget_storage_size(d.get());
+    const std::size_t item = H5Tget_size(type.get());
+    if (stored > 0 && item > 0 &&
+        static_cast<double>(stored) <
+            static_cast<double>(dims[0]) * static_cast<double>(dims[1]) * static_cast<double>(item))
+      throw IoError(where + ": shape " + std::to_string(dims[0]) + " x " + std::to_string(dims[1]) +
+                    " needs more bytes than the file stores (" + std::to_string(stored) +
+                    "; corrupt file)");
+  }
   const RowWindow w = resolve_rows(options.rows, result.file_rows, where);
   result.points = allocate_points(w.size(), cols, where);
 
@@ -122,6 +134,7 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
     throw IoError(where + ": cannot set up the HDF5 transfer");
 
   for (hsize_t r = w.begin; r < w.end;) {
+    options.stop.check("reading points");
     const hsize_t stop = std::min<hsize_t>(w.end, (r / block + 1) * block);
     const hsize_t start[2] = {r, 0};
     const hsize_t count[2] = {stop - r, cols};

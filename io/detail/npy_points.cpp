@@ -82,9 +82,11 @@ NpyHeader read_npy_header(std::istream& in, std::uint64_t file_size, const std::
   h.data_offset = offset + header_len;
   const std::string descr = dict_value(dict, "descr", where);
   if (descr.size() < 3 || (descr.front() != '\'' && descr.front() != '"'))
-    throw DataError(where + ": NPY dtype " + descr + " is structured; points need plain numbers");
+    throw DataError(where + ": NPY dtype " + printable(descr) +
+                    " is structured; points need plain numbers");
   h.descr = descr.substr(1, descr.size() - 2);
-  if (h.descr.size() < 3) throw DataError(where + ": NPY dtype '" + h.descr + "' is not numeric");
+  if (h.descr.size() < 3)
+    throw DataError(where + ": NPY dtype '" + printable(h.descr) + "' is not numeric");
   const char order = h.descr[0];
   h.kind = h.descr[1];
   const std::string size_text = h.descr.substr(2);
@@ -94,17 +96,18 @@ NpyHeader read_npy_header(std::istream& in, std::uint64_t file_size, const std::
   const bool ok_kind = (h.kind == 'f' && (h.item == 4 || h.item == 8)) ||
                        ((h.kind == 'i' || h.kind == 'u') && h.item > 0);
   if (!ok_kind || (order != '<' && order != '>' && order != '|' && order != '='))
-    throw DataError(where + ": NPY dtype '" + h.descr +
+    throw DataError(where + ": NPY dtype '" + printable(h.descr) +
                     "' is not supported (f4, f8, i1..i8, u1..u8 in either byte order)");
   const bool file_little =
       order == '<' || order == '|' || (order == '=' && std::endian::native == std::endian::little);
   h.swap = h.item > 1 && file_little != (std::endian::native == std::endian::little);
 
-  const std::string fortran = dict_value(dict, "fortran_order", where);
-  if (fortran.find("True") != std::string::npos)
+  std::string fortran = dict_value(dict, "fortran_order", where);
+  while (!fortran.empty() && fortran.back() == ' ') fortran.pop_back();
+  if (fortran == "True")
     h.fortran = true;
-  else if (fortran.find("False") == std::string::npos)
-    throw DataError(where + ": NPY header has fortran_order " + fortran);
+  else if (fortran != "False")
+    throw DataError(where + ": NPY header has fortran_order " + printable(fortran));
 
   const std::string shape = dict_value(dict, "shape", where);
   std::size_t pos = 1;
@@ -115,7 +118,7 @@ NpyHeader read_npy_header(std::istream& in, std::uint64_t file_size, const std::
     std::size_t value = 0;
     const char* first = shape.data() + pos;
     const auto [end, ec] = std::from_chars(first, shape.data() + shape.size(), value);
-    if (ec != std::errc()) throw DataError(where + ": NPY header has shape " + shape);
+    if (ec != std::errc()) throw DataError(where + ": NPY header has shape " + printable(shape));
     h.shape.push_back(value);
     pos += static_cast<std::size_t>(end - first);
   }
@@ -217,6 +220,7 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
         h.fortran ? std::uint64_t{j} * rows + w.begin : std::uint64_t{w.begin} * cols;
     in.seekg(static_cast<std::streamoff>(h.data_offset + first * h.item));
     for (std::size_t done = 0; done < run;) {
+      options.stop.check("reading points");
       const std::size_t n = std::min(per_read, run - done);
       in.read(reinterpret_cast<char*>(buffer.data()), static_cast<std::streamsize>(n * h.item));
       if (static_cast<std::size_t>(in.gcount()) != n * h.item)

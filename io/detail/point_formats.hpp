@@ -9,6 +9,7 @@
 #include <istream>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "io/points_reader.hpp"
@@ -57,6 +58,10 @@ struct TextLayout {
   std::size_t data_rows = 0;              // content lines after the header
 };
 TextLayout scan_text_layout(const std::filesystem::path& file, const std::string& format);
+
+// File text quoted in a message: at most `limit` bytes, anything but printable ASCII as '?',
+// so that a damaged file cannot break the one-line message.
+std::string printable(std::string_view text, std::size_t limit = 40);
 
 void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions& options,
                       PointReadResult& result);

@@ -136,7 +136,7 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
   char delimiter = format == "tsv" ? '\t' : 0;
   constexpr double float_max = std::numeric_limits<float>::max();
   while (std::getline(in, line)) {
-    ++line_no;
+    if (++line_no % 65536 == 0) options.stop.check("reading points");
     if (!is_content(line)) continue;
     if (delimiter == 0) delimiter = sniff_delimiter(line);
     split(line, delimiter, fields);
@@ -161,11 +161,10 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
       double v = 0;
       if (!parse_number(fields[j], v))
         throw DataError(name + " line " + std::to_string(line_no) + ", column " +
-                        std::to_string(j + 1) + ": '" + std::string(fields[j].substr(0, 40)) +
-                        "' is not a number");
+                        std::to_string(j + 1) + ": '" + printable(fields[j]) + "' is not a number");
       if (std::isfinite(v) && std::fabs(v) > float_max)
         throw DataError(name + " line " + std::to_string(line_no) + ", column " +
-                        std::to_string(j + 1) + ": '" + std::string(fields[j].substr(0, 40)) +
+                        std::to_string(j + 1) + ": '" + printable(fields[j]) +
                         "' lies outside the float32 range");
       values.push_back(static_cast<float>(v));
     }

@@ -5,6 +5,7 @@
 #include <hdf5.h>
 
 #include <algorithm>
+#include <atomic>
 #include <bit>
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -380,4 +381,48 @@ TEST_CASE("The format comes from the magic bytes first, then the extension", "[i
   dataset_on_npy.dataset = "/x";
   CHECK_THROWS_KIND(read_points(dir / "points.bin", dataset_on_npy), OptionError,
                     Contains("--dataset"));
+}
+
+TEST_CASE("A stop request ends a read with InterruptedError", "[io][points]") {
+  TempDir dir;
+  const auto values = table<float>(20, 3);
+  write_hdf5(dir / "s.h5", "/x", {20, 3}, H5T_IEEE_F32LE, H5T_NATIVE_FLOAT, values.data());
+  write_npy(dir / "s.npy", ">f4", {20, 3}, false, npy_bytes<float>(20, 3, true, false));
+  std::atomic<bool> stop{true};
+  PointReadOptions options;
+  options.stop = StopToken{&stop};
+  CHECK_THROWS_KIND(read_points(dir / "s.h5", options), InterruptedError, Contains("stopped"));
+  CHECK_THROWS_KIND(read_points(dir / "s.npy", options), InterruptedError, Contains("stopped"));
+}
+
+TEST_CASE("Damaged files give project errors, never a crash or another exception", "[io][points]") {
+  // Bytes flipped at seeded random places in valid files (common practice, no source).
+  TempDir dir;
+  const auto values = table<double>(64, 4);
+  write_hdf5(dir / "ok.h5", "/g/x", {64, 4}, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, values.data(),
+             {true, 16, 3});
+  write_npy(dir / "ok.npy", ">f8", {64, 4}, true, npy_bytes<double>(64, 4, true, true));
+  std::mt19937 gen(2026);
+  for (const char* name : {"ok.h5", "ok.npy"}) {
+    const std::string whole = read_bytes(dir / name);
+    // NPY damage goes to the header, where parsing happens; HDF5 damage anywhere.
+    const std::size_t span = std::string(name) == "ok.npy" ? 128 : whole.size();
+    for (int trial = 0; trial < 80; ++trial) {
+      std::string bytes = whole;
+      for (int k = 0; k < 3; ++k) bytes[gen() % span] = static_cast<char>(gen() & 0xff);
+      if (trial % 5 == 0) bytes.resize(gen() % bytes.size());
+      const auto damaged = dir / ("damaged" + std::filesystem::path(name).extension().string());
+      write_bytes(damaged, bytes);
+      std::string outcome = "read";
+      try {
+        (void)read_points(damaged);
+      } catch (const Error& e) {
+        outcome = std::string(e.what()).find('\n') == std::string::npos ? "error" : "multi-line";
+      } catch (const std::exception& e) {
+        outcome = std::string("foreign exception: ") + e.what();
+      }
+      INFO(name << " trial " << trial);
+      CHECK((outcome == "read" || outcome == "error"));
+    }
+  }
 }

@@ -5,6 +5,7 @@
 //   graph_probe union POINTS K tree|scan OUT       OUT: as radius, plus m float32 lengths
 //   graph_probe components EDGES NODES OUT         EDGES: uint64 m, m uint32 from, m uint32 to
 //                                                  OUT: uint64 count, NODES uint32 labels
+//   graph_probe preprocess POINTS none|standard|robust euclidean|cosine PCA OUT   OUT: points
 #include <cstdint>
 #include <cstdio>
 #include <fstream>
@@ -16,6 +17,7 @@
 #include "engine/error.hpp"
 #include "engine/graph_build.hpp"
 #include "engine/neighbours.hpp"
+#include "engine/preprocess.hpp"
 
 using namespace unfurl;
 
@@ -104,6 +106,19 @@ int run(const std::vector<std::string>& a) {
     const std::uint64_t count = c.count;
     write(out, &count, 1);
     write(out, c.label.data(), c.label.size());
+    return 0;
+  }
+  if (a.size() == 6 && a[0] == "preprocess") {
+    PreprocessOptions o;
+    o.scale = a[2] == "standard" ? Scale::standard : a[2] == "robust" ? Scale::robust : Scale::none;
+    o.metric = a[3] == "cosine" ? Metric::cosine : Metric::euclidean;
+    o.pca = std::stoul(a[4]);
+    const auto p = read_points(a[1]);
+    const auto x = apply_preprocess(fit_preprocess(p, o), p);
+    std::ofstream out(a[5], std::ios::binary);
+    const std::uint64_t head[2] = {x.rows, x.cols};
+    write(out, head, 2);
+    write(out, x.values.data(), x.values.size());
     return 0;
   }
   std::cerr << "graph_probe: usage: see the comment at the top of graph_probe.cpp\n";

@@ -1,0 +1,191 @@
+#include "engine/reorder.hpp"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <cstdint>
+#include <numeric>
+
+#include "engine/detail/neighbour_search.hpp"
+#include "engine/detail/parallel_chunks.hpp"
+#include "engine/error.hpp"
+
+namespace unfurl {
+namespace {
+
+Renumbering from_old_of_new(std::vector<NodeId> old_of_new) {
+  Renumbering r;
+  r.new_of_old.resize(old_of_new.size());
+  for (std::size_t i = 0; i < old_of_new.size(); ++i)
+    r.new_of_old[old_of_new[i]] = static_cast<NodeId>(i);
+  r.old_of_new = std::move(old_of_new);
+  return r;
+}
+
+// Breadth-first order from `start`, neighbours taken by increasing degree; returns the
+// visit order of the component and marks it.
+void breadth_first(const NeighbourGraph& g, NodeId start, std::vector<bool>& seen,
+                   std::vector<NodeId>& order) {
+  std::size_t head = order.size();
+  order.push_back(start);
+  seen[start] = true;
+  std::vector<NodeId> next;
+  while (head < order.size()) {
+    const NodeId v = order[head++];
+    next.clear();
+    for (auto e = g.offsets[v]; e < g.offsets[v + 1]; ++e) {
+      const NodeId w = g.targets[static_cast<std::size_t>(e)];
+      if (!seen[w]) seen[w] = true, next.push_back(w);
+    }
+    std::sort(next.begin(), next.end(), [&](NodeId a, NodeId b) {
+      return g.degree(a) < g.degree(b) || (g.degree(a) == g.degree(b) && a < b);
+    });
+    order.insert(order.end(), next.begin(), next.end());
+  }
+}
+
+std::vector<NodeId> cuthill_mckee(const NeighbourGraph& g) {
+  const std::size_t n = g.nodes();
+  std::vector<bool> seen(n, false), probe(n, false);
+  std::vector<NodeId> order, trial;
+  order.reserve(n);
+  for (std::size_t s = 0; s < n; ++s) {
+    if (seen[s]) continue;
+    // A far node: the last one reached by a breadth-first search from s (one sweep of the
+    // usual pseudo-peripheral heuristic; common practice, no source).
+    trial.clear();
+    breadth_first(g, static_cast<NodeId>(s), probe, trial);
+    breadth_first(g, trial.back(), seen, order);
+  }
+  std::reverse(order.begin(), order.end());
+  return order;
+}
+
+// Interleaves the low 21 bits of x, y and z.
+std::uint64_t spread_bits(std::uint64_t v) {
+  v &= 0x1fffff;
+  v = (v | v << 32) & 0x1f00000000ffffull;
+  v = (v | v << 16) & 0x1f0000ff0000ffull;
+  v = (v | v << 8) & 0x100f00f00f00f00full;
+  v = (v | v << 4) & 0x10c30c30c30c30c3ull;
+  v = (v | v << 2) & 0x1249249249249249ull;
+  return v;
+}
+
+std::vector<NodeId> morton(const PointSet& p) {
+  const std::size_t n = p.rows, d = p.cols;
+  const std::size_t m = std::min<std::size_t>(3, d);
+  // First m principal directions of the points (the points themselves when d <= 3).
+  Eigen::MatrixXd axes =
+      Eigen::MatrixXd::Identity(static_cast<Eigen::Index>(d), static_cast<Eigen::Index>(m));
+  Eigen::VectorXd mean = Eigen::VectorXd::Zero(static_cast<Eigen::Index>(d));
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t j = 0; j < d; ++j) mean(static_cast<Eigen::Index>(j)) += p.row(i)[j];
+  mean /= static_cast<double>(n);
+  if (d > 3) {
+    Eigen::MatrixXd cov =
+        Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(d), static_cast<Eigen::Index>(d));
+    for (std::size_t i = 0; i < n; ++i) {
+      const Eigen::VectorXd x =
+          Eigen::Map<const Eigen::VectorXf>(p.row(i), static_cast<Eigen::Index>(d)).cast<double>() -
+          mean;
+      cov.selfadjointView<Eigen::Lower>().rankUpdate(x);
+    }
+    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(cov.selfadjointView<Eigen::Lower>());
+    axes = eig.eigenvectors().rightCols(static_cast<Eigen::Index>(m)).rowwise().reverse();
+  }
+  std::vector<double> coord(n * m);
+  std::vector<double> lo(m, INFINITY), hi(m, -INFINITY);
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t a = 0; a < m; ++a) {
+      double c = 0.0;
+      for (std::size_t j = 0; j < d; ++j)
+        c += (p.row(i)[j] - mean(static_cast<Eigen::Index>(j))) *
+             axes(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(a));
+      coord[i * m + a] = c;
+      lo[a] = std::min(lo[a], c);
+      hi[a] = std::max(hi[a], c);
+    }
+  // One common scale keeps the cells cubes, so the curve follows the geometry.
+  double width = 0.0;
+  for (std::size_t a = 0; a < m; ++a) width = std::max(width, hi[a] - lo[a]);
+  const double cells = width > 0.0 ? 2097151.0 / width : 0.0;
+  std::vector<std::pair<std::uint64_t, NodeId>> keys(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    std::uint64_t key = 0;
+    for (std::size_t a = 0; a < m; ++a)
+      key |= spread_bits(static_cast<std::uint64_t>((coord[i * m + a] - lo[a]) * cells)) << a;
+    keys[i] = {key, static_cast<NodeId>(i)};
+  }
+  std::sort(keys.begin(), keys.end());
+  std::vector<NodeId> order(n);
+  for (std::size_t i = 0; i < n; ++i) order[i] = keys[i].second;
+  return order;
+}
+
+}  // namespace
+
+const char* node_order_name(NodeOrder order) {
+  switch (order) {
+    case NodeOrder::input:
+      return "input";
+    case NodeOrder::bfs:
+      return "bfs";
+    case NodeOrder::morton:
+      return "morton";
+    case NodeOrder::tree_leaves:
+      return "tree_leaves";
+  }
+  return "?";
+}
+
+Renumbering node_order(NodeOrder order, const NeighbourGraph& graph, const PointSet& node_points) {
+  const std::size_t n = graph.nodes();
+  if ((order == NodeOrder::morton || order == NodeOrder::tree_leaves) && node_points.rows != n)
+    throw OptionError(std::string("--order ") + node_order_name(order) +
+                      ": needs the points of all " + std::to_string(n) + " nodes, got " +
+                      std::to_string(node_points.rows));
+  switch (order) {
+    case NodeOrder::input: {
+      std::vector<NodeId> id(n);
+      std::iota(id.begin(), id.end(), NodeId{0});
+      return from_old_of_new(std::move(id));
+    }
+    case NodeOrder::bfs:
+      return from_old_of_new(cuthill_mckee(graph));
+    case NodeOrder::morton:
+      return from_old_of_new(n ? morton(node_points) : std::vector<NodeId>{});
+    case NodeOrder::tree_leaves:
+      return from_old_of_new(detail::tree_leaf_order(node_points));
+  }
+  throw InternalError("node_order: unknown order");
+}
+
+NeighbourGraph renumber(const NeighbourGraph& g, const Renumbering& r) {
+  const std::size_t n = g.nodes();
+  if (r.new_of_old.size() != n || r.old_of_new.size() != n)
+    throw InternalError("renumber: the renumbering does not match the graph");
+  NeighbourGraph out;
+  out.offsets.assign(n + 1, 0);
+  for (std::size_t v = 0; v < n; ++v)
+    out.offsets[v + 1] = out.offsets[v] + static_cast<std::int64_t>(g.degree(r.old_of_new[v]));
+  out.targets.resize(g.targets.size());
+  out.lengths.resize(g.lengths.size());
+  detail::parallel_chunks(n, 4096, {}, "reorder", [&](std::size_t b, std::size_t e) {
+    std::vector<std::pair<NodeId, float>> row;
+    for (std::size_t v = b; v < e; ++v) {
+      const NodeId old = r.old_of_new[v];
+      row.clear();
+      for (auto k = g.offsets[old]; k < g.offsets[old + 1]; ++k)
+        row.push_back({r.new_of_old[g.targets[static_cast<std::size_t>(k)]],
+                       g.lengths[static_cast<std::size_t>(k)]});
+      std::sort(row.begin(), row.end());
+      for (std::size_t k = 0; k < row.size(); ++k) {
+        out.targets[static_cast<std::size_t>(out.offsets[v]) + k] = row[k].first;
+        out.lengths[static_cast<std::size_t>(out.offsets[v]) + k] = row[k].second;
+      }
+    }
+  });
+  return out;
+}
+
+}  // namespace unfurl

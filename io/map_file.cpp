@@ -1,0 +1,172 @@
+#include "io/map_file.hpp"
+
+#include <chrono>
+#include <ctime>
+#include <set>
+
+#include "engine/error.hpp"
+#include "io/atomic_output.hpp"
+#include "io/detail/file_stamp.hpp"
+#include "io/detail/h5_json.hpp"
+#include "io/hdf5_file.hpp"
+
+namespace unfurl::io {
+namespace {
+
+namespace fs = std::filesystem;
+using nlohmann::json;
+
+// Datasets above this size are chunked and deflated at the fastest level: map coordinates
+// compress little, geodesic rows somewhat, and level 1 keeps the write near disk speed.
+constexpr std::size_t compress_above_bytes = std::size_t{4} << 20;
+
+H5WriteOptions layout_for(std::size_t bytes) {
+  return H5WriteOptions{bytes > compress_above_bytes ? 1 : 0};
+}
+
+void check_sizes(const fs::path& path, const MapContents& c) {
+  const auto fail = [&](const std::string& what) {
+    throw InternalError(path.string() + ": map contents disagree: " + what);
+  };
+  const std::size_t n = c.coords.rows, m = c.coords.cols;
+  if (c.coords.values.size() != n * m) fail("/coords holds a wrong number of values");
+  if (c.rows.size() != n)
+    fail("/rows has " + std::to_string(c.rows.size()) + " entries, N is " + std::to_string(n));
+  const std::size_t l = c.landmark_rows.size();
+  if (c.landmark_coords.size() != l * m) fail("/landmarks/coords is not L x m");
+  if (c.landmark_geodesic) {
+    const DistanceRows& g = *c.landmark_geodesic;
+    if (g.rows != l || g.cols != n || g.values.size() != l * n || g.sources.size() != l)
+      fail("/landmarks/geodesic is not L x N with L sources");
+  }
+  if (!c.attributes.is_object()) fail("attributes are not an object");
+}
+
+}  // namespace
+
+std::string utc_now_iso8601() {
+  return detail::iso8601_utc(
+      std::chrono::system_clock::to_time_t(std::chrono::system_clock::now()));
+}
+
+json input_identity(const fs::path& file, const std::string& dataset) {
+  std::error_code ec;
+  const auto bytes = fs::file_size(file, ec);
+  if (ec) throw MissingInputError(file.string() + ": cannot read file size: " + ec.message());
+  const auto modified = fs::last_write_time(file, ec);
+  if (ec) throw MissingInputError(file.string() + ": cannot read modification time");
+  const auto system = std::chrono::file_clock::to_sys(modified);
+  return {{"path", fs::absolute(file).string()},
+          {"dataset", dataset},
+          {"bytes", static_cast<std::int64_t>(bytes)},
+          {"modified", detail::iso8601_utc(std::chrono::system_clock::to_time_t(system))}};
+}
+
+void write_map(const fs::path& path, const MapContents& c) {
+  check_sizes(path, c);
+  AtomicOutput output(path);
+  {
+    H5Writer out(output.temp_path());
+    const std::size_t n = c.coords.rows, m = c.coords.cols, l = c.landmark_rows.size();
+    out.write("/coords", c.coords.values, {n, m}, layout_for(c.coords.values.size() * 4));
+    out.write("/rows", c.rows, {n});
+    out.write("/landmarks/rows", c.landmark_rows, {l});
+    out.write("/landmarks/coords", c.landmark_coords, {l, m});
+    if (c.landmark_geodesic) {
+      const DistanceRows& g = *c.landmark_geodesic;
+      out.write("/landmarks/geodesic", g.values, {l, n}, layout_for(g.values.size() * 4));
+      out.write("/landmarks/nodes", g.sources, {l});
+    }
+    out.write("/spectrum", c.spectrum, {c.spectrum.size()});
+    for (const MapArray& extra : c.extras) {
+      if (extra.path.empty() || extra.path[0] != '/')
+        throw InternalError(path.string() + ": extra dataset path '" + extra.path +
+                            "' is not absolute");
+      out.write(extra.path, extra.values, extra.dims, layout_for(extra.values.size() * 8));
+      detail::write_json_attributes(out, extra.path, extra.attributes);
+    }
+    detail::write_json_attributes(out, "/",
+                                  detail::stamp_attributes(c.attributes, map_format_version));
+    out.close();
+  }
+  output.commit();
+}
+
+namespace {
+
+const std::set<std::string> layout_datasets = {
+    "/coords",          "/rows",    "/landmarks/rows", "/landmarks/coords", "/landmarks/geodesic",
+    "/landmarks/nodes", "/spectrum"};
+
+void expect_length(const H5Reader& in, const std::string& dataset, std::size_t got,
+                   std::size_t want, const char* what) {
+  if (got != want)
+    throw DataError(in.path().string() + ": " + dataset + ": has " + std::to_string(got) +
+                    " entries, expected " + std::to_string(want) + " (" + what + ")");
+}
+
+}  // namespace
+
+MapContents read_map(const fs::path& path, bool with_geodesic) {
+  H5Reader in(path);
+  detail::check_format_version(in, map_format_version, "map file");
+  MapContents c;
+  const auto coords = in.require_rank("/coords", 2);
+  c.coords.rows = coords.dims[0];
+  c.coords.cols = coords.dims[1];
+  c.coords.values = in.read<float>("/coords");
+  const std::size_t n = c.coords.rows, m = c.coords.cols;
+  in.require_rank("/rows", 1);
+  c.rows = in.read<std::int64_t>("/rows");
+  expect_length(in, "/rows", c.rows.size(), n, "one per row of /coords");
+
+  if (in.has("/landmarks/rows")) {
+    in.require_rank("/landmarks/rows", 1);
+    c.landmark_rows = in.read<std::int64_t>("/landmarks/rows");
+  }
+  const std::size_t l = c.landmark_rows.size();
+  if (in.has("/landmarks/coords") || l > 0) {
+    const auto lc = in.require_rank("/landmarks/coords", 2);
+    if (lc.dims[0] != l || lc.dims[1] != m)
+      throw DataError(path.string() + ": /landmarks/coords: is " + std::to_string(lc.dims[0]) +
+                      " x " + std::to_string(lc.dims[1]) +
+                      ", expected L x m = " + std::to_string(l) + " x " + std::to_string(m));
+    c.landmark_coords = in.read<double>("/landmarks/coords");
+  }
+  if (with_geodesic && in.has("/landmarks/geodesic")) {
+    const auto g = in.require_rank("/landmarks/geodesic", 2);
+    if (g.dims[0] != l || g.dims[1] != n)
+      throw DataError(path.string() + ": /landmarks/geodesic: is " + std::to_string(g.dims[0]) +
+                      " x " + std::to_string(g.dims[1]) +
+                      ", expected L x N = " + std::to_string(l) + " x " + std::to_string(n));
+    DistanceRows rows;
+    rows.rows = l;
+    rows.cols = n;
+    rows.values = in.read<float>("/landmarks/geodesic");
+    in.require_rank("/landmarks/nodes", 1);
+    rows.sources = in.read<NodeId>("/landmarks/nodes");
+    expect_length(in, "/landmarks/nodes", rows.sources.size(), l, "one per landmark");
+    for (NodeId s : rows.sources)
+      if (s >= n)
+        throw DataError(path.string() + ": /landmarks/nodes: node " + std::to_string(s) +
+                        " is not a map row (N = " + std::to_string(n) + ")");
+    c.landmark_geodesic = std::move(rows);
+  }
+  if (in.has("/spectrum")) {
+    in.require_rank("/spectrum", 1);
+    c.spectrum = in.read<double>("/spectrum");
+  }
+  for (const std::string& name : in.datasets_under("/")) {
+    if (layout_datasets.count(name)) continue;
+    MapArray extra;
+    extra.path = name;
+    extra.dims = in.info(name).dims;
+    extra.values = in.read<double>(name);
+    extra.attributes = detail::read_json_attributes(in, name);
+    c.extras.push_back(std::move(extra));
+  }
+  c.attributes = detail::read_json_attributes(in, "/");
+  return c;
+}
+
+}  // namespace unfurl::io

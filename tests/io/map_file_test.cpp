@@ -1,0 +1,257 @@
+#include "io/map_file.hpp"
+
+#include <catch2/catch.hpp>
+#include <cmath>
+
+#include "engine/error.hpp"
+#include "engine/random.hpp"
+#include "io/detail/hdf5_sandbox.hpp"
+#include "io/hdf5_file.hpp"
+#include "tests/io/temp_folder.hpp"
+
+namespace {
+
+using unfurl::io::MapContents;
+namespace fs = std::filesystem;
+
+// Contents with every field filled from a seeded generator; values have no pattern a
+// wrong index could reproduce by chance.
+MapContents sample_map(std::size_t n, std::size_t m, std::size_t l, bool geodesic) {
+  unfurl::Random rng(17);
+  MapContents c;
+  c.coords = unfurl::PointSet(n, m);
+  for (auto& v : c.coords.values) v = static_cast<float>(rng.uniform() * 200.0 - 100.0);
+  for (std::size_t i = 0; i < n; ++i) c.rows.push_back(static_cast<std::int64_t>(3 * i + 1));
+  for (std::size_t j = 0; j < l; ++j) c.landmark_rows.push_back(c.rows[j * 2]);
+  for (std::size_t k = 0; k < l * m; ++k) c.landmark_coords.push_back(rng.uniform() - 0.5);
+  if (geodesic) {
+    unfurl::DistanceRows g;
+    g.rows = l;
+    g.cols = n;
+    for (std::size_t j = 0; j < l; ++j) g.sources.push_back(static_cast<unfurl::NodeId>(2 * j));
+    for (std::size_t k = 0; k < l * n; ++k) g.values.push_back(static_cast<float>(rng.uniform()));
+    c.landmark_geodesic = g;
+  }
+  for (std::size_t j = 0; j < l; ++j) c.spectrum.push_back(100.0 / (j + 1));
+  c.extras.push_back({"/quality/trustworthiness",
+                      {0.97, 0.95},
+                      {2},
+                      {{"k", {5, 10}}, {"method", "exact"}, {"sample_size", 40}}});
+  c.extras.push_back({"/quality/residual_variance", {0.0125}, {}, {{"dims", 2}}});
+  c.extras.push_back(
+      {"/graph/degree_histogram", {0, 3, 5, 1, 0, 2}, {3, 2}, nlohmann::json::object()});
+  c.attributes = {{"seed", 12345},
+                  {"input", {{"path", "/data/buoys.h5"}, {"dataset", "/points"}, {"bytes", 999}}},
+                  {"parameters", {{"k", 10}, {"dims", 2}, {"pick", "maxmin"}, {"radius", 0.5}}},
+                  {"stage_times", {{"graph", 1.25}, {"geodesic", 3.5}}},
+                  {"creation_time", "2026-12-01T17:00:00Z"}};
+  return c;
+}
+
+void check_same(const MapContents& a, const MapContents& b, bool geodesic) {
+  CHECK(a.coords.rows == b.coords.rows);
+  CHECK(a.coords.cols == b.coords.cols);
+  CHECK(a.coords.values == b.coords.values);
+  CHECK(a.rows == b.rows);
+  CHECK(a.landmark_rows == b.landmark_rows);
+  CHECK(a.landmark_coords == b.landmark_coords);
+  CHECK(a.spectrum == b.spectrum);
+  REQUIRE(b.landmark_geodesic.has_value() == geodesic);
+  if (geodesic) {
+    CHECK(a.landmark_geodesic->rows == b.landmark_geodesic->rows);
+    CHECK(a.landmark_geodesic->cols == b.landmark_geodesic->cols);
+    CHECK(a.landmark_geodesic->sources == b.landmark_geodesic->sources);
+    CHECK(a.landmark_geodesic->values == b.landmark_geodesic->values);
+  }
+  // Extras come back sorted by path.
+  REQUIRE(b.extras.size() == 3);
+  for (const auto& want : a.extras) {
+    const auto got = std::find_if(b.extras.begin(), b.extras.end(),
+                                  [&](const auto& e) { return e.path == want.path; });
+    REQUIRE(got != b.extras.end());
+    CHECK(got->values == want.values);
+    CHECK(got->dims == want.dims);
+    CHECK(got->attributes == want.attributes);
+  }
+  for (const auto& [key, value] : a.attributes.items()) CHECK(b.attributes.at(key) == value);
+}
+
+}  // namespace
+
+TEST_CASE("map file round trips every field", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  for (bool geodesic : {true, false}) {
+    const auto path = dir / (geodesic ? "with.h5" : "without.h5");
+    const MapContents written = sample_map(60, 3, 7, geodesic);
+    unfurl::io::write_map(path, written);
+    const MapContents read = unfurl::io::read_map(path, true);
+    check_same(written, read, geodesic);
+    CHECK(read.attributes.at("format_version") == 1);
+    CHECK(read.attributes.at("program_version") == UNFURL_VERSION);
+    CHECK(read.attributes.at("creation_time") == "2026-12-01T17:00:00Z");  // caller's wins
+    CHECK(read.attributes.at("peak_memory_bytes").get<std::int64_t>() > 0);
+    CHECK_FALSE(read.attributes.at("host").get<std::string>().empty());
+    // The geodesic rows are only read on request.
+    CHECK_FALSE(unfurl::io::read_map(path).landmark_geodesic.has_value());
+  }
+  // Parameters are also plain attributes, one each, for readers that know no JSON.
+  unfurl::io::H5Reader in(dir / "with.h5");
+  CHECK(in.int_attribute("/", "parameters.k") == 10);
+  CHECK(in.string_attribute("/", "parameters.pick") == "maxmin");
+  CHECK(in.double_attribute("/", "parameters.radius") == 0.5);
+  CHECK(nlohmann::json::parse(in.string_attribute("/", "parameters")).at("dims") == 2);
+}
+
+TEST_CASE("map file of a large map is chunked and still exact", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  MapContents big = sample_map(400000, 3, 4, true);  // /coords 4.8 MB: above the threshold
+  unfurl::io::write_map(dir / "big.h5", big);
+  const MapContents read = unfurl::io::read_map(dir / "big.h5", true);
+  CHECK(read.coords.values == big.coords.values);
+  CHECK(read.landmark_geodesic->values == big.landmark_geodesic->values);
+}
+
+TEST_CASE("map file of an empty map round trips", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  MapContents c;
+  c.coords = unfurl::PointSet(0, 2);
+  unfurl::io::write_map(dir / "empty.h5", c);
+  const MapContents read = unfurl::io::read_map(dir / "empty.h5");
+  CHECK(read.coords.rows == 0);
+  CHECK(read.coords.cols == 2);
+  CHECK(read.rows.empty());
+}
+
+TEST_CASE("a failed map write leaves the earlier map byte-identical", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  const auto path = dir / "map.h5";
+  unfurl::io::write_map(path, sample_map(30, 2, 4, false));
+  const std::string before = unfurl::test::file_bytes(path);
+  REQUIRE(before.size() > 0);
+
+  CHECK_THROWS_AS(
+      unfurl::io::write_map(dir / "missing-folder" / "map.h5", sample_map(5, 2, 1, false)),
+      unfurl::OutputError);
+  CHECK_THROWS_AS(unfurl::io::write_map(dir.path(), sample_map(5, 2, 1, false)),
+                  unfurl::OutputError);
+  // Part way: the layout datasets are written, then an extra collides with /coords.
+  MapContents clash = sample_map(10, 2, 3, true);
+  clash.extras.push_back({"/coords", {1.0}, {1}, {}});
+  CHECK_THROWS_AS(unfurl::io::write_map(path, clash), unfurl::IoError);
+  // Part way: an extra whose values do not fill its dims (a caller's bug).
+  MapContents ragged = sample_map(10, 2, 3, true);
+  ragged.extras.push_back({"/quality/bad", {1.0, 2.0, 3.0}, {2, 2}, {}});
+  CHECK_THROWS_AS(unfurl::io::write_map(path, ragged), unfurl::InternalError);
+  // Before writing: sizes that disagree.
+  MapContents short_rows = sample_map(10, 2, 3, false);
+  short_rows.rows.pop_back();
+  CHECK_THROWS_AS(unfurl::io::write_map(path, short_rows), unfurl::InternalError);
+
+  CHECK(unfurl::test::file_bytes(path) == before);
+  CHECK(dir.entries() == std::vector<std::string>{"map.h5"});  // no temporary file left
+}
+
+TEST_CASE("map reader rejects damaged and foreign files", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  const auto good = dir / "good.h5";
+  unfurl::io::write_map(good, sample_map(200, 2, 5, true));
+  const std::string bytes = unfurl::test::file_bytes(good);
+
+  SECTION("truncated at many points") {
+    for (std::size_t cut : {std::size_t{0}, std::size_t{7}, std::size_t{100}, bytes.size() / 3,
+                            bytes.size() / 2, bytes.size() - 100, bytes.size() - 1}) {
+      unfurl::test::write_bytes(dir / "cut.h5", bytes.substr(0, cut));
+      CAPTURE(cut);
+      CHECK_THROWS_AS(unfurl::io::read_map(dir / "cut.h5", true), unfurl::IoError);
+    }
+  }
+  SECTION("random bytes") {
+    unfurl::Random rng(5);
+    std::string noise(4096, '\0');
+    for (auto& ch : noise) ch = static_cast<char>(rng.uniform() * 256);
+    unfurl::test::write_bytes(dir / "noise.h5", noise);
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "noise.h5"), unfurl::IoError);
+  }
+  SECTION("missing file") {
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "absent.h5"), unfurl::MissingInputError);
+  }
+  SECTION("newer format version") {
+    unfurl::io::H5Writer out(dir / "newer.h5");
+    out.write("/coords", std::vector<float>{1, 2}, {1, 2});
+    out.write("/rows", std::vector<std::int64_t>{0}, {1});
+    out.set_int_attribute("/", "format_version", 7);
+    out.close();
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "newer.h5"), unfurl::DataError);
+    CHECK_THROWS_WITH(unfurl::io::read_map(dir / "newer.h5"),
+                      Catch::Contains("newer.h5: written by a newer unfurl: format version 7, "
+                                      "this reads up to 1"));
+  }
+  SECTION("missing /coords, or sizes that disagree") {
+    {
+      unfurl::io::H5Writer out(dir / "nocoords.h5");
+      out.write("/rows", std::vector<std::int64_t>{0}, {1});
+      out.set_int_attribute("/", "format_version", 1);
+      out.close();
+    }
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "nocoords.h5"), unfurl::MissingInputError);
+    CHECK_THROWS_WITH(unfurl::io::read_map(dir / "nocoords.h5"), Catch::Contains("/coords"));
+    {
+      unfurl::io::H5Writer out(dir / "shortrows.h5");
+      out.write("/coords", std::vector<float>{1, 2, 3, 4}, {2, 2});
+      out.write("/rows", std::vector<std::int64_t>{0}, {1});
+      out.set_int_attribute("/", "format_version", 1);
+      out.close();
+    }
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "shortrows.h5"), unfurl::DataError);
+    CHECK_THROWS_WITH(unfurl::io::read_map(dir / "shortrows.h5"), Catch::Contains("/rows"));
+    {
+      unfurl::io::H5Writer out(dir / "flat.h5");
+      out.write("/coords", std::vector<float>{1, 2, 3, 4}, {4});
+      out.set_int_attribute("/", "format_version", 1);
+      out.close();
+    }
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "flat.h5"), unfurl::DataError);
+  }
+  SECTION("not a map at all") {
+    unfurl::io::H5Writer out(dir / "other.h5");
+    out.write("/points", std::vector<float>{1, 2}, {1, 2});
+    out.close();
+    CHECK_THROWS_WITH(unfurl::io::read_map(dir / "other.h5"), Catch::Contains("no format_version"));
+  }
+}
+
+TEST_CASE("input identity names the file, its size and time", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  unfurl::test::write_bytes(dir / "in.csv", "1,2\n3,4\n");
+  const auto id = unfurl::io::input_identity(dir / "in.csv", "");
+  CHECK(id.at("bytes") == 8);
+  CHECK(id.at("path").get<std::string>().find("in.csv") != std::string::npos);
+  CHECK(id.at("modified").get<std::string>().size() == 20);
+  CHECK_THROWS_AS(unfurl::io::input_identity(dir / "absent", ""), unfurl::MissingInputError);
+}
+
+TEST_CASE("map reader survives flipped bytes without crashing", "[map_file]") {
+  // Corruption anywhere must end in success or one of our exceptions: never a crash, never
+  // a foreign exception type.
+  unfurl::test::TempFolder dir;
+  unfurl::io::detail::set_hdf5_check_timeout(2.0);  // some damage sends HDF5 into a loop
+  unfurl::io::write_map(dir / "good.h5", sample_map(50, 2, 3, true));
+  const std::string bytes = unfurl::test::file_bytes(dir / "good.h5");
+  unfurl::Random rng(99);
+  int failures = 0;
+  for (int trial = 0; trial < 200; ++trial) {
+    std::string damaged = bytes;
+    for (int k = 0; k < 4; ++k) {
+      const auto at = static_cast<std::size_t>(rng.uniform() * static_cast<double>(bytes.size()));
+      damaged[at] = static_cast<char>(damaged[at] ^ (1 + static_cast<int>(rng.uniform() * 255)));
+    }
+    unfurl::test::write_bytes(dir / "bad.h5", damaged);
+    try {
+      (void)unfurl::io::read_map(dir / "bad.h5", true);
+    } catch (const unfurl::Error&) {
+      ++failures;
+    }
+  }
+  unfurl::io::detail::set_hdf5_check_timeout(30.0);
+  CHECK(failures > 0);  // some flips must have been noticed
+}
