@@ -114,7 +114,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a,
                     {"seconds", report["embedding"]["seconds"]}};
 
   io::write_map(a.output, map);
-  if (!a.csv.empty()) io::write_coords_csv(a.csv, map.coords, map.rows);
+  if (!a.csv.empty()) io::write_coordinates_csv(a.csv, map.coords, map.rows);
   report["peak_memory_bytes"] = peak_memory_bytes();
   if (!a.json.empty()) write_json_file(a.json, report);
   say(g, fmt::format("wrote {} (peak memory {})", a.output, human_bytes(peak_memory_bytes())));
