@@ -80,6 +80,11 @@ void add_map_options(CLI::App* cmd, MapArgs& a) {
       ->capture_default_str();
   cmd->add_flag("--keep-geodesics", a.keep_geodesics,
                 "Store the landmark geodesic rows in the map (needed to place new points)");
+  cmd->add_option("--node-order", a.node_order,
+                  "Node numbering for the shortest-path stage, for memory locality (it also "
+                  "decides which node the seed makes the first landmark)")
+      ->check(CLI::IsMember({"input", "bfs", "morton", "tree-leaves"}))
+      ->capture_default_str();
 }
 
 void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
@@ -89,6 +94,10 @@ void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
   o.landmarks.pick = a.pick == "random" ? Pick::random : Pick::maxmin;
   o.keep_geodesics = a.keep_geodesics;
   o.exact = a.landmarks == "all";
+  o.order = a.node_order == "input"         ? NodeOrder::input
+            : a.node_order == "morton"      ? NodeOrder::morton
+            : a.node_order == "tree-leaves" ? NodeOrder::tree_leaves
+                                            : NodeOrder::bfs;
   o.landmarks.count = 0;
   if (a.landmarks != "all" && a.landmarks != "auto") {
     std::size_t used = 0;

@@ -38,13 +38,16 @@ void write_scenario(const std::filesystem::path& path, const DemoArgs& a, const 
   {
     io::H5Writer w(out.temp_path());
     w.write("/points", s.points.values, {s.points.rows, s.points.cols}, {.gzip_level = 4});
-    w.write("/truth", s.truth.values, {s.truth.rows, s.truth.cols});
-    std::string names;
-    for (const auto& n : s.truth_names) names += (names.empty() ? "" : ",") + n;
-    w.set_string_attribute("/truth", "columns", names);
+    // The hidden quantities as 1-D datasets, so /points stays the file's only 2-D dataset
+    // and every command picks it without --dataset.
+    for (std::size_t c = 0; c < s.truth.cols; ++c) {
+      std::vector<float> column(s.truth.rows);
+      for (std::size_t i = 0; i < s.truth.rows; ++i) column[i] = s.truth.row(i)[c];
+      w.write("/truth/" + s.truth_names[c], column, {s.truth.rows});
+    }
     w.set_string_attribute("/", "scenario", a.scenario);
     w.set_string_attribute("/", "description",
-                           "invented demo data of unfurl; /truth holds the hidden quantities");
+                           "invented demo data of unfurl; /truth/* hold the hidden quantities");
     w.set_int_attribute("/", "seed", static_cast<std::int64_t>(seed));
     w.close();
   }

@@ -48,10 +48,31 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
     result.bridges.push_back({static_cast<NodeId>(point_of_node[e.from]),
                               static_cast<NodeId>(point_of_node[e.to]), e.length});
 
-  const NeighbourGraph& g = connected.graph;
+  // Renumber for locality: `g` holds node new_of_old[c] for connected node c.
+  watch = Stopwatch();
+  result.order = options.order;
+  if (node_points.rows == 0 &&
+      (options.order == NodeOrder::morton || options.order == NodeOrder::tree_leaves))
+    result.order = NodeOrder::bfs;
+  PointSet ordered_points;
+  if (node_points.rows > 0 && result.order != NodeOrder::bfs && result.order != NodeOrder::input) {
+    ordered_points = PointSet(connected.old_of_new.size(), node_points.cols);
+    for (std::size_t c = 0; c < connected.old_of_new.size(); ++c)
+      std::copy_n(node_points.row(connected.old_of_new[c]), node_points.cols,
+                  ordered_points.row(c));
+  }
+  const Renumbering order = node_order(result.order, connected.graph, ordered_points);
+  const NeighbourGraph g = renumber(connected.graph, order);
+  connected.graph = NeighbourGraph{};
+  result.seconds.order = watch.seconds();
+  // graph node -> node of g
   std::vector<NodeId> kept_of_node(graph.nodes(), kNoNode);
   for (std::size_t c = 0; c < connected.old_of_new.size(); ++c)
-    kept_of_node[connected.old_of_new[c]] = static_cast<NodeId>(c);
+    kept_of_node[connected.old_of_new[c]] = order.new_of_old[c];
+  // node of g -> graph node
+  std::vector<NodeId> node_of_kept(g.nodes());
+  for (std::size_t c = 0; c < connected.old_of_new.size(); ++c)
+    node_of_kept[order.new_of_old[c]] = connected.old_of_new[c];
 
   watch = Stopwatch();
   SpectralOptions spectral = options.spectral;
@@ -67,16 +88,15 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
     result.landmarks.threads = gs.threads;
     watch = Stopwatch();
     map = exact_mds(all, spectral, stop);
-    std::vector<NodeId> picked;
     if (options.keep_geodesics) {
-      picked.resize(all.rows);
-      std::iota(picked.begin(), picked.end(), NodeId{0});
+      rows_for_output = std::move(all);
     } else {
+      std::vector<NodeId> picked;
       const std::size_t count = std::min(all.rows, kExactScoringRows);
       for (std::size_t i = 0; i < count; ++i)
         picked.push_back(static_cast<NodeId>(i * all.rows / count));
+      rows_for_output = select_rows(all, picked);
     }
-    rows_for_output = select_rows(all, picked);
   } else {
     LandmarkOptions lo = options.landmarks;
     lo.dims = spectral.dims;
@@ -114,23 +134,36 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
   std::vector<std::size_t> map_row_of_kept(g.nodes(), 0);
   for (std::size_t r = result.rows.size(); r-- > 0;)  // the first row of a duplicate group wins
     map_row_of_kept[kept_of_point[result.rows[r]]] = r;
+  // Columns from node order to map-row order. Without duplicates the map has one row per
+  // node and the rows are permuted in place (one row of scratch), so the L x N rows, the
+  // largest array of a landmark run, exist once; duplicates widen the rows into a new array.
   DistanceRows& geo = result.geodesic;
-  geo.rows = rows_for_output.rows;
+  const bool in_place = result.rows.size() == g.nodes();
+  if (in_place) geo = std::move(rows_for_output);
+  const DistanceRows& from_rows = in_place ? geo : rows_for_output;
+  std::vector<NodeId> sources = from_rows.sources;
+  if (!in_place) {
+    geo.rows = from_rows.rows;
+    geo.values.resize(from_rows.rows * result.rows.size());
+  }
   geo.cols = result.rows.size();
-  geo.values.resize(geo.rows * geo.cols);
+  geo.sources.clear();
+  std::vector<float> scratch(in_place ? g.nodes() : 0);
   for (std::size_t l = 0; l < geo.rows; ++l) {
-    const NodeId kept = rows_for_output.sources[l];
-    result.landmark_rows.push_back(point_of_node[connected.old_of_new[kept]]);
+    const NodeId kept = sources[l];
+    result.landmark_rows.push_back(point_of_node[node_of_kept[kept]]);
     geo.sources.push_back(static_cast<NodeId>(map_row_of_kept[kept]));
-    const float* from = rows_for_output.row(l);
+    const float* from = in_place ? scratch.data() : from_rows.row(l);
+    if (in_place) std::copy_n(geo.row(l), g.nodes(), scratch.data());
     float* to = geo.row(l);
     for (std::size_t r = 0; r < geo.cols; ++r) to[r] = from[kept_of_point[result.rows[r]]];
   }
+  rows_for_output = DistanceRows{};
   if (options.exact && !options.keep_geodesics) {
     // landmark_rows lists every node in exact mode, in node order.
     result.landmark_rows.clear();
     for (NodeId k = 0; k < g.nodes(); ++k)
-      result.landmark_rows.push_back(point_of_node[connected.old_of_new[k]]);
+      result.landmark_rows.push_back(point_of_node[node_of_kept[k]]);
   }
   result.seconds.total = total.seconds();
   return result;
@@ -161,12 +194,10 @@ EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, St
   result.seconds.graph = watch.seconds();
   result.graph = gr.summary;
   append_warnings(result.warnings, "graph", gr.summary.warnings);
-  PointSet node_points;
-  if (options.components.policy == ComponentPolicy::bridge) {
-    node_points = PointSet(gr.point_of_node.size(), points.cols);
-    for (std::size_t v = 0; v < gr.point_of_node.size(); ++v)
-      std::copy_n(points.row(gr.point_of_node[v]), points.cols, node_points.row(v));
-  }
+  // The points of the nodes (duplicates merged): for bridging and point-based node orders.
+  PointSet node_points(gr.point_of_node.size(), points.cols);
+  for (std::size_t v = 0; v < gr.point_of_node.size(); ++v)
+    std::copy_n(points.row(gr.point_of_node[v]), points.cols, node_points.row(v));
   return embed_connected(gr.graph, gr.node_of_point, gr.point_of_node, node_points, options, stop,
                          std::move(result), total);
 }

@@ -18,6 +18,7 @@
 #include "engine/geodesic.hpp"
 #include "engine/landmarks.hpp"
 #include "engine/neighbours.hpp"
+#include "engine/reorder.hpp"
 #include "engine/spectral.hpp"
 #include "engine/stop.hpp"
 
@@ -30,12 +31,15 @@ struct EmbedOptions {
   LandmarkOptions landmarks;    // landmark count and pick rule (landmark mode)
   SpectralOptions spectral;     // map dimensions and eigen solver settings
   bool keep_geodesics = false;  // return the landmark rows, columns in map-row order
+  // Node order for the shortest-path stage (memory locality; results map back to input
+  // order). morton and tree_leaves need points: for a given graph they fall back to bfs.
+  NodeOrder order = NodeOrder::bfs;
   // Throws OptionError naming the field; `points` is the number of input points.
   void validate(std::size_t points) const;
 };
 
 struct StageSeconds {
-  double graph = 0, components = 0, geodesics = 0, spectral = 0, total = 0;
+  double graph = 0, components = 0, order = 0, geodesics = 0, spectral = 0, total = 0;
 };
 
 struct EmbedResult {
@@ -54,6 +58,7 @@ struct EmbedResult {
   std::vector<BridgeEdge> bridges;  // as input points (from, to), when bridged
   LandmarkSummary landmarks;
   SpectralSummary spectral;
+  NodeOrder order = NodeOrder::input;  // the node order the geodesics ran in
   StageSeconds seconds;
   std::vector<std::string> warnings;  // every stage's warnings, prefixed by stage
 };
