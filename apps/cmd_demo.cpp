@@ -91,14 +91,13 @@ void run_demo(const GlobalOptions& g, DemoArgs& a) {
                      set.points.rows, set.points.cols, a.scenario, data.string()));
   if (a.data_only) return;
 
-  io::PointReadResult in;
+  JobInput in;
   in.points = set.points;
   in.rows.resize(set.points.rows);
   for (std::size_t i = 0; i < in.rows.size(); ++i) in.rows[i] = static_cast<std::int64_t>(i);
-  in.format = "hdf5";
-  in.dataset = "/points";
+  in.identity = io::input_identity(data, "/points");
   EmbedResult result;
-  run_embed_job(g, a.embed, in, io::input_identity(data, "/points"), &result);
+  run_embed_job(g, a.embed, std::move(in), &result);
 
   for (std::size_t c = 0; c < set.truth.cols; ++c) {
     std::size_t best = 0;

@@ -1,29 +1,89 @@
-// `unfurl embed POINTS -o MAP.h5`: the main job, from a point file to a scored map file.
+// `unfurl embed INPUT -o MAP.h5`: the main job, from a point file (or a given graph: an edge
+// list, a partial distance matrix, or a graph saved by `unfurl graph`) to a scored map file.
 #include <fmt/core.h>
 
 #include <memory>
+#include <numeric>
 
 #include "apps/embed_job.hpp"
+#include "engine/graph_build.hpp"
+#include "io/graph_file.hpp"
+#include "io/graph_input.hpp"
 #include "io/map_file.hpp"
 
 namespace unfurl::app {
+namespace {
+
+JobInput read_points_input(const GlobalOptions& g, const EmbedArgs& a) {
+  io::PointReadResult r = io::read_points(a.input.file, to_read_options(a.input));
+  say(g,
+      fmt::format("points: {} rows x {} columns from {}{} ({:.2f} s)", r.points.rows, r.points.cols,
+                  a.input.file, r.dataset.empty() ? "" : ":" + r.dataset, r.read_seconds));
+  if (!r.dropped_rows.empty())
+    say(g, fmt::format("points: {} rows with non-finite values dropped", r.dropped_rows.size()));
+  JobInput in;
+  in.identity = io::input_identity(a.input.file, r.dataset);
+  in.points = std::move(r.points);
+  in.rows = std::move(r.rows);
+  in.dropped_rows = std::move(r.dropped_rows);
+  return in;
+}
+
+JobInput read_graph_input(const GlobalOptions& g, const EmbedArgs& a) {
+  JobInput in;
+  if (a.input_kind == "edges") {
+    const io::EdgeList e = io::read_edge_list(a.input.file);
+    in.graph = graph_from_edges(e.nodes, e.from, e.to, e.length);
+    say(g, fmt::format("edges: {} nodes, {} edges from {}", e.nodes, e.from.size(), a.input.file));
+  } else if (a.input_kind == "distances") {
+    io::DistanceMatrixOptions o;
+    if (!a.input.dataset.empty()) o.dataset = a.input.dataset;
+    if (!a.missing.empty()) {
+      try {
+        o.missing_value = std::stod(a.missing);
+      } catch (const std::exception&) {
+        throw OptionError("--missing: expected a number, got '" + a.missing + "'");
+      }
+    }
+    const io::PartialDistances d = io::read_partial_distances(a.input.file, o);
+    in.graph = graph_from_partial_distances(d.n, d.values);
+    say(g, fmt::format("distances: {} x {} with {} missing pairs, completed by shortest paths", d.n,
+                       d.n, d.missing_pairs));
+  } else {
+    io::GraphFile f = io::read_graph(a.input.file);
+    in.graph = std::move(f.graph);
+    in.rows = std::move(f.rows);
+    say(g, fmt::format("graph: {} nodes from {}", in.graph->nodes(), a.input.file));
+  }
+  if (in.rows.empty()) {
+    in.rows.resize(in.graph->nodes());
+    std::iota(in.rows.begin(), in.rows.end(), std::int64_t{0});
+  }
+  in.identity = io::input_identity(a.input.file, a.input.dataset);
+  return in;
+}
+
+}  // namespace
 
 void add_embed_command(CLI::App& app, GlobalOptions& g) {
   auto* cmd = app.add_subcommand("embed", "Unfold points into a map that follows their geodesics");
   auto args = std::make_shared<EmbedArgs>();
-  add_point_input(cmd, args->input, "POINTS");
+  add_point_input(cmd, args->input, "INPUT");
+  cmd->add_option("--input", args->input_kind,
+                  "What INPUT holds: points, an edge list (i, j, length), a distance matrix "
+                  "with missing entries, or a graph saved by `unfurl graph`")
+      ->check(CLI::IsMember({"points", "edges", "distances", "graph"}))
+      ->capture_default_str();
+  cmd->add_option("--missing", args->missing,
+                  "--input distances: the value that marks a missing entry (NaN always does)");
   cmd->add_option("-o,--out", args->output, "Map file to write (HDF5)")->required();
   add_embed_job_options(cmd, *args);
   cmd->callback([&g, args] {
     apply_globals(g);
     check_outputs(*args);
-    const io::PointReadResult in = io::read_points(args->input.file, to_read_options(args->input));
-    say(g, fmt::format("points: {} rows x {} columns from {}{} ({:.2f} s)", in.points.rows,
-                       in.points.cols, args->input.file, in.dataset.empty() ? "" : ":" + in.dataset,
-                       in.read_seconds));
-    if (!in.dropped_rows.empty())
-      say(g, fmt::format("points: {} rows with non-finite values dropped", in.dropped_rows.size()));
-    run_embed_job(g, *args, in, io::input_identity(args->input.file, in.dataset));
+    JobInput in =
+        args->input_kind == "points" ? read_points_input(g, *args) : read_graph_input(g, *args);
+    run_embed_job(g, *args, std::move(in));
   });
 }
 

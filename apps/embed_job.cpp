@@ -5,6 +5,7 @@
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
+#include "engine/linear.hpp"
 #include "io/atomic_output.hpp"
 #include "io/csv_writer.hpp"
 #include "io/map_file.hpp"
@@ -12,7 +13,7 @@
 namespace unfurl::app {
 namespace {
 
-// The input points of the map rows (drops and the component policy removed some).
+// The points of the map rows (the component policy may have removed some).
 PointSet rows_of(const PointSet& points, const std::vector<std::size_t>& rows) {
   if (rows.size() == points.rows) return points;
   PointSet out(rows.size(), points.cols);
@@ -32,17 +33,50 @@ void check_exact_memory(const EmbedArgs& a, const EmbedOptions& options, std::si
         n, human_bytes(need), human_bytes(limit)));
 }
 
+PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
+  PreprocessOptions o;
+  o.scale = a.scale == "standard" ? Scale::standard
+            : a.scale == "robust" ? Scale::robust
+                                  : Scale::none;
+  o.metric = a.metric == "cosine" ? Metric::cosine : Metric::euclidean;
+  o.pca = a.pre_pca;
+  return o;
+}
+
+// The fitted preprocessing, stored so that new points can be transformed the same way.
+void add_preprocess_arrays(const PreprocessModel& m, std::vector<io::MapArray>& out) {
+  const nlohmann::json attrs = {{"scale", scale_name(m.scale)},
+                                {"metric", metric_name(m.metric)},
+                                {"components", m.components},
+                                {"variance_kept", m.variance_kept}};
+  out.push_back({"/preprocess/centre", m.centre, {m.centre.size()}, attrs});
+  out.push_back({"/preprocess/spread", m.spread, {m.spread.size()}, attrs});
+  if (m.components > 0) {
+    out.push_back({"/preprocess/pca_mean", m.pca_mean, {m.pca_mean.size()}, attrs});
+    out.push_back({"/preprocess/axes", m.axes, {m.components, m.input_cols}, attrs});
+    out.push_back({"/preprocess/variances", m.variances, {m.variances.size()}, attrs});
+  }
+}
+
 nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const EmbedOptions& o,
                                const EmbedResult& r) {
-  return {{"k", o.graph.k},
+  return {{"input_kind", a.input_kind},
+          {"k", o.graph.k},
           {"radius", o.graph.radius},
           {"mutual", o.graph.mutual},
           {"search", a.graph.search},
           {"keep_duplicates", o.graph.keep_duplicates},
           {"disconnected", a.graph.disconnected},
+          {"scale", a.scale},
+          {"metric", a.metric},
+          {"pre_pca", a.pre_pca},
+          {"linear", a.linear},
           {"dims", o.spectral.dims},
-          {"landmarks", o.exact ? std::string("all") : std::to_string(r.landmarks.landmarks)},
+          {"landmarks", a.linear  ? std::string("none")
+                        : o.exact ? std::string("all")
+                                  : std::to_string(r.landmarks.landmarks)},
           {"pick", a.map.pick},
+          {"node_order", a.map.node_order},
           {"drop_nonfinite", a.input.drop_nonfinite},
           {"rows", a.input.rows},
           {"score", !a.no_score},
@@ -50,11 +84,41 @@ nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const
           {"threads", g.threads}};
 }
 
+// The PCA baseline, in the same result shape as an embedding.
+EmbedResult linear_result(const PointSet& points, std::size_t dims) {
+  LinearOptions lo;
+  lo.dims = dims;
+  LinearResult lin = linear_map(points, lo, stop_token());
+  EmbedResult r;
+  r.coords = std::move(lin.coords);
+  r.rows.resize(points.rows);
+  for (std::size_t i = 0; i < points.rows; ++i) r.rows[i] = i;
+  r.spectrum = std::move(lin.spectrum);
+  r.spectral.solver = "pca";
+  r.seconds.spectral = r.seconds.total = lin.summary.seconds;
+  return r;
+}
+
 }  // namespace
 
 void add_embed_job_options(CLI::App* cmd, EmbedArgs& a) {
   add_graph_options(cmd, a.graph);
+  cmd->add_option("--scale", a.scale,
+                  "Scale each column first: z-score (standard) or median and interquartile "
+                  "range (robust)")
+      ->check(CLI::IsMember({"none", "standard", "robust"}))
+      ->capture_default_str();
+  cmd->add_option("--metric", a.metric,
+                  "euclidean, or cosine (rows scaled to unit length; edges are then chord "
+                  "lengths sqrt(2 - 2 cos))")
+      ->check(CLI::IsMember({"euclidean", "cosine"}))
+      ->capture_default_str();
+  cmd->add_option("--pre-pca", a.pre_pca,
+                  "Project on this many principal components before the neighbour search (0: "
+                  "off)")
+      ->capture_default_str();
   add_map_options(cmd, a.map);
+  cmd->add_flag("--linear", a.linear, "Plain PCA instead (the linear baseline; no graph)");
   add_score_options(cmd, a.score);
   cmd->add_flag("--no-score", a.no_score, "Skip the quality scores");
   cmd->add_option("--csv", a.csv, "Also write the coordinates as CSV");
@@ -70,29 +134,65 @@ void check_outputs(const EmbedArgs& a) {
   if (!a.json.empty()) io::AtomicOutput{a.json};
 }
 
-nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a,
-                             const io::PointReadResult& in, const nlohmann::json& input,
+nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInput in,
                              EmbedResult* result_out) {
   EmbedOptions options;
   options.graph = to_graph_options(a.graph);
   options.components = to_component_options(a.graph);
   apply_map_options(a.map, g.seed, options);
   const AssessOptions assess = to_assess_options(a.score, g.seed);
-  if (options.exact) check_exact_memory(a, options, in.points.rows);
-
-  EmbedResult result = embed_points(in.points, options, stop_token());
-  print_embedding(g, result);
-
-  nlohmann::json report = {{"input", input}, {"embedding", embed_json(result)}};
+  const bool given_graph = in.graph.has_value();
+  if (given_graph && (a.linear || a.scale != "none" || a.metric != "euclidean" || a.pre_pca))
+    throw OptionError("--linear, --scale, --metric and --pre-pca need points, not --input " +
+                      a.input_kind);
   io::MapContents map;
-  if (!a.no_score) {
-    const Assessment scores = assess_map(rows_of(in.points, result.rows), result.coords,
-                                         &result.geodesic, result.spectrum, assess, stop_token());
-    print_assessment(g, scores);
-    report["quality"] = assessment_json(scores);
-    map.extras = assessment_arrays(scores);
+
+  // Preprocessing: the neighbour search and the scores see the transformed points.
+  const PreprocessOptions pre = to_preprocess_options(a);
+  if (!given_graph && (pre.scale != Scale::none || pre.metric != Metric::euclidean || pre.pca)) {
+    pre.validate(in.points.rows, in.points.cols);
+    const PreprocessModel model = fit_preprocess(in.points, pre);
+    in.points = apply_preprocess(model, in.points);
+    say(g, fmt::format("preprocess: scale {}, metric {}{}", scale_name(model.scale),
+                       metric_name(model.metric),
+                       model.components ? fmt::format(", {} principal components keeping {:.1f}% "
+                                                      "of the variance",
+                                                      model.components, 100 * model.variance_kept)
+                                        : ""));
+    for (const auto& w : model.warnings) say(g, "warning: preprocess: " + w);
+    add_preprocess_arrays(model, map.extras);
   }
-  for (auto& extra : graph_arrays(result)) map.extras.push_back(std::move(extra));
+
+  const std::size_t n = given_graph ? in.graph->nodes() : in.points.rows;
+  if (options.exact && !a.linear) check_exact_memory(a, options, n);
+  EmbedResult result = a.linear      ? linear_result(in.points, a.map.dims)
+                       : given_graph ? embed_graph(*in.graph, options, stop_token())
+                                     : embed_points(in.points, options, stop_token());
+  if (!a.linear) print_embedding(g, result);
+
+  nlohmann::json report = {{"input", in.identity}, {"embedding", embed_json(result)}};
+  if (!a.no_score) {
+    if (given_graph) {
+      // No points: neighbourhoods in input space are unknown; the geodesics still score.
+      const ResidualVarianceCurve curve = residual_variance(result.geodesic, result.coords);
+      Assessment scores;
+      scores.residual = curve;
+      scores.warnings.push_back(
+          "trustworthiness and continuity need points; a given graph has none");
+      print_assessment(g, scores);
+      report["quality"] = assessment_json(scores);
+      map.extras = assessment_arrays(scores);
+    } else {
+      const Assessment scores =
+          assess_map(rows_of(in.points, result.rows), result.coords,
+                     a.linear ? nullptr : &result.geodesic, result.spectrum, assess, stop_token());
+      print_assessment(g, scores);
+      report["quality"] = assessment_json(scores);
+      for (auto& extra : assessment_arrays(scores)) map.extras.push_back(std::move(extra));
+    }
+  }
+  if (!a.linear)
+    for (auto& extra : graph_arrays(result)) map.extras.push_back(std::move(extra));
   std::vector<double> nonfinite(in.dropped_rows.begin(), in.dropped_rows.end());
   map.extras.push_back({"/input/dropped_nonfinite_rows",
                         nonfinite,
@@ -104,11 +204,11 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a,
   for (std::size_t r : result.landmark_rows) map.landmark_rows.push_back(in.rows[r]);
   map.landmark_coords = result.landmark_coords;
   map.spectrum = result.spectrum;
-  if (a.map.keep_geodesics) map.landmark_geodesic = std::move(result.geodesic);
+  if (a.map.keep_geodesics && !a.linear) map.landmark_geodesic = std::move(result.geodesic);
   report["parameters"] = parameters_json(g, a, options, result);
   report["seed"] = g.seed;
   map.attributes = {{"command", "embed"},
-                    {"input", input},
+                    {"input", in.identity},
                     {"parameters", report["parameters"]},
                     {"seed", g.seed},
                     {"seconds", report["embedding"]["seconds"]}};

@@ -1,22 +1,29 @@
-// The embed job shared by `unfurl embed` and `unfurl demo`: points in memory -> graph ->
-// map -> scores -> map file (and CSV/JSON when asked).
+// The embed job shared by `unfurl embed` and `unfurl demo`: points (or a given graph) in
+// memory -> preprocessing -> graph -> map -> scores -> map file (and CSV/JSON when asked).
 #pragma once
 
 #include <string>
+#include <vector>
 
 #include <nlohmann/json.hpp>
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
 #include "engine/embedding.hpp"
-#include "io/points_reader.hpp"
+#include "engine/preprocess.hpp"
 
 namespace unfurl::app {
 
 struct EmbedArgs {
   PointInputArgs input;
+  std::string input_kind = "points";  // points | edges | distances | graph
+  std::string missing;                // distances: the value that marks a missing entry
   GraphArgs graph;
+  std::string scale = "none";
+  std::string metric = "euclidean";
+  std::size_t pre_pca = 0;
   MapArgs map;
+  bool linear = false;
   ScoreArgs score;
   std::string output;
   std::string csv;
@@ -25,16 +32,24 @@ struct EmbedArgs {
   bool no_score = false;
 };
 
+// What the job starts from: points, or a graph over input rows (then `points` is empty).
+struct JobInput {
+  PointSet points;                         // N x d, or empty for a given graph
+  std::optional<NeighbourGraph> graph;     // a given graph: nodes are input rows
+  std::vector<std::int64_t> rows;          // input row of each point or node
+  std::vector<std::int64_t> dropped_rows;  // rows dropped before the job (non-finite)
+  nlohmann::json identity;                 // the input's identity for the map's attributes
+};
+
 // Adds every option of the embed job except the input (and the output path) to `cmd`.
 void add_embed_job_options(CLI::App* cmd, EmbedArgs& args);
 
 // Throws OutputError now, before any work, when an output named in `args` cannot be created.
 void check_outputs(const EmbedArgs& args);
 
-// Runs the job on points already read; `input` identifies them in the map's attributes.
-// Returns the run's JSON report (also written to args.json when given).
-nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& args,
-                             const io::PointReadResult& in, const nlohmann::json& input,
+// Runs the job. Returns the run's JSON report (also written to args.json when given) and,
+// when asked, the result itself.
+nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& args, JobInput input,
                              EmbedResult* result_out = nullptr);
 
 }  // namespace unfurl::app
