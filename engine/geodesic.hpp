@@ -25,7 +25,8 @@ struct GeodesicSummary {
 // Throws DataError when the graph is malformed, when a source id is out of range or when some node
 // cannot be reached from a source (the message says how many: keep one connected component
 // upstream), and InterruptedError when `stop` is requested (polled before every source). Memory:
-// sources.size() x nodes float32 plus 12 bytes per node per thread of work arrays.
+// sources.size() x nodes float32 plus each thread's heap (8 bytes per entry). Distances are
+// summed in float32 (see engine/detail/dijkstra.hpp for the measured rounding).
 DistanceRows geodesic_rows(const NeighbourGraph& graph, std::span<const NodeId> sources,
                            StopToken stop = {}, GeodesicSummary* summary = nullptr);
 

@@ -44,7 +44,7 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& 
   const std::size_t n = graph.nodes();
   std::vector<double> nearest(n, std::numeric_limits<double>::infinity());
   std::vector<char> chosen(n, 0);
-  detail::DistanceHeap heap;
+  detail::DistanceHeap<double> heap;
   std::vector<detail::DijkstraWorkspace> work(static_cast<std::size_t>(omp_get_max_threads()));
   Random rng(seed);
   ExceptionCollector errors;

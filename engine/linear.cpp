@@ -87,13 +87,19 @@ LinearResult linear_map(const PointSet& points, const LinearOptions& options, St
   const std::size_t m = options.dims;
   out.coords = PointSet(n, m);
   const auto count = static_cast<std::ptrdiff_t>(n);
-#pragma omp parallel for schedule(static)
-  for (std::ptrdiff_t i = 0; i < count; ++i) {
-    const Eigen::VectorXd centred = x.row(i).cast<double>().transpose() - mean;
-    for (std::size_t k = 0; k < m; ++k)
-      out.coords.row(static_cast<std::size_t>(i))[k] =
-          static_cast<float>(centred.dot(pairs.vectors.col(static_cast<Eigen::Index>(k))));
+#pragma omp parallel
+  {
+    Eigen::VectorXd centred(di);  // one per thread
+#pragma omp for schedule(static)
+    for (std::ptrdiff_t i = 0; i < count; ++i)
+      errors.run([&] {
+        centred = x.row(i).cast<double>().transpose() - mean;
+        for (std::size_t k = 0; k < m; ++k)
+          out.coords.row(static_cast<std::size_t>(i))[k] =
+              static_cast<float>(centred.dot(pairs.vectors.col(static_cast<Eigen::Index>(k))));
+      });
   }
+  errors.rethrow();
   for (std::size_t k = 0; k < m; ++k) {
     std::size_t at = 0;
     float largest = -1.0f;

@@ -106,6 +106,10 @@ std::vector<double> finish_axes(detail::EigenPairs& pairs, std::size_t dims, Spe
   out.negative_ratio = positive > 0.0 ? negative / positive : 0.0;
   std::size_t usable = 0;
   while (usable < pairs.values.size() && pairs.values[usable] > floor) ++usable;
+  if (usable < dims && !pairs.converged && pairs.values.size() < dims)
+    throw DataError("spectral: the Lanczos solver found only " +
+                    std::to_string(pairs.values.size()) + " of the top " + std::to_string(dims) +
+                    " eigenpairs before giving up; raise its max_iterations or krylov size");
   if (usable < dims)
     throw DataError("spectral: only " + std::to_string(usable) + " of the top " +
                     std::to_string(dims) +

@@ -6,8 +6,10 @@
 // Negative eigenvalues measure how far the geodesic distances are from Euclidean; they and
 // the eigenvalues not kept are reported, never square-rooted.
 //
-// Fewer than `dims` positive eigenvalues: DataError saying how many there are (the lead
-// can retry with that many axes); a map with silently missing axes is not returned.
+// Fewer than `dims` positive eigenvalues: DataError saying how many there are (the caller
+// can retry with that many axes); a map with silently missing axes is never returned.
+// Lanczos non-convergence is a warning with summary.converged = false as long as the top
+// `dims` pairs were found; if even those are missing, DataError says so.
 // Determinism: each axis' largest-magnitude landmark coordinate is positive (ties: the
 // lowest landmark index), axes are ordered by eigenvalue, and every parallel sum has a fixed
 // order, so the same rows give the same bytes whatever the thread count.

@@ -64,10 +64,14 @@ void CentredSquaredOperator::squared_product(const double* x, double* y) const {
   const auto count = static_cast<std::ptrdiff_t>(n);
 #pragma omp parallel for schedule(static)
   for (std::ptrdiff_t j = 0; j < count; ++j) {
-    double sum = own_[static_cast<std::size_t>(j)];
-    for (std::size_t b = 0; b < blocks_; ++b) sum += partial_[b * n + static_cast<std::size_t>(j)];
-    y[j] = 0.5 * sum;
+    errors.run([&] {
+      double sum = own_[static_cast<std::size_t>(j)];
+      for (std::size_t b = 0; b < blocks_; ++b)
+        sum += partial_[b * n + static_cast<std::size_t>(j)];
+      y[j] = 0.5 * sum;
+    });
   }
+  errors.rethrow();
 }
 
 void CentredSquaredOperator::perform_op(const double* x, double* y) const {

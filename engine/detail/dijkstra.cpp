@@ -1,79 +1,51 @@
 #include "engine/detail/dijkstra.hpp"
 
-#include <algorithm>
 #include <limits>
 
 namespace unfurl::detail {
 
 namespace {
-constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
-// Min-heap order for std::push_heap / std::pop_heap (which build max-heaps); ties on the key
-// go to the lower node id so the settle order is fixed.
-bool later(const DistanceHeap::Entry& a, const DistanceHeap::Entry& b) {
-  return a.key > b.key || (a.key == b.key && a.node > b.node);
-}
-}  // namespace
-
-void DistanceHeap::push(double key, NodeId node) {
-  items_.push_back({key, node});
-  std::push_heap(items_.begin(), items_.end(), later);
-}
-
-DistanceHeap::Entry DistanceHeap::pop() {
-  std::pop_heap(items_.begin(), items_.end(), later);
-  const Entry top = items_.back();
-  items_.pop_back();
-  return top;
-}
-
-std::size_t DijkstraWorkspace::run(const NeighbourGraph& graph, NodeId source, float* out) {
-  const std::size_t n = graph.nodes();
-  dist_.assign(n, kInfinity);
-  heap_.clear();
-  dist_[source] = 0.0;
-  heap_.push(0.0, source);
-  std::size_t settled = 0;
+// Dijkstra from `source` with the tentative distances in `dist`, which the caller has set
+// (to +infinity for a full run, to the current landmark bounds for the maxmin update): only
+// nodes whose distance drops are relaxed. Returns the number of nodes settled.
+template <class Key>
+std::size_t settle_from(const NeighbourGraph& graph, NodeId source, Key* dist,
+                        DistanceHeap<Key>& heap) {
   const std::int64_t* offsets = graph.offsets.data();
   const NodeId* targets = graph.targets.data();
   const float* lengths = graph.lengths.data();
-  while (!heap_.empty()) {
-    const auto [d, u] = heap_.pop();
-    if (d > dist_[u]) continue;  // stale entry
-    ++settled;
-    for (std::int64_t e = offsets[u]; e < offsets[u + 1]; ++e) {
-      const NodeId v = targets[e];
-      const double candidate = d + lengths[e];
-      if (candidate < dist_[v]) {
-        dist_[v] = candidate;
-        heap_.push(candidate, v);
-      }
-    }
-  }
-  for (std::size_t i = 0; i < n; ++i) out[i] = static_cast<float>(dist_[i]);
-  return n - settled;
-}
-
-std::size_t lower_bounds_from(const NeighbourGraph& graph, NodeId source,
-                              std::vector<double>& bound, DistanceHeap& heap) {
   heap.clear();
-  bound[source] = 0.0;
-  heap.push(0.0, source);
+  dist[source] = Key(0);
+  heap.push(Key(0), source);
   std::size_t settled = 0;
   while (!heap.empty()) {
     const auto [d, u] = heap.pop();
-    if (d > bound[u]) continue;
+    if (d > dist[u]) continue;  // stale entry
     ++settled;
-    for (std::int64_t e = graph.offsets[u]; e < graph.offsets[u + 1]; ++e) {
-      const NodeId v = graph.targets[e];
-      const double candidate = d + graph.lengths[e];
-      if (candidate < bound[v]) {
-        bound[v] = candidate;
+    for (std::int64_t e = offsets[u]; e < offsets[u + 1]; ++e) {
+      const NodeId v = targets[e];
+      const Key candidate = d + lengths[e];
+      if (candidate < dist[v]) {
+        dist[v] = candidate;
         heap.push(candidate, v);
       }
     }
   }
   return settled;
+}
+
+}  // namespace
+
+std::size_t DijkstraWorkspace::run(const NeighbourGraph& graph, NodeId source, float* out) {
+  const std::size_t n = graph.nodes();
+  std::fill(out, out + n, std::numeric_limits<float>::infinity());
+  return n - settle_from(graph, source, out, heap_);
+}
+
+std::size_t lower_bounds_from(const NeighbourGraph& graph, NodeId source,
+                              std::vector<double>& bound, DistanceHeap<double>& heap) {
+  return settle_from(graph, source, bound.data(), heap);
 }
 
 }  // namespace unfurl::detail

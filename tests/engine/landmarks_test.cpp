@@ -132,3 +132,17 @@ TEST_CASE("landmarks on a disconnected graph or after a stop request throw", "[l
                     unfurl::InterruptedError);
   }
 }
+
+TEST_CASE("maxmin warns when a landmark coincides with an earlier one", "[landmarks]") {
+  // Nodes 0 and 1 are duplicate points (a zero-length edge): once 0, 1 and 2 are all
+  // needed, one pick lies at distance 0 from an earlier one.
+  const auto g = unfurl::test::graph_from_edges(3, {{0, 1, 0.f}, {1, 2, 1.f}});
+  unfurl::LandmarkOptions o;
+  o.count = 3;
+  const auto r = unfurl::pick_landmarks(g, o);
+  REQUIRE(r.summary.warnings.size() == 1);
+  CHECK_THAT(r.summary.warnings[0], Catch::Contains("duplicate points"));
+  o.count = 2;
+  o.dims = 1;
+  CHECK(unfurl::pick_landmarks(g, o).summary.warnings.empty());
+}

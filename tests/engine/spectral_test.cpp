@@ -61,8 +61,15 @@ TEST_CASE("landmark MDS equals classical MDS on Euclidean data", "[spectral]") {
   const auto rows = unfurl::test::euclidean_rows(p, landmarks);
   unfurl::SpectralOptions o;
   o.dims = 3;
-  const auto lmds = unfurl::landmark_mds(rows, o);
   const auto cmds = unfurl::exact_mds(all, o);
+  o.dense_limit = 0;  // the Lanczos solver on the dense landmark matrix
+  const auto lanczos = unfurl::landmark_mds(rows, o);
+  CHECK(lanczos.summary.solver == "lanczos");
+  CHECK(unfurl::test::procrustes_disparity(lanczos.coords.values, cmds.coords.values, 400, 3) <
+        1e-9);
+  o.dense_limit = 1000;
+  const auto lmds = unfurl::landmark_mds(rows, o);
+  CHECK(lmds.summary.solver == "dense");
   CHECK(unfurl::test::procrustes_disparity(lmds.coords.values, cmds.coords.values, 400, 3) < 1e-9);
   CHECK(unfurl::test::pairwise_distance_error(lmds.coords.values, 3, p.values, 3, 400) < 1e-3);
   // The landmarks' own coordinates agree with their triangulated rows.
