@@ -7,6 +7,7 @@ usage: /usr/bin/python3 bench/graph_compare.py BUILD_BENCH_DIR [WORK_DIR]
 import gzip
 import os
 import re
+import resource
 import struct
 import subprocess
 import sys
@@ -32,7 +33,8 @@ def idx_images(name):
 
 
 def run_bench(program, name, env):
-    """One benchmark under /usr/bin/time -v: (wall seconds per iteration, peak RSS MB)."""
+    """One benchmark under /usr/bin/time -v: (wall seconds per iteration, peak RSS MB,
+    CPU seconds of the whole process: user + system, all threads, all iterations)."""
     cmd = ["/usr/bin/time", "-v", program, f"--benchmark_filter={name}"]
     print("$", " ".join(cmd), flush=True)
     p = subprocess.run(cmd, env=env, capture_output=True, text=True, check=True)
@@ -41,7 +43,15 @@ def run_bench(program, name, env):
     value, unit = re.search(r"real_time\s+([\d.]+) (\w+)", line).groups()
     seconds = float(value) * {"s": 1.0, "ms": 1e-3}[unit]
     rss = int(re.search(r"Maximum resident set size \(kbytes\): (\d+)", p.stderr).group(1))
-    return seconds, rss / 1024
+    cpu = sum(float(re.search(rf"{k} time \(seconds\): ([\d.]+)", p.stderr).group(1))
+              for k in ("User", "System"))
+    print(f"  peak {rss / 1024:.0f} MB, CPU {cpu:.1f} s (user + system, all iterations)")
+    return seconds, rss / 1024, cpu
+
+
+def cpu_now():
+    r = resource.getrusage(resource.RUSAGE_SELF)
+    return r.ru_utime + r.ru_stime
 
 
 def main():
@@ -61,20 +71,20 @@ def main():
     write_points(fashion, env["UNFURL_BENCH_FASHION"])
     program = os.path.join(build, "bench", "bench_graph")
 
-    ours_swiss, rss_swiss = run_bench(program, "BM_GraphSwissRoll1M", env)
-    start = time.perf_counter()
+    ours_swiss, rss_swiss, _ = run_bench(program, "BM_GraphSwissRoll1M", env)
+    start, cpu0 = time.perf_counter(), cpu_now()
     g = kneighbors_graph(swiss, 10, mode="distance", n_jobs=2)
     g = g.maximum(g.T)
     ref_swiss = time.perf_counter() - start
     print(f"scikit-learn kneighbors_graph (kd_tree, n_jobs=2) + maximum(A, A.T), 1M x 3: "
-          f"{ref_swiss:.2f} s")
+          f"{ref_swiss:.2f} s wall, CPU {cpu_now() - cpu0:.1f} s")
 
-    ours_fashion, rss_fashion = run_bench(program, "BM_GraphFashion70k", env)
-    start = time.perf_counter()
+    ours_fashion, rss_fashion, _ = run_bench(program, "BM_GraphFashion70k", env)
+    start, cpu0 = time.perf_counter(), cpu_now()
     NearestNeighbors(n_neighbors=10, algorithm="brute", n_jobs=2).fit(fashion).kneighbors()
     ref_fashion = time.perf_counter() - start
     print(f"scikit-learn NearestNeighbors(algorithm='brute', n_jobs=2).kneighbors(), "
-          f"70000 x 784: {ref_fashion:.2f} s")
+          f"70000 x 784: {ref_fashion:.2f} s wall, CPU {cpu_now() - cpu0:.1f} s")
 
     print(f"Swiss roll 1M, k=10: unfurl {ours_swiss:.2f} s (peak {rss_swiss:.0f} MB), "
           f"scikit-learn {ref_swiss:.2f} s, ratio {ref_swiss / ours_swiss:.2f}x")

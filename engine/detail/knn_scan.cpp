@@ -8,6 +8,7 @@
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
+#include <mutex>
 
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/error.hpp"
@@ -135,6 +136,121 @@ std::vector<std::size_t> all_rows(std::size_t n) {
   return rows;
 }
 
+double centred_norm2(const ScanData& s, const float* row) {
+  double sum = 0.0;
+  for (std::size_t j = 0; j < s.mean.size(); ++j) {
+    const double v = static_cast<float>(row[j] - s.mean[j]);
+    sum += v * v;
+  }
+  return sum;
+}
+
+// The `keep` best candidates of every query row by (approximation, index), as one max-heap
+// per row. The final set does not depend on the order of offers (a strict total order), so
+// threads may offer in any order; each block of rows has a lock.
+using Entry = std::pair<float, NodeId>;
+class CandidateHeaps {
+ public:
+  CandidateHeaps(std::size_t rows, std::size_t keep, std::size_t block_rows)
+      : keep_(keep),
+        block_(block_rows),
+        entries_(rows * keep),
+        count_(rows, 0),
+        locks_((rows + block_rows - 1) / block_rows) {}
+  std::span<const Entry> row(std::size_t r) const { return {&entries_[r * keep_], count_[r]}; }
+  std::mutex& lock_of(std::size_t r) { return locks_[r / block_]; }
+  // Entries not below this never enter row r (caller holds the row's lock).
+  Entry bound(std::size_t r) const {
+    return count_[r] == keep_ ? entries_[r * keep_] : Entry{INFINITY, UINT32_MAX};
+  }
+  void offer(std::size_t r, Entry e) {  // caller holds the row's lock
+    Entry* heap = &entries_[r * keep_];
+    std::size_t& n = count_[r];
+    if (n == keep_) {
+      if (!(e < heap[0])) return;
+      std::pop_heap(heap, heap + n);
+      heap[n - 1] = e;
+    } else {
+      heap[n++] = e;
+    }
+    std::push_heap(heap, heap + n);
+  }
+
+ private:
+  std::size_t keep_, block_;
+  std::vector<Entry> entries_;
+  std::vector<std::size_t> count_;
+  std::vector<std::mutex> locks_;
+};
+
+// Queries other than the data: each block of query rows against all data rows.
+void query_candidates(const ScanData& s, const PointSet& queries, std::size_t block_rows,
+                      CandidateHeaps& heaps, StopToken stop) {
+  const auto rows = all_rows(queries.rows);
+  parallel_chunks(queries.rows, block_rows, stop, "graph", [&](std::size_t b, std::size_t e) {
+    const QueryBlock qb = gather(s, queries, std::span(rows).subspan(b, e - b));
+    std::lock_guard<std::mutex> hold(heaps.lock_of(b));  // blocks are this task's own
+    for_each_column_block(s, qb,
+                          [&](std::size_t r, std::size_t c0, const float* a, std::size_t cn) {
+                            for (std::size_t j = 0; j < cn; ++j)
+                              heaps.offer(b + r, {a[j], static_cast<NodeId>(c0 + j)});
+                          });
+  });
+}
+
+// The data against themselves: the distance matrix is symmetric, so each pair of row
+// blocks (I <= J) is multiplied once and offered to the rows of both blocks. Self pairs
+// are skipped by index.
+void symmetric_candidates(const ScanData& s, std::size_t block_rows, CandidateHeaps& heaps,
+                          StopToken stop) {
+  const auto n = static_cast<std::size_t>(s.y.rows());
+  const std::size_t blocks = (n + block_rows - 1) / block_rows;
+  parallel_chunks(blocks, 1, stop, "graph", [&](std::size_t block, std::size_t) {
+    const std::size_t b0 = block * block_rows, bn = std::min(block_rows, n - b0);
+    const auto mine = s.y.middleRows(static_cast<Eigen::Index>(b0), static_cast<Eigen::Index>(bn));
+    RowMatrix product;
+    std::vector<Entry> row_bound(bn), col_bound(block_rows);
+    std::vector<std::pair<std::size_t, Entry>> to_rows, to_cols;
+    for (std::size_t other = block; other < blocks; ++other) {
+      stop.check("graph");
+      const std::size_t c0 = other * block_rows, cn = std::min(block_rows, n - c0);
+      product.noalias() =
+          mine *
+          s.y.middleRows(static_cast<Eigen::Index>(c0), static_cast<Eigen::Index>(cn)).transpose();
+      {
+        std::lock_guard<std::mutex> hold(heaps.lock_of(b0));
+        for (std::size_t r = 0; r < bn; ++r) row_bound[r] = heaps.bound(b0 + r);
+      }
+      const bool mirrored = other != block;
+      if (mirrored) {
+        std::lock_guard<std::mutex> hold(heaps.lock_of(c0));
+        for (std::size_t c = 0; c < cn; ++c) col_bound[c] = heaps.bound(c0 + c);
+      }
+      to_rows.clear();
+      to_cols.clear();
+      for (std::size_t r = 0; r < bn; ++r) {
+        const float* p = product.data() + r * cn;
+        const float nr = s.norm2[b0 + r];
+        for (std::size_t c = 0; c < cn; ++c) {
+          const float a = nr + s.norm2[c0 + c] - 2.0f * p[c];
+          const Entry to_r{a, static_cast<NodeId>(c0 + c)};
+          if (to_r < row_bound[r] && c0 + c != b0 + r) to_rows.push_back({r, to_r});
+          const Entry to_c{a, static_cast<NodeId>(b0 + r)};
+          if (mirrored && to_c < col_bound[c]) to_cols.push_back({c, to_c});
+        }
+      }
+      {
+        std::lock_guard<std::mutex> hold(heaps.lock_of(b0));
+        for (const auto& [r, e] : to_rows) heaps.offer(b0 + r, e);
+      }
+      if (mirrored) {
+        std::lock_guard<std::mutex> hold(heaps.lock_of(c0));
+        for (const auto& [c, e] : to_cols) heaps.offer(c0 + c, e);
+      }
+    }
+  });
+}
+
 }  // namespace
 
 void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool exclude_self,
@@ -145,55 +261,37 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
   const ScanData s = prepare(data);
   // Candidates beyond k absorb the approximation error; common practice, no source.
   const std::size_t keep = std::min(available, k + std::max<std::size_t>(16, k));
-  const auto rows = all_rows(queries.rows);
-  std::vector<std::size_t> uncertain;
-  std::vector<double> uncertain_limit;
-  std::vector<std::vector<std::size_t>> uncertain_of_chunk((queries.rows + block_rows - 1) /
-                                                           block_rows);
-  std::vector<std::vector<double>> limit_of_chunk(uncertain_of_chunk.size());
-  using Entry = std::pair<float, NodeId>;  // max-heap by (approximation, index)
-  parallel_chunks(queries.rows, block_rows, stop, "graph", [&](std::size_t b, std::size_t e) {
-    const QueryBlock qb = gather(s, queries, std::span(rows).subspan(b, e - b));
-    std::vector<std::vector<Entry>> heaps(e - b);
-    for_each_column_block(s, qb,
-                          [&](std::size_t r, std::size_t c0, const float* a, std::size_t cn) {
-                            auto& heap = heaps[r];
-                            const std::size_t q = b + r;
-                            for (std::size_t j = 0; j < cn; ++j) {
-                              const Entry entry{a[j], static_cast<NodeId>(c0 + j)};
-                              if (heap.size() == keep && !(entry < heap.front())) continue;
-                              if (exclude_self && c0 + j == q) continue;
-                              if (heap.size() == keep) {
-                                std::pop_heap(heap.begin(), heap.end());
-                                heap.back() = entry;
-                              } else {
-                                heap.push_back(entry);
-                              }
-                              std::push_heap(heap.begin(), heap.end());
-                            }
-                          });
-    for (std::size_t r = 0; r < e - b; ++r) {
-      const std::size_t q = b + r;
-      const auto& heap = heaps[r];
-      std::vector<Neighbour> list;
-      list.reserve(heap.size());
+  CandidateHeaps heaps(queries.rows, keep, block_rows);
+  if (exclude_self)
+    symmetric_candidates(s, block_rows, heaps, stop);
+  else
+    query_candidates(s, queries, block_rows, heaps, stop);
+
+  // Exact distances of the candidates; a row is certified when every row left out has an
+  // approximation >= the heap top, hence an exact distance >= top - slack > the k-th kept.
+  std::vector<char> certain(queries.rows, 1);
+  std::vector<double> limit(queries.rows, 0.0);
+  parallel_chunks(queries.rows, 1024, stop, "graph", [&](std::size_t b, std::size_t e) {
+    std::vector<Neighbour> list;
+    for (std::size_t q = b; q < e; ++q) {
+      const auto heap = heaps.row(q);
+      list.clear();
       for (const auto& [approx, t] : heap)
         list.push_back({t, exact_squared(queries.row(q), data.row(t), data.cols)});
       std::sort(list.begin(), list.end(), closer);
       std::copy_n(list.begin(), k, out.begin() + static_cast<std::ptrdiff_t>(q * k));
-      // Rows not kept have approximation >= heap top, so exact >= top - slack.
-      const double kth = list[k - 1].squared;
       if (heap.size() == available) continue;  // every row was a candidate
-      if (static_cast<double>(heap.front().first) - qb.slack[r] > kth) continue;
-      uncertain_of_chunk[b / block_rows].push_back(q);
-      limit_of_chunk[b / block_rows].push_back(kth + qb.slack[r]);
+      const double kth = list[k - 1].squared;
+      const double margin = slack(s, data.cols, centred_norm2(s, queries.row(q)));
+      if (static_cast<double>(heap.front().first) - margin > kth) continue;
+      certain[q] = 0;
+      limit[q] = kth + margin;
     }
   });
-  for (std::size_t c = 0; c < uncertain_of_chunk.size(); ++c) {
-    uncertain.insert(uncertain.end(), uncertain_of_chunk[c].begin(), uncertain_of_chunk[c].end());
-    uncertain_limit.insert(uncertain_limit.end(), limit_of_chunk[c].begin(),
-                           limit_of_chunk[c].end());
-  }
+  std::vector<std::size_t> uncertain;
+  std::vector<double> uncertain_limit;
+  for (std::size_t q = 0; q < queries.rows; ++q)
+    if (!certain[q]) uncertain.push_back(q), uncertain_limit.push_back(limit[q]);
   if (uncertain.empty()) return;
   auto lists = threshold_scan(s, data, queries, uncertain, uncertain_limit, exclude_self,
                               block_rows, stop, [](std::size_t, const Neighbour&) { return true; });

@@ -257,13 +257,18 @@ TEST_CASE("results do not depend on the thread count", "[neighbours]") {
   GraphOptions o;
   o.k = 8;
   const int threads = omp_get_max_threads();
+  const auto wide = random_points(700, 60, 8, true);  // grid values: many ties
   omp_set_num_threads(1);
   const auto one = build_neighbour_graph(pts, o);
+  const auto scan_one = exact_knn(wide, wide, 9, Search::scan, true, 64);
   omp_set_num_threads(std::max(2, threads));
   const auto many = build_neighbour_graph(pts, o);
+  const auto scan_many = exact_knn(wide, wide, 9, Search::scan, true, 64);
   omp_set_num_threads(threads);
   CHECK(one.graph.targets == many.graph.targets);
   CHECK(one.graph.lengths == many.graph.lengths);
+  CHECK(scan_one.index == scan_many.index);
+  CHECK(scan_one.distance == scan_many.distance);
 }
 
 TEST_CASE("an exception inside a parallel region reaches the caller", "[neighbours][parallel]") {
