@@ -116,9 +116,14 @@ void check_hdf5_in_child(const std::filesystem::path& file) {
     std::this_thread::sleep_for(pause);
     pause = std::min(pause * 2, std::chrono::microseconds(20000));
   }
+  // The walk exits 0 whatever the library reports; anything else is a crash (a signal, or a
+  // sanitizer's exit in instrumented builds).
   if (WIFSIGNALED(status))
     throw IoError(file.string() + ": damaged HDF5 file: reading its metadata crashed the HDF5 " +
                   "library (signal " + std::to_string(WTERMSIG(status)) + ")");
+  if (!WIFEXITED(status) || WEXITSTATUS(status) != 0)
+    throw IoError(file.string() + ": damaged HDF5 file: reading its metadata failed inside the " +
+                  "HDF5 library (exit " + std::to_string(WEXITSTATUS(status)) + ")");
 }
 
 }  // namespace unfurl::io::detail

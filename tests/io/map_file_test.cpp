@@ -1,6 +1,9 @@
 #include "io/map_file.hpp"
 
+#include <sys/wait.h>
+#include <unistd.h>
 #include <catch2/catch.hpp>
+
 #include <cmath>
 
 #include "engine/error.hpp"
@@ -232,13 +235,15 @@ TEST_CASE("input identity names the file, its size and time", "[map_file]") {
 
 TEST_CASE("map reader survives flipped bytes without crashing", "[map_file]") {
   // Corruption anywhere must end in success or one of our exceptions: never a crash, never
-  // a foreign exception type.
+  // a foreign exception type. Each read runs in a child process of its own because HDF5 1.10
+  // leaks memory on the error paths of damaged files, which would fail a leak-checking build
+  // for a fault that is not ours; the child reports by its exit code.
   unfurl::test::TempFolder dir;
   unfurl::io::detail::set_hdf5_check_timeout(2.0);  // some damage sends HDF5 into a loop
   unfurl::io::write_map(dir / "good.h5", sample_map(50, 2, 3, true));
   const std::string bytes = unfurl::test::file_bytes(dir / "good.h5");
   unfurl::Random rng(99);
-  int failures = 0;
+  int refused = 0, accepted = 0;
   for (int trial = 0; trial < 200; ++trial) {
     std::string damaged = bytes;
     for (int k = 0; k < 4; ++k) {
@@ -246,12 +251,26 @@ TEST_CASE("map reader survives flipped bytes without crashing", "[map_file]") {
       damaged[at] = static_cast<char>(damaged[at] ^ (1 + static_cast<int>(rng.uniform() * 255)));
     }
     unfurl::test::write_bytes(dir / "bad.h5", damaged);
-    try {
-      (void)unfurl::io::read_map(dir / "bad.h5", true);
-    } catch (const unfurl::Error&) {
-      ++failures;
+    const pid_t child = ::fork();
+    REQUIRE(child >= 0);
+    if (child == 0) {
+      int code = 0;
+      try {
+        (void)unfurl::io::read_map(dir / "bad.h5", true);
+      } catch (const unfurl::Error&) {
+        code = 3;
+      } catch (...) {
+        code = 4;
+      }
+      ::_exit(code);
     }
+    int status = 0;
+    REQUIRE(::waitpid(child, &status, 0) == child);
+    CAPTURE(trial);
+    REQUIRE(WIFEXITED(status));
+    REQUIRE((WEXITSTATUS(status) == 0 || WEXITSTATUS(status) == 3));
+    (WEXITSTATUS(status) == 3 ? refused : accepted)++;
   }
   unfurl::io::detail::set_hdf5_check_timeout(30.0);
-  CHECK(failures > 0);  // some flips must have been noticed
+  CHECK(refused > 0);  // some flips must have been noticed
 }
