@@ -80,7 +80,8 @@ void validate_graph(const NeighbourGraph& g, const std::string& where) {
 }
 
 void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::json& attributes,
-                 const std::vector<std::int64_t>& rows, const std::vector<MapArray>& node_arrays) {
+                 const std::vector<std::int64_t>& rows, const std::vector<MapArray>& node_arrays,
+                 H5WriteOptions large) {
   const std::size_t n = g.nodes();
   const auto bug = [&](const std::string& what) {
     throw InternalError(path.string() + ": graph contents disagree: " + what);
@@ -98,14 +99,14 @@ void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::
   {
     H5Writer out(output.temp_path());
     out.write("/graph/offsets", g.offsets, {g.offsets.size()},
-              detail::layout_for_bytes(g.offsets.size() * 8));
+              detail::layout_for_bytes(g.offsets.size() * 8, large));
     out.write("/graph/targets", g.targets, {g.targets.size()},
-              detail::layout_for_bytes(g.targets.size() * 4));
+              detail::layout_for_bytes(g.targets.size() * 4, large));
     out.write("/graph/lengths", g.lengths, {g.lengths.size()},
-              detail::layout_for_bytes(g.lengths.size() * 4));
-    if (!rows.empty()) out.write("/graph/rows", rows, {n}, detail::layout_for_bytes(n * 8));
+              detail::layout_for_bytes(g.lengths.size() * 4, large));
+    if (!rows.empty()) out.write("/graph/rows", rows, {n}, detail::layout_for_bytes(n * 8, large));
     for (const MapArray& a : node_arrays) {
-      detail::write_map_array(out, a);
+      detail::write_map_array(out, a, large);
     }
     detail::write_json_attributes(out, "/graph", attributes);
     detail::write_json_attributes(

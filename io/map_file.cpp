@@ -55,21 +55,21 @@ json input_identity(const fs::path& file, const std::string& dataset) {
           {"modified", detail::iso8601_utc(std::chrono::system_clock::to_time_t(system))}};
 }
 
-void write_map(const fs::path& path, const MapContents& c) {
+void write_map(const fs::path& path, const MapContents& c, H5WriteOptions large) {
   check_sizes(path, c);
   AtomicOutput output(path);
   {
     H5Writer out(output.temp_path());
     const std::size_t n = c.coords.rows, m = c.coords.cols, l = c.landmark_rows.size();
     out.write("/coords", c.coords.values, {n, m},
-              detail::layout_for_bytes(c.coords.values.size() * 4));
+              detail::layout_for_bytes(c.coords.values.size() * 4, large));
     out.write("/rows", c.rows, {n});
     out.write("/landmarks/rows", c.landmark_rows, {l});
     out.write("/landmarks/coords", c.landmark_coords, {l, m});
     if (c.landmark_geodesic) {
       const DistanceRows& g = *c.landmark_geodesic;
       out.write("/landmarks/geodesic", g.values, {l, n},
-                detail::layout_for_bytes(g.values.size() * 4));
+                detail::layout_for_bytes(g.values.size() * 4, large));
       out.write("/landmarks/nodes", g.sources, {l});
     }
     out.write("/spectrum", c.spectrum, {c.spectrum.size()});
@@ -77,7 +77,7 @@ void write_map(const fs::path& path, const MapContents& c) {
       if (extra.path.empty() || extra.path[0] != '/')
         throw InternalError(path.string() + ": extra dataset path '" + extra.path +
                             "' is not absolute");
-      detail::write_map_array(out, extra);
+      detail::write_map_array(out, extra, large);
     }
     detail::write_json_attributes(out, "/",
                                   detail::stamp_attributes(c.attributes, map_format_version));

@@ -18,8 +18,9 @@
 //                        one JSON string attribute plus one attribute per member
 //                        ("parameters.k").
 //
-// Large datasets (/coords, /landmarks/geodesic) are written chunked and deflated; readers
-// need nothing special for that.
+// Datasets are contiguous and uncompressed unless the writer is asked to deflate the large
+// ones (above 4 MiB): deflate at level 1 costs about 50 times the write time for under 20%
+// smaller float data (bench/RESULTS.md, io-maps). Readers need nothing special either way.
 #pragma once
 
 #include <cstdint>
@@ -31,6 +32,7 @@
 
 #include "engine/distance_rows.hpp"
 #include "engine/points.hpp"
+#include "io/hdf5_file.hpp"
 #include "io/map_array.hpp"
 
 namespace unfurl::io {
@@ -54,7 +56,9 @@ struct MapContents {
 // creation_time, host and peak_memory_bytes to the attributes. Throws OutputError when the
 // output cannot be created, IoError when writing fails, InternalError when the contents
 // disagree in size (a caller's bug).
-void write_map(const std::filesystem::path& path, const MapContents& contents);
+// `large` is the layout of datasets above 4 MiB (default contiguous).
+void write_map(const std::filesystem::path& path, const MapContents& contents,
+               H5WriteOptions large = {});
 
 // Reads a map file; the geodesic rows (often the largest part) only when asked. Rejects a
 // newer format version and a file without /coords or /rows; checks every size against N, m

@@ -4,13 +4,13 @@
 
 namespace unfurl::io::detail {
 
-H5WriteOptions layout_for_bytes(std::size_t bytes) {
-  constexpr std::size_t compress_above_bytes = std::size_t{4} << 20;
-  return H5WriteOptions{bytes > compress_above_bytes ? 1 : 0};
+H5WriteOptions layout_for_bytes(std::size_t bytes, H5WriteOptions large) {
+  constexpr std::size_t large_above_bytes = std::size_t{4} << 20;
+  return bytes > large_above_bytes ? large : H5WriteOptions{};
 }
 
-void write_map_array(H5Writer& out, const MapArray& a) {
-  out.write(a.path, a.values, a.dims, layout_for_bytes(a.values.size() * sizeof(double)));
+void write_map_array(H5Writer& out, const MapArray& a, H5WriteOptions large) {
+  out.write(a.path, a.values, a.dims, layout_for_bytes(a.values.size() * sizeof(double), large));
   write_json_attributes(out, a.path, a.attributes);
 }
 

@@ -10,11 +10,11 @@
 
 namespace unfurl::io::detail {
 
-// Datasets above 4 MiB are chunked and deflated at the fastest level (bench/RESULTS.md,
-// "io-maps", has the cost); smaller ones stay contiguous.
-H5WriteOptions layout_for_bytes(std::size_t bytes);
+// The caller's layout for datasets above 4 MiB; smaller ones stay contiguous (chunking a
+// small dataset only adds index overhead).
+H5WriteOptions layout_for_bytes(std::size_t bytes, H5WriteOptions large);
 
-void write_map_array(H5Writer& out, const MapArray& array);
+void write_map_array(H5Writer& out, const MapArray& array, H5WriteOptions large);
 MapArray read_map_array(const H5Reader& in, const std::string& dataset);
 
 }  // namespace unfurl::io::detail
