@@ -38,8 +38,11 @@ AtomicOutput::AtomicOutput(fs::path final_path) : final_(std::move(final_path)) 
   if (::access(folder.c_str(), W_OK) != 0)
     throw OutputError(final_.string() + ": folder " + folder.string() + " is not writable");
   static std::atomic<unsigned> counter{0};
-  temp_ = folder / ("." + final_.filename().string() + ".part-" + std::to_string(::getpid()) + "-" +
-                    std::to_string(counter++));
+  // Built by appending: GCC 12 warns falsely (-Wrestrict) on "." + std::string.
+  std::string name = ".";
+  name += final_.filename().string();
+  name += ".part-" + std::to_string(::getpid()) + "-" + std::to_string(counter++);
+  temp_ = folder / name;
 }
 
 AtomicOutput::~AtomicOutput() {
