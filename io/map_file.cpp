@@ -88,6 +88,9 @@ void write_map(const fs::path& path, const MapContents& c, H5WriteOptions large)
 
 namespace {
 
+const std::set<std::string> graph_datasets = {"/graph/offsets", "/graph/targets", "/graph/lengths",
+                                              "/graph/rows"};
+
 const std::set<std::string> layout_datasets = {
     "/coords",          "/rows",    "/landmarks/rows", "/landmarks/coords", "/landmarks/geodesic",
     "/landmarks/nodes", "/spectrum"};
@@ -151,7 +154,10 @@ MapContents read_map(const fs::path& path, bool with_geodesic) {
     c.spectrum = in.read<double>("/spectrum");
   }
   for (const std::string& name : in.datasets_under("/")) {
-    if (layout_datasets.count(name)) continue;
+    // A full graph saved into the map is read_graph's business, not an extra.
+    if (layout_datasets.count(name) || graph_datasets.count(name) ||
+        name.rfind("/graph/nodes/", 0) == 0)
+      continue;
     c.extras.push_back(detail::read_map_array(in, name));
   }
   c.attributes = detail::read_json_attributes(in, "/");

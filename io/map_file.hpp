@@ -11,6 +11,8 @@
 //   /spectrum            float64        eigenvalues of the landmark Gram matrix, descending
 //   /quality/*, /graph/*, other paths   extras: float64 datasets (scalars or arrays), each
 //                                       with its own attributes (k, method, sample size, ...)
+//   /graph/offsets, targets, lengths, rows, nodes/*   a full graph (io/graph_file.hpp), if
+//                                       saved here: read_graph reads it; read_map skips it
 //   attributes on /      format_version (int), program_version, creation_time (UTC ISO
 //                        8601), host, peak_memory_bytes, and whatever the caller passes
 //                        (input identity, parameters, seed, stage times), stored by the

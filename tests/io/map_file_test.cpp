@@ -9,6 +9,7 @@
 #include "engine/error.hpp"
 #include "engine/random.hpp"
 #include "io/detail/hdf5_sandbox.hpp"
+#include "io/graph_file.hpp"
 #include "io/hdf5_file.hpp"
 #include "tests/io/temp_folder.hpp"
 
@@ -273,4 +274,28 @@ TEST_CASE("map reader survives flipped bytes without crashing", "[map_file]") {
   }
   unfurl::io::detail::set_hdf5_check_timeout(30.0);
   CHECK(refused > 0);  // some flips must have been noticed
+}
+
+TEST_CASE("a graph saved inside a map is not read as extras", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  {
+    // Add the CSR arrays of a two-node graph next to the map's own datasets.
+    unfurl::io::H5Writer out(dir / "m2.h5");
+    const MapContents c = sample_map(10, 2, 2, false);
+    out.write("/coords", c.coords.values, {10, 2});
+    out.write("/rows", c.rows, {10});
+    out.write("/graph/offsets", std::vector<std::int64_t>{0, 1, 2}, {3});
+    out.write("/graph/targets", std::vector<std::uint32_t>{1, 0}, {2});
+    out.write("/graph/lengths", std::vector<float>{0.5f, 0.5f}, {2});
+    out.write("/graph/nodes/component", std::vector<double>{0, 0}, {2});
+    out.write("/graph/edges_kept", std::vector<double>{2}, {});
+    out.set_int_attribute("/", "format_version", 1);
+    out.close();
+  }
+  const MapContents read = unfurl::io::read_map(dir / "m2.h5");
+  REQUIRE(read.extras.size() == 1);
+  CHECK(read.extras[0].path == "/graph/edges_kept");
+  const auto graph = unfurl::io::read_graph(dir / "m2.h5");  // while read_graph finds it
+  CHECK(graph.graph.nodes() == 2);
+  CHECK(graph.node_arrays.size() == 1);
 }
