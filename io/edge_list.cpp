@@ -78,6 +78,7 @@ EdgeList read_csv(const std::filesystem::path& path, const EdgeListOptions& o) {
   std::string_view line;
   bool first = true;
   while (lines.next(line)) {
+    if ((lines.line_number() & 0xfffff) == 0) o.stop.check("reading an edge list");
     if (detail::skippable(line)) continue;
     detail::split_fields(line, fields);
     const std::string where = path.string() + ": line " + std::to_string(lines.line_number());
@@ -141,8 +142,10 @@ EdgeList read_hdf5(const std::filesystem::path& path, const EdgeListOptions& o) 
   EdgeCollector edges(o, out);
   const std::string source =
       path.string() + ": " + (o.table_dataset.empty() ? o.i_dataset : o.table_dataset) + ": edge ";
-  for (std::size_t k = 0; k < i.size(); ++k)
+  for (std::size_t k = 0; k < i.size(); ++k) {
+    if ((k & 0xfffff) == 0) o.stop.check("reading an edge list");
     edges.add(i[k], j[k], len[k], source + std::to_string(k));
+  }
   edges.finish();
   return out;
 }

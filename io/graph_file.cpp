@@ -8,6 +8,7 @@
 #include "io/atomic_output.hpp"
 #include "io/detail/file_stamp.hpp"
 #include "io/detail/h5_json.hpp"
+#include "io/detail/map_array_io.hpp"
 #include "io/hdf5_file.hpp"
 
 namespace unfurl::io {
@@ -15,12 +16,7 @@ namespace {
 
 namespace fs = std::filesystem;
 
-constexpr std::size_t compress_above_bytes = std::size_t{4} << 20;  // as for map files
 constexpr const char* nodes_group = "/graph/nodes/";
-
-H5WriteOptions layout_for(std::size_t bytes) {
-  return H5WriteOptions{bytes > compress_above_bytes ? 1 : 0};
-}
 
 std::string node_text(std::size_t i) {
   return "node " + std::to_string(i);
@@ -84,7 +80,8 @@ void validate_graph(const NeighbourGraph& g, const std::string& where) {
 }
 
 void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::json& attributes,
-                 const std::vector<std::int64_t>& rows, const std::vector<MapArray>& node_arrays) {
+                 const std::vector<std::int64_t>& rows, const std::vector<MapArray>& node_arrays,
+                 H5WriteOptions large) {
   const std::size_t n = g.nodes();
   const auto bug = [&](const std::string& what) {
     throw InternalError(path.string() + ": graph contents disagree: " + what);
@@ -101,13 +98,15 @@ void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::
   AtomicOutput output(path);
   {
     H5Writer out(output.temp_path());
-    out.write("/graph/offsets", g.offsets, {g.offsets.size()}, layout_for(g.offsets.size() * 8));
-    out.write("/graph/targets", g.targets, {g.targets.size()}, layout_for(g.targets.size() * 4));
-    out.write("/graph/lengths", g.lengths, {g.lengths.size()}, layout_for(g.lengths.size() * 4));
-    if (!rows.empty()) out.write("/graph/rows", rows, {n}, layout_for(n * 8));
+    out.write("/graph/offsets", g.offsets, {g.offsets.size()},
+              detail::layout_for_bytes(g.offsets.size() * 8, large));
+    out.write("/graph/targets", g.targets, {g.targets.size()},
+              detail::layout_for_bytes(g.targets.size() * 4, large));
+    out.write("/graph/lengths", g.lengths, {g.lengths.size()},
+              detail::layout_for_bytes(g.lengths.size() * 4, large));
+    if (!rows.empty()) out.write("/graph/rows", rows, {n}, detail::layout_for_bytes(n * 8, large));
     for (const MapArray& a : node_arrays) {
-      out.write(a.path, a.values, a.dims, layout_for(a.values.size() * 8));
-      detail::write_json_attributes(out, a.path, a.attributes);
+      detail::write_map_array(out, a, large);
     }
     detail::write_json_attributes(out, "/graph", attributes);
     detail::write_json_attributes(

@@ -21,6 +21,7 @@
 #include <vector>
 
 #include "engine/graph.hpp"
+#include "io/hdf5_file.hpp"
 #include "io/map_array.hpp"
 
 namespace unfurl::io {
@@ -35,11 +36,12 @@ struct GraphFile {
 };
 
 // Writes atomically (see io/atomic_output.hpp). `rows` is empty or has one entry per node;
-// each node array has N as its first dimension and a path under /graph/nodes/. Sizes that
+// each node array has N as its first dimension and a path under /graph/nodes/. `large` is
+// the layout of datasets above 4 MiB (default contiguous). Sizes that
 // disagree are a caller's bug (InternalError); an unwritable output is an OutputError.
 void write_graph(const std::filesystem::path& path, const NeighbourGraph& graph,
                  const nlohmann::json& attributes, const std::vector<std::int64_t>& rows = {},
-                 const std::vector<MapArray>& node_arrays = {});
+                 const std::vector<MapArray>& node_arrays = {}, H5WriteOptions large = {});
 
 // Reads and validates a graph file (or the /graph part of a map file that holds one).
 GraphFile read_graph(const std::filesystem::path& path);

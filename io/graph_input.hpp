@@ -28,6 +28,7 @@
 #include <vector>
 
 #include "engine/points.hpp"
+#include "engine/stop.hpp"
 
 namespace unfurl::io {
 
@@ -45,6 +46,7 @@ struct EdgeListOptions {
   std::string j_dataset = "/edges/j";                     // HDF5: second node of each edge
   std::string length_dataset = "/edges/length";           // HDF5: length of each edge
   std::string table_dataset;  // HDF5: one E x 3 dataset (i, j, length) instead; empty: unused
+  StopToken stop;             // polled every 2^20 lines or edges; default: never stops
   void validate() const;      // throws OptionError naming the field
 };
 
@@ -62,6 +64,7 @@ struct DistanceMatrixOptions {
   std::string dataset = "/distances";                     // HDF5: the N x N dataset
   std::optional<double> missing_value;  // a value marking a missing entry, besides NaN
   double symmetry_tolerance = 1e-6;     // largest |d_ij - d_ji| / max(d_ij, d_ji) accepted
+  StopToken stop;                       // polled every 256 matrix rows; default: never stops
   void validate() const;                // throws OptionError naming the field
 };
 

@@ -8,6 +8,7 @@
 #include "io/atomic_output.hpp"
 #include "io/detail/file_stamp.hpp"
 #include "io/detail/h5_json.hpp"
+#include "io/detail/map_array_io.hpp"
 #include "io/hdf5_file.hpp"
 
 namespace unfurl::io {
@@ -15,14 +16,6 @@ namespace {
 
 namespace fs = std::filesystem;
 using nlohmann::json;
-
-// Datasets above this size are chunked and deflated at the fastest level: map coordinates
-// compress little, geodesic rows somewhat, and level 1 keeps the write near disk speed.
-constexpr std::size_t compress_above_bytes = std::size_t{4} << 20;
-
-H5WriteOptions layout_for(std::size_t bytes) {
-  return H5WriteOptions{bytes > compress_above_bytes ? 1 : 0};
-}
 
 void check_sizes(const fs::path& path, const MapContents& c) {
   const auto fail = [&](const std::string& what) {
@@ -62,19 +55,21 @@ json input_identity(const fs::path& file, const std::string& dataset) {
           {"modified", detail::iso8601_utc(std::chrono::system_clock::to_time_t(system))}};
 }
 
-void write_map(const fs::path& path, const MapContents& c) {
+void write_map(const fs::path& path, const MapContents& c, H5WriteOptions large) {
   check_sizes(path, c);
   AtomicOutput output(path);
   {
     H5Writer out(output.temp_path());
     const std::size_t n = c.coords.rows, m = c.coords.cols, l = c.landmark_rows.size();
-    out.write("/coords", c.coords.values, {n, m}, layout_for(c.coords.values.size() * 4));
+    out.write("/coords", c.coords.values, {n, m},
+              detail::layout_for_bytes(c.coords.values.size() * 4, large));
     out.write("/rows", c.rows, {n});
     out.write("/landmarks/rows", c.landmark_rows, {l});
     out.write("/landmarks/coords", c.landmark_coords, {l, m});
     if (c.landmark_geodesic) {
       const DistanceRows& g = *c.landmark_geodesic;
-      out.write("/landmarks/geodesic", g.values, {l, n}, layout_for(g.values.size() * 4));
+      out.write("/landmarks/geodesic", g.values, {l, n},
+                detail::layout_for_bytes(g.values.size() * 4, large));
       out.write("/landmarks/nodes", g.sources, {l});
     }
     out.write("/spectrum", c.spectrum, {c.spectrum.size()});
@@ -82,8 +77,7 @@ void write_map(const fs::path& path, const MapContents& c) {
       if (extra.path.empty() || extra.path[0] != '/')
         throw InternalError(path.string() + ": extra dataset path '" + extra.path +
                             "' is not absolute");
-      out.write(extra.path, extra.values, extra.dims, layout_for(extra.values.size() * 8));
-      detail::write_json_attributes(out, extra.path, extra.attributes);
+      detail::write_map_array(out, extra, large);
     }
     detail::write_json_attributes(out, "/",
                                   detail::stamp_attributes(c.attributes, map_format_version));
@@ -93,6 +87,9 @@ void write_map(const fs::path& path, const MapContents& c) {
 }
 
 namespace {
+
+const std::set<std::string> graph_datasets = {"/graph/offsets", "/graph/targets", "/graph/lengths",
+                                              "/graph/rows"};
 
 const std::set<std::string> layout_datasets = {
     "/coords",          "/rows",    "/landmarks/rows", "/landmarks/coords", "/landmarks/geodesic",
@@ -157,13 +154,11 @@ MapContents read_map(const fs::path& path, bool with_geodesic) {
     c.spectrum = in.read<double>("/spectrum");
   }
   for (const std::string& name : in.datasets_under("/")) {
-    if (layout_datasets.count(name)) continue;
-    MapArray extra;
-    extra.path = name;
-    extra.dims = in.info(name).dims;
-    extra.values = in.read<double>(name);
-    extra.attributes = detail::read_json_attributes(in, name);
-    c.extras.push_back(std::move(extra));
+    // A full graph saved into the map is read_graph's business, not an extra.
+    if (layout_datasets.count(name) || graph_datasets.count(name) ||
+        name.rfind("/graph/nodes/", 0) == 0)
+      continue;
+    c.extras.push_back(detail::read_map_array(in, name));
   }
   c.attributes = detail::read_json_attributes(in, "/");
   return c;

@@ -11,6 +11,8 @@
 //   /spectrum            float64        eigenvalues of the landmark Gram matrix, descending
 //   /quality/*, /graph/*, other paths   extras: float64 datasets (scalars or arrays), each
 //                                       with its own attributes (k, method, sample size, ...)
+//   /graph/offsets, targets, lengths, rows, nodes/*   a full graph (io/graph_file.hpp), if
+//                                       saved here: read_graph reads it; read_map skips it
 //   attributes on /      format_version (int), program_version, creation_time (UTC ISO
 //                        8601), host, peak_memory_bytes, and whatever the caller passes
 //                        (input identity, parameters, seed, stage times), stored by the
@@ -18,8 +20,10 @@
 //                        one JSON string attribute plus one attribute per member
 //                        ("parameters.k").
 //
-// Large datasets (/coords, /landmarks/geodesic) are written chunked and deflated; readers
-// need nothing special for that.
+// Datasets are contiguous and uncompressed unless the writer is asked to deflate the large
+// ones (above 4 MiB): in one measured run deflate level 1 took 20 times the wall time of a
+// contiguous map write for a file 15% smaller (bench/RESULTS.md, io-maps). Readers need
+// nothing special either way.
 #pragma once
 
 #include <cstdint>
@@ -31,6 +35,7 @@
 
 #include "engine/distance_rows.hpp"
 #include "engine/points.hpp"
+#include "io/hdf5_file.hpp"
 #include "io/map_array.hpp"
 
 namespace unfurl::io {
@@ -54,7 +59,9 @@ struct MapContents {
 // creation_time, host and peak_memory_bytes to the attributes. Throws OutputError when the
 // output cannot be created, IoError when writing fails, InternalError when the contents
 // disagree in size (a caller's bug).
-void write_map(const std::filesystem::path& path, const MapContents& contents);
+// `large` is the layout of datasets above 4 MiB (default contiguous).
+void write_map(const std::filesystem::path& path, const MapContents& contents,
+               H5WriteOptions large = {});
 
 // Reads a map file; the geodesic rows (often the largest part) only when asked. Rejects a
 // newer format version and a file without /coords or /rows; checks every size against N, m

@@ -29,12 +29,13 @@ struct Matrix {
   std::vector<float> values;
 };
 
-Matrix read_csv(const std::filesystem::path& path) {
+Matrix read_csv(const std::filesystem::path& path, const StopToken& stop) {
   Matrix m;
   detail::LineReader lines(path);
   std::vector<std::string_view> fields;
   std::string_view line;
   while (lines.next(line)) {
+    if ((lines.line_number() & 0xff) == 0) stop.check("reading a distance matrix");
     if (detail::skippable(line)) continue;
     detail::split_fields(line, fields);
     const std::string where = path.string() + ": line " + std::to_string(lines.line_number());
@@ -97,7 +98,7 @@ PartialDistances read_partial_distances(const std::filesystem::path& path,
       break;
     }
     default:
-      m = read_csv(path);
+      m = read_csv(path, o.stop);
   }
   const std::string where =
       path.string() + (detail::resolve_format(o.format, path) == GraphInputFormat::hdf5
@@ -112,6 +113,7 @@ PartialDistances read_partial_distances(const std::filesystem::path& path,
   const bool has_sentinel = o.missing_value.has_value();
   const float sentinel = has_sentinel ? static_cast<float>(*o.missing_value) : 0.0f;
   for (std::size_t i = 0; i < n; ++i) {
+    if ((i & 0xff) == 0) o.stop.check("checking a distance matrix");
     for (std::size_t j = 0; j < n; ++j) {
       float& v = d[i * n + j];
       if (std::isnan(v) || (has_sentinel && v == sentinel)) {
@@ -130,6 +132,7 @@ PartialDistances read_partial_distances(const std::filesystem::path& path,
   PartialDistances out;
   out.n = n;
   for (std::size_t i = 0; i < n; ++i) {
+    if ((i & 0xff) == 0) o.stop.check("checking a distance matrix");
     for (std::size_t j = i + 1; j < n; ++j) {
       const float a = d[i * n + j], b = d[j * n + i];
       const bool missing_a = std::isnan(a), missing_b = std::isnan(b);

@@ -1,6 +1,8 @@
 #include "io/detail/hdf5_sandbox.hpp"
 
+#include <fcntl.h>
 #include <hdf5.h>
+#include <poll.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -11,7 +13,6 @@
 #include <csignal>
 #include <cstring>
 #include <string>
-#include <thread>
 #include <vector>
 
 #include "engine/error.hpp"
@@ -96,29 +97,52 @@ void set_hdf5_check_timeout(double seconds) {
 
 void check_hdf5_in_child(const std::filesystem::path& file) {
   const double timeout = g_timeout_seconds.load();
+  // The child holds the write end of a pipe; its exit closes it, which wakes poll() at once.
+  int pipe_ends[2];
+  if (::pipe2(pipe_ends, O_CLOEXEC) != 0) return;  // cannot isolate: the checked read follows
   const pid_t child = ::fork();
-  if (child < 0) return;  // cannot isolate: fall through to the ordinary checked read
-  if (child == 0) walk_and_exit(file);
-  const auto deadline = std::chrono::steady_clock::now() + std::chrono::duration<double>(timeout);
-  int status = 0;
-  auto pause = std::chrono::microseconds(200);
-  for (;;) {
-    const pid_t done = ::waitpid(child, &status, WNOHANG);
-    if (done == child) break;
-    if (done < 0 && errno != EINTR) return;
-    if (std::chrono::steady_clock::now() > deadline) {
-      ::kill(child, SIGKILL);
-      while (::waitpid(child, &status, 0) < 0 && errno == EINTR) {
-      }
-      throw IoError(file.string() + ": damaged HDF5 file: reading its metadata did not finish " +
-                    "within " + std::to_string(static_cast<int>(timeout)) + " s");
-    }
-    std::this_thread::sleep_for(pause);
-    pause = std::min(pause * 2, std::chrono::microseconds(20000));
+  if (child < 0) {
+    ::close(pipe_ends[0]);
+    ::close(pipe_ends[1]);
+    return;
   }
+  if (child == 0) {
+    ::close(pipe_ends[0]);
+    walk_and_exit(file);
+  }
+  ::close(pipe_ends[1]);
+  const auto deadline = std::chrono::steady_clock::now() + std::chrono::duration<double>(timeout);
+  bool finished = false;
+  for (;;) {
+    const auto left = std::chrono::duration_cast<std::chrono::milliseconds>(
+                          deadline - std::chrono::steady_clock::now())
+                          .count();
+    if (left <= 0) break;
+    pollfd p{pipe_ends[0], POLLIN, 0};
+    const int r = ::poll(&p, 1, static_cast<int>(std::min<long long>(left, 1000)));
+    if (r > 0) {
+      finished = true;
+      break;
+    }
+    if (r < 0 && errno != EINTR) break;
+  }
+  ::close(pipe_ends[0]);
+  if (!finished) ::kill(child, SIGKILL);
+  int status = 0;
+  while (::waitpid(child, &status, 0) < 0) {
+    if (errno != EINTR) return;
+  }
+  if (!finished)
+    throw IoError(file.string() + ": damaged HDF5 file: reading its metadata did not finish " +
+                  "within " + std::to_string(static_cast<int>(timeout)) + " s");
+  // The walk exits 0 whatever the library reports; anything else is a crash (a signal, or a
+  // sanitizer's exit in instrumented builds).
   if (WIFSIGNALED(status))
     throw IoError(file.string() + ": damaged HDF5 file: reading its metadata crashed the HDF5 " +
                   "library (signal " + std::to_string(WTERMSIG(status)) + ")");
+  if (!WIFEXITED(status) || WEXITSTATUS(status) != 0)
+    throw IoError(file.string() + ": damaged HDF5 file: reading its metadata failed inside the " +
+                  "HDF5 library (exit " + std::to_string(WEXITSTATUS(status)) + ")");
 }
 
 }  // namespace unfurl::io::detail

@@ -260,3 +260,21 @@ TEST_CASE("partial distances from HDF5 and NPY", "[graph_input]") {
     CHECK_THROWS_WITH(read_partial_distances(dir / "bad.npy"), Catch::Contains(message));
   }
 }
+
+TEST_CASE("graph input readers stop on request", "[graph_input]") {
+  unfurl::test::TempFolder dir;
+  std::string text;
+  for (int k = 0; k < (1 << 20) + 5; ++k) text += "0,1,1\n";
+  unfurl::test::write_bytes(dir / "e.csv", text);
+  std::atomic<bool> stop{true};
+  EdgeListOptions o;
+  o.stop.flag = &stop;
+  CHECK_THROWS_AS(read_edge_list(dir / "e.csv", o), unfurl::InterruptedError);
+  stop = false;
+  CHECK(read_edge_list(dir / "e.csv", o).from.size() == (1u << 20) + 5);
+  unfurl::test::write_bytes(dir / "d.csv", "0,1\n1,0\n");
+  DistanceMatrixOptions d;
+  d.stop.flag = &stop;
+  stop = true;
+  CHECK_THROWS_AS(read_partial_distances(dir / "d.csv", d), unfurl::InterruptedError);
+}

@@ -1,11 +1,15 @@
 #include "io/map_file.hpp"
 
+#include <sys/wait.h>
+#include <unistd.h>
 #include <catch2/catch.hpp>
+
 #include <cmath>
 
 #include "engine/error.hpp"
 #include "engine/random.hpp"
 #include "io/detail/hdf5_sandbox.hpp"
+#include "io/graph_file.hpp"
 #include "io/hdf5_file.hpp"
 #include "tests/io/temp_folder.hpp"
 
@@ -105,7 +109,7 @@ TEST_CASE("map file round trips every field", "[map_file]") {
 TEST_CASE("map file of a large map is chunked and still exact", "[map_file]") {
   unfurl::test::TempFolder dir;
   MapContents big = sample_map(400000, 3, 4, true);  // /coords 4.8 MB: above the threshold
-  unfurl::io::write_map(dir / "big.h5", big);
+  unfurl::io::write_map(dir / "big.h5", big, {1});
   const MapContents read = unfurl::io::read_map(dir / "big.h5", true);
   CHECK(read.coords.values == big.coords.values);
   CHECK(read.landmark_geodesic->values == big.landmark_geodesic->values);
@@ -232,13 +236,15 @@ TEST_CASE("input identity names the file, its size and time", "[map_file]") {
 
 TEST_CASE("map reader survives flipped bytes without crashing", "[map_file]") {
   // Corruption anywhere must end in success or one of our exceptions: never a crash, never
-  // a foreign exception type.
+  // a foreign exception type. Each read runs in a child process of its own because HDF5 1.10
+  // leaks memory on the error paths of damaged files, which would fail a leak-checking build
+  // for a fault that is not ours; the child reports by its exit code.
   unfurl::test::TempFolder dir;
   unfurl::io::detail::set_hdf5_check_timeout(2.0);  // some damage sends HDF5 into a loop
   unfurl::io::write_map(dir / "good.h5", sample_map(50, 2, 3, true));
   const std::string bytes = unfurl::test::file_bytes(dir / "good.h5");
   unfurl::Random rng(99);
-  int failures = 0;
+  int refused = 0, accepted = 0;
   for (int trial = 0; trial < 200; ++trial) {
     std::string damaged = bytes;
     for (int k = 0; k < 4; ++k) {
@@ -246,12 +252,50 @@ TEST_CASE("map reader survives flipped bytes without crashing", "[map_file]") {
       damaged[at] = static_cast<char>(damaged[at] ^ (1 + static_cast<int>(rng.uniform() * 255)));
     }
     unfurl::test::write_bytes(dir / "bad.h5", damaged);
-    try {
-      (void)unfurl::io::read_map(dir / "bad.h5", true);
-    } catch (const unfurl::Error&) {
-      ++failures;
+    const pid_t child = ::fork();
+    REQUIRE(child >= 0);
+    if (child == 0) {
+      int code = 0;
+      try {
+        (void)unfurl::io::read_map(dir / "bad.h5", true);
+      } catch (const unfurl::Error&) {
+        code = 3;
+      } catch (...) {
+        code = 4;
+      }
+      ::_exit(code);
     }
+    int status = 0;
+    REQUIRE(::waitpid(child, &status, 0) == child);
+    CAPTURE(trial);
+    REQUIRE(WIFEXITED(status));
+    REQUIRE((WEXITSTATUS(status) == 0 || WEXITSTATUS(status) == 3));
+    (WEXITSTATUS(status) == 3 ? refused : accepted)++;
   }
   unfurl::io::detail::set_hdf5_check_timeout(30.0);
-  CHECK(failures > 0);  // some flips must have been noticed
+  CHECK(refused > 0);  // some flips must have been noticed
+}
+
+TEST_CASE("a graph saved inside a map is not read as extras", "[map_file]") {
+  unfurl::test::TempFolder dir;
+  {
+    // Add the CSR arrays of a two-node graph next to the map's own datasets.
+    unfurl::io::H5Writer out(dir / "m2.h5");
+    const MapContents c = sample_map(10, 2, 2, false);
+    out.write("/coords", c.coords.values, {10, 2});
+    out.write("/rows", c.rows, {10});
+    out.write("/graph/offsets", std::vector<std::int64_t>{0, 1, 2}, {3});
+    out.write("/graph/targets", std::vector<std::uint32_t>{1, 0}, {2});
+    out.write("/graph/lengths", std::vector<float>{0.5f, 0.5f}, {2});
+    out.write("/graph/nodes/component", std::vector<double>{0, 0}, {2});
+    out.write("/graph/edges_kept", std::vector<double>{2}, {});
+    out.set_int_attribute("/", "format_version", 1);
+    out.close();
+  }
+  const MapContents read = unfurl::io::read_map(dir / "m2.h5");
+  REQUIRE(read.extras.size() == 1);
+  CHECK(read.extras[0].path == "/graph/edges_kept");
+  const auto graph = unfurl::io::read_graph(dir / "m2.h5");  // while read_graph finds it
+  CHECK(graph.graph.nodes() == 2);
+  CHECK(graph.node_arrays.size() == 1);
 }
