@@ -90,6 +90,9 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
   result.source_type = hdf5_type_name(type.get());
   if (!is_numeric_type(type.get()))
     throw DataError(where + ": holds " + result.source_type + " values; points need numbers");
+  if (!is_plain_numeric_type(type.get()))
+    throw DataError(where + ": stored type " + result.source_type +
+                    " is not a whole-byte integer or an IEEE 754 float layout (damaged file?)");
   const auto dims = dataspace_dims(space.get(), where);
   if (dims.size() != 2)
     throw DataError(where + ": is " + std::to_string(dims.size()) +

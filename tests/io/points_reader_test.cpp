@@ -290,6 +290,9 @@ TEST_CASE("CSV with and without header, each delimiter, comments and blank lines
     part.rows = RowRange{3, 29};
     check_values(read_points(headed, part), 3, 26, cols, true, false);
   }
+  const auto bom = dir / "bom.csv";  // a UTF-8 byte order mark before numbers: still data
+  write_bytes(bom, "\xEF\xBB\xBF" + csv_table(rows, cols, ","));
+  check_values(read_points(bom), 0, rows, cols, true, false);
   const auto tsv = dir / "t.tsv";
   write_bytes(tsv, csv_table(rows, cols, "\t"));
   CHECK(read_points(tsv).format == "tsv");
