@@ -410,7 +410,7 @@ TEST_CASE("Damaged files give project errors, never a crash or another exception
     const std::string whole = read_bytes(dir / name);
     // NPY damage goes to the header, where parsing happens; HDF5 damage anywhere.
     const std::size_t span = std::string(name) == "ok.npy" ? 128 : whole.size();
-    for (int trial = 0; trial < 80; ++trial) {
+    for (int trial = 0; trial < 400; ++trial) {
       std::string bytes = whole;
       for (int k = 0; k < 3; ++k) bytes[gen() % span] = static_cast<char>(gen() & 0xff);
       if (trial % 5 == 0) bytes.resize(gen() % bytes.size());
