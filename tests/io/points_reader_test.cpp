@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "engine/error.hpp"
+#include "io/file_description.hpp"
 #include "io/points_reader.hpp"
 #include "tests/io/point_fixtures.hpp"
 
@@ -404,6 +405,8 @@ TEST_CASE("Damaged files give project errors, never a crash or another exception
   const auto values = table<double>(64, 4);
   write_hdf5(dir / "ok.h5", "/g/x", {64, 4}, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, values.data(),
              {true, 16, 3});
+  write_hdf5_attribute(dir / "ok.h5", "/", "origin", "damaged-file test");
+  write_hdf5_attribute(dir / "ok.h5", "/g/x", "units", "metres");
   write_npy(dir / "ok.npy", ">f8", {64, 4}, true, npy_bytes<double>(64, 4, true, true));
   std::mt19937 gen(2026);
   for (const char* name : {"ok.h5", "ok.npy"}) {
@@ -417,6 +420,10 @@ TEST_CASE("Damaged files give project errors, never a crash or another exception
       const auto damaged = dir / ("damaged" + std::filesystem::path(name).extension().string());
       write_bytes(damaged, bytes);
       std::string outcome = "read";
+      try {
+        (void)describe_file(damaged);  // what inspect reads first
+      } catch (const Error&) {
+      }
       try {
         (void)read_points(damaged);
       } catch (const Error& e) {
