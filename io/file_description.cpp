@@ -50,7 +50,7 @@ ArrayDescription describe_dataset(hid_t file, const std::string& path, const std
   for (const auto& f : detail::dataset_filters(dcpl.get()))
     a.filters.push_back(f.available ? f.name : f.name + " (not available)");
   a.attributes = detail::attribute_texts(d.get());
-  a.points_candidate = detail::is_numeric_type(type.get()) && a.shape.size() == 2 &&
+  a.points_candidate = detail::is_plain_numeric_type(type.get()) && a.shape.size() == 2 &&
                        a.shape[0] > 0 && a.shape[1] > 0;
   return a;
 }

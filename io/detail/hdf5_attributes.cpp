@@ -74,7 +74,7 @@ std::string attribute_value(hid_t attr) {
   const std::string type_name = hdf5_type_name(type.get());
   if (n > kMaxShown) return angled(std::to_string(n) + " " + type_name + " values");
   if (H5Tget_class(type.get()) == H5T_STRING) return string_value(attr, type.get(), space.get(), n);
-  if (!is_numeric_type(type.get())) return angled(type_name);
+  if (!is_plain_numeric_type(type.get())) return angled(type_name);
   std::vector<double> values(static_cast<std::size_t>(n));
   if (H5Aread(attr, H5T_NATIVE_DOUBLE, values.data()) < 0) return "<unreadable>";
   std::vector<std::string> parts;

@@ -81,6 +81,31 @@ bool is_numeric_type(hid_t type) {
   return c == H5T_INTEGER || c == H5T_FLOAT;
 }
 
+bool is_plain_numeric_type(hid_t type) {
+  const H5T_class_t c = H5Tget_class(type);
+  const std::size_t size = H5Tget_size(type);
+  const H5T_order_t order = H5Tget_order(type);
+  if ((c != H5T_INTEGER && c != H5T_FLOAT) || (order != H5T_ORDER_LE && order != H5T_ORDER_BE))
+    return false;
+  if (H5Tget_precision(type) != size * 8 || H5Tget_offset(type) != 0) return false;
+  if (c == H5T_INTEGER) return size == 1 || size == 2 || size == 4 || size == 8;
+  // IEEE 754 binary16/32/64: sign position, exponent position and size, mantissa position
+  // and size, exponent bias.
+  struct Layout {
+    std::size_t size, spos, epos, esize, mpos, msize, bias;
+  };
+  static constexpr Layout ieee[] = {
+      {2, 15, 10, 5, 0, 10, 15}, {4, 31, 23, 8, 0, 23, 127}, {8, 63, 52, 11, 0, 52, 1023}};
+  std::size_t spos = 0, epos = 0, esize = 0, mpos = 0, msize = 0;
+  if (H5Tget_fields(type, &spos, &epos, &esize, &mpos, &msize) < 0) return false;
+  const std::size_t bias = H5Tget_ebias(type);
+  for (const Layout& l : ieee)
+    if (l.size == size && l.spos == spos && l.epos == epos && l.esize == esize && l.mpos == mpos &&
+        l.msize == msize && l.bias == bias && H5Tget_norm(type) == H5T_NORM_IMPLIED)
+      return true;
+  return false;
+}
+
 std::vector<hsize_t> dataspace_dims(hid_t space, const std::string& where) {
   const H5S_class_t kind = H5Sget_simple_extent_type(space);
   if (kind == H5S_SCALAR || kind == H5S_NULL) return {};
@@ -100,7 +125,7 @@ std::vector<std::string> point_dataset_paths(hid_t file, const std::string& wher
     if (!d) continue;
     Hid type(H5Dget_type(d.get()));
     Hid space(H5Dget_space(d.get()));
-    if (!type || !space || !is_numeric_type(type.get())) continue;
+    if (!type || !space || !is_plain_numeric_type(type.get())) continue;
     try {
       const auto dims = dataspace_dims(space.get(), where + ":" + path);
       if (dims.size() == 2 && dims[0] > 0 && dims[1] > 0) found.push_back(path);

@@ -19,6 +19,10 @@ std::vector<std::string> dataset_paths(hid_t file, const std::string& where);
 // "float32", "int16", "uint8", "string", "compound", ...
 std::string hdf5_type_name(hid_t type);
 bool is_numeric_type(hid_t type);
+// A numeric type HDF5 converts safely: integers of 1, 2, 4 or 8 whole bytes, or the IEEE 754
+// half, single or double layout, either byte order. Damaged files can declare other layouts
+// (a float of 24,328 bytes), on which HDF5 1.10's conversion writes out of bounds.
+bool is_plain_numeric_type(hid_t type);
 
 // Dimensions of a simple dataspace (empty for scalar or null); IoError when unreadable.
 std::vector<hsize_t> dataspace_dims(hid_t space, const std::string& where);

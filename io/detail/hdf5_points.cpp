@@ -72,6 +72,26 @@ std::string choose_dataset(hid_t file, const std::string& requested, const std::
   return candidates.front();
 }
 
+// The chunk shape, checked as HDF5 checks it when it creates a dataset (every chunk dimension
+// positive and within a fixed maximum dimension, a chunk under 4 GiB): a damaged file can
+// declare any chunk shape, and HDF5 1.10 reads past its buffers on some of them.
+hsize_t checked_chunk_rows(hid_t space, hid_t dcpl, hid_t type, const std::string& where) {
+  hsize_t dims[2] = {0, 0}, maxdims[2] = {0, 0}, chunk[2] = {0, 0};
+  const bool ok =
+      H5Sget_simple_extent_dims(space, dims, maxdims) == 2 && H5Pget_chunk(dcpl, 2, chunk) == 2;
+  double bytes = static_cast<double>(H5Tget_size(type));
+  bool fits = ok;
+  for (int i = 0; i < 2 && fits; ++i) {
+    fits = chunk[i] > 0 && maxdims[i] >= dims[i] &&
+           (maxdims[i] == H5S_UNLIMITED || chunk[i] <= maxdims[i]);
+    bytes *= static_cast<double>(chunk[i]);
+  }
+  if (!fits || bytes >= 4294967296.0)
+    throw IoError(where + ": chunk shape " + std::to_string(chunk[0]) + " x " +
+                  std::to_string(chunk[1]) + " does not fit the dataset (corrupt file)");
+  return chunk[0];
+}
+
 }  // namespace
 
 void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions& options,
@@ -90,6 +110,9 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
   result.source_type = hdf5_type_name(type.get());
   if (!is_numeric_type(type.get()))
     throw DataError(where + ": holds " + result.source_type + " values; points need numbers");
+  if (!is_plain_numeric_type(type.get()))
+    throw DataError(where + ": stored type " + result.source_type +
+                    " is not a whole-byte integer or an IEEE 754 float layout (damaged file?)");
   const auto dims = dataspace_dims(space.get(), where);
   if (dims.size() != 2)
     throw DataError(where + ": is " + std::to_string(dims.size()) +
@@ -120,10 +143,8 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
 
   // Blocks end on chunk-row boundaries so that every chunk is decoded once.
   hsize_t chunk_rows = 1;
-  if (H5Pget_layout(dcpl.get()) == H5D_CHUNKED) {
-    hsize_t chunk[2] = {1, 1};
-    if (H5Pget_chunk(dcpl.get(), 2, chunk) == 2 && chunk[0] > 0) chunk_rows = chunk[0];
-  }
+  if (H5Pget_layout(dcpl.get()) == H5D_CHUNKED)
+    chunk_rows = checked_chunk_rows(space.get(), dcpl.get(), type.get(), where);
   const auto row_bytes = static_cast<hsize_t>(cols * sizeof(float));
   hsize_t block = std::max<hsize_t>(1, kBlockBytes / row_bytes);
   block = std::max<hsize_t>(chunk_rows, block / chunk_rows * chunk_rows);

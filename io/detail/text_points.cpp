@@ -83,6 +83,11 @@ bool is_content(std::string_view line) {
   return !t.empty() && t.front() != '#';
 }
 
+// A UTF-8 byte order mark (as some spreadsheet programs write) is not part of the first field.
+void strip_bom(std::string& line) {
+  if (line.rfind("\xEF\xBB\xBF", 0) == 0) line.erase(0, 3);
+}
+
 }  // namespace
 
 TextLayout scan_text_layout(const std::filesystem::path& file, const std::string& format) {
@@ -92,7 +97,8 @@ TextLayout scan_text_layout(const std::filesystem::path& file, const std::string
   std::string line;
   std::vector<std::string_view> fields;
   bool first = true;
-  while (std::getline(in, line)) {
+  for (std::size_t line_no = 1; std::getline(in, line); ++line_no) {
+    if (line_no == 1) strip_bom(line);
     if (!is_content(line)) continue;
     if (first) {
       first = false;
@@ -137,6 +143,7 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
   constexpr double float_max = std::numeric_limits<float>::max();
   while (std::getline(in, line)) {
     if (++line_no % 65536 == 0) options.stop.check("reading points");
+    if (line_no == 1) strip_bom(line);
     if (!is_content(line)) continue;
     if (delimiter == 0) delimiter = sniff_delimiter(line);
     split(line, delimiter, fields);

@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "engine/error.hpp"
+#include "io/file_description.hpp"
 #include "io/points_reader.hpp"
 #include "tests/io/point_fixtures.hpp"
 
@@ -290,6 +291,9 @@ TEST_CASE("CSV with and without header, each delimiter, comments and blank lines
     part.rows = RowRange{3, 29};
     check_values(read_points(headed, part), 3, 26, cols, true, false);
   }
+  const auto bom = dir / "bom.csv";  // a UTF-8 byte order mark before numbers: still data
+  write_bytes(bom, "\xEF\xBB\xBF" + csv_table(rows, cols, ","));
+  check_values(read_points(bom), 0, rows, cols, true, false);
   const auto tsv = dir / "t.tsv";
   write_bytes(tsv, csv_table(rows, cols, "\t"));
   CHECK(read_points(tsv).format == "tsv");
@@ -401,19 +405,25 @@ TEST_CASE("Damaged files give project errors, never a crash or another exception
   const auto values = table<double>(64, 4);
   write_hdf5(dir / "ok.h5", "/g/x", {64, 4}, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, values.data(),
              {true, 16, 3});
+  write_hdf5_attribute(dir / "ok.h5", "/", "origin", "damaged-file test");
+  write_hdf5_attribute(dir / "ok.h5", "/g/x", "units", "metres");
   write_npy(dir / "ok.npy", ">f8", {64, 4}, true, npy_bytes<double>(64, 4, true, true));
   std::mt19937 gen(2026);
   for (const char* name : {"ok.h5", "ok.npy"}) {
     const std::string whole = read_bytes(dir / name);
     // NPY damage goes to the header, where parsing happens; HDF5 damage anywhere.
     const std::size_t span = std::string(name) == "ok.npy" ? 128 : whole.size();
-    for (int trial = 0; trial < 80; ++trial) {
+    for (int trial = 0; trial < 400; ++trial) {
       std::string bytes = whole;
       for (int k = 0; k < 3; ++k) bytes[gen() % span] = static_cast<char>(gen() & 0xff);
       if (trial % 5 == 0) bytes.resize(gen() % bytes.size());
       const auto damaged = dir / ("damaged" + std::filesystem::path(name).extension().string());
       write_bytes(damaged, bytes);
       std::string outcome = "read";
+      try {
+        (void)describe_file(damaged);  // what inspect reads first
+      } catch (const Error&) {
+      }
       try {
         (void)read_points(damaged);
       } catch (const Error& e) {

@@ -166,6 +166,10 @@ def main():
         whole = open(os.path.join(tmp, "af4C.npy"), "rb").read()
         open(os.path.join(tmp, "cut.npy"), "wb").write(whole[:-7])
         open(os.path.join(tmp, "ragged.csv"), "w").write("1,2,3\n4,5,6\n7,8\n")
+        lzf = os.path.join(tmp, "lzf.h5")  # h5py's own LZF filter, which libhdf5 lacks
+        with h5py.File(lzf, "w") as f:
+            f.create_dataset("x", data=base, compression="lzf")
+        expect_failure(tmp, "filter not available", [lzf], 65, "lzf")
         expect_failure(tmp, "missing file", [os.path.join(tmp, "absent.h5")], 66, "absent.h5")
         expect_failure(tmp, "NaN", [os.path.join(tmp, "nan.npy")], 65, "row 40")
         expect_failure(tmp, "no such dataset", [h5, "--dataset", "/nope"], 66, "/nope")
