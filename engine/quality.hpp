@@ -46,7 +46,7 @@ enum class ScoreMethod {
   sampled,    // `sample` query points drawn with `seed`
 };
 
-// "automatic", "exact" or "sampled" (the names the command line uses).
+// "automatic", "exact" or "sampled": the names for messages, files and option values.
 const char* score_method_name(ScoreMethod method);
 
 struct QualityOptions {
