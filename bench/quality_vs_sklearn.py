@@ -7,7 +7,6 @@ mapped to its unrolled coordinates (arc length, height) plus Gaussian noise of 0
 scikit-learn holds several N x N arrays (about 13 GB at N = 20,000): check free memory first.
 """
 import os
-import resource
 import subprocess
 import sys
 import tempfile
@@ -40,12 +39,13 @@ def sklearn_child(x_path, y_path, k):
 
 
 def timed_child(cmd):
+    # Peak memory from GNU time (%M, KiB) of the child alone: getrusage(RUSAGE_CHILDREN) would
+    # count the Python pages a forked child holds before it execs.
     t0 = time.perf_counter()
-    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    out = subprocess.run(cmd, capture_output=True, text=True, check=True).stdout
+    r = subprocess.run(["/usr/bin/time", "-f", "%M", *cmd], capture_output=True, text=True,
+                       check=True)
     wall = time.perf_counter() - t0
-    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    return out, wall, max(peak, before) / 1024.0  # MiB; the larger child so far
+    return r.stdout, wall, int(r.stderr.strip().splitlines()[-1]) / 1024.0  # MiB
 
 
 def main():
@@ -64,7 +64,6 @@ def main():
         xp, yp = f"{tmp}/x.bin", f"{tmp}/y.bin"
         write_points(xp, roll)
         write_points(yp, mapped)
-        # unfurl first: its peak is the first child's; scikit-learn's is the larger one after.
         out, unfurl_wall, unfurl_peak = timed_child([probe, "scores", xp, yp, str(k), "exact",
                                                      "2", "1"])
         import json

@@ -107,7 +107,7 @@ void ranks_in_other_space(const detail::DistanceScanner& other, const double* qu
       }
     }
     if (missing.empty()) continue;
-    std::sort(missing.begin(), missing.end(), detail::before);
+    std::sort(missing.begin(), missing.end(), detail::Before{});
     ws.q_pending.insert(ws.q_pending.end(), q, q + dims);
     ws.pending_self.push_back(static_cast<NodeId>(selves[b]));
     ws.pending_query.push_back(b);
@@ -164,10 +164,10 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   const std::size_t kmax = *std::max_element(options.ks.begin(), options.ks.end());
   // Candidates beyond kmax make most ranks of misplaced neighbours free; only those farther
   // out need a counting pass (a second scan of all points). Keeping more candidates costs
-  // about kc log(N / kc) heap updates per query, small against the N-point scan while
-  // kc <= N / 64.
+  // about kc (1 + ln(N / kc)) insertions per query, small against the N-point scan while
+  // kc <= N / 256.
   const std::size_t kc =
-      std::min(n - 1, std::max({8 * kmax, kmax + 96, std::min<std::size_t>(n / 64, 1024)}));
+      std::min(n - 1, std::max({8 * kmax, kmax + 96, std::min<std::size_t>(n / 256, 1024)}));
 
   std::vector<std::uint64_t> t_sum(nq * nk), c_sum(nq * nk);
   std::vector<std::uint32_t> shared(nq * nk);

@@ -25,7 +25,7 @@
 //
 // Cost: every query point is compared with all N points in both spaces, in double (about
 // N (d + m) operations per query), parallel over blocks of query points; misplaced neighbours
-// ranked beyond about max(8k, N/64, up to 1024) candidates cost one more scan. Memory: a
+// ranked beyond about max(8k, k + 96, min(N/256, 1024)) candidates cost one more scan. Memory: a
 // transposed float copy of each point set (when it fits in 1 GiB; else chunks are transposed
 // on the fly) plus O(block x chunk) per thread; never N x N.
 #pragma once
@@ -46,7 +46,7 @@ enum class ScoreMethod {
   sampled,    // `sample` query points drawn with `seed`
 };
 
-// "automatic", "exact" or "sampled" (the names the command line uses).
+// "automatic", "exact" or "sampled": the names for messages, files and option values.
 const char* score_method_name(ScoreMethod method);
 
 struct QualityOptions {

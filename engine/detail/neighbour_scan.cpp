@@ -67,25 +67,23 @@ void DistanceScanner::distances(const double* queries, std::size_t count, std::s
 
 void NearestList::reset(std::size_t size) {
   size_ = size;
-  heap_.clear();
-  heap_.reserve(size);
+  worst_ = kInf;
+  buffer_.clear();
+  buffer_.reserve(2 * size);
 }
 
-void NearestList::push(double dist2, NodeId id) {
-  heap_.push_back({dist2, id});
-  std::push_heap(heap_.begin(), heap_.end(), before);
-}
-
-void NearestList::replace_worst(double dist2, NodeId id) {
-  std::pop_heap(heap_.begin(), heap_.end(), before);
-  heap_.back() = {dist2, id};
-  std::push_heap(heap_.begin(), heap_.end(), before);
+void NearestList::cut() {
+  const auto last = buffer_.begin() + static_cast<std::ptrdiff_t>(size_) - 1;
+  std::nth_element(buffer_.begin(), last, buffer_.end(), Before{});
+  buffer_.resize(size_);
+  worst_ = buffer_.back().dist2;  // the size_-th best: every kept point comes before it
 }
 
 void NearestList::take_sorted(std::vector<Ranked>& out) {
-  std::sort_heap(heap_.begin(), heap_.end(), before);
-  out.swap(heap_);
-  heap_.clear();
+  if (buffer_.size() > size_) cut();
+  std::sort(buffer_.begin(), buffer_.end(), Before{});
+  out.swap(buffer_);
+  buffer_.clear();
 }
 
 void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t count,
@@ -112,7 +110,7 @@ void ranks_of(const DistanceScanner& scanner, const double* queries, std::size_t
         if (row[l - begin] > last.dist2) continue;  // the common case, one compare
         const Ranked r{row[l - begin], static_cast<NodeId>(l)};
         if (!before(r, last) || l == selves[b]) continue;
-        const auto it = std::upper_bound(t.begin(), t.end(), r, before);
+        const auto it = std::upper_bound(t.begin(), t.end(), r, Before{});
         ++below[static_cast<std::size_t>(it - t.begin())];
       }
     }
