@@ -9,6 +9,8 @@
 #include <limits>
 #include <new>
 
+#include <unistd.h>
+
 #include "engine/error.hpp"
 #include "io/detail/point_formats.hpp"
 
@@ -170,6 +172,12 @@ PointSet allocate_points(std::size_t rows, std::size_t cols, const std::string& 
   if (rows > std::numeric_limits<std::size_t>::max() / sizeof(float) / cols)
     throw DataError(where + ": shape " + std::to_string(rows) + " x " + std::to_string(cols) +
                     " is too large to address");
+  // Refuse before trying what cannot fit: a damaged header can claim petabytes.
+  const double bytes = static_cast<double>(rows) * static_cast<double>(cols) * sizeof(float);
+  const long pages = sysconf(_SC_PHYS_PAGES), page_size = sysconf(_SC_PAGE_SIZE);
+  if (pages > 0 && page_size > 0 && bytes > static_cast<double>(pages) * page_size)
+    throw ResourceError(where + ": " + std::to_string(rows) + " x " + std::to_string(cols) +
+                        " float32 values need more memory than this machine has (try --rows)");
   try {
     return PointSet(rows, cols);
   } catch (const std::bad_alloc&) {

@@ -11,7 +11,34 @@
 #include <type_traits>
 #include <vector>
 
+#if defined(__SANITIZE_ADDRESS__)
+#include <sanitizer/lsan_interface.h>
+#endif
+
 namespace unfurl::test {
+
+// HDF5 1.10 leaks a few hundred bytes on some error paths when it opens damaged files (the
+// blocks are allocated inside libhdf5, seen after a failed H5Fopen). Leak checking pauses
+// while such files are read, so that leaks of our own code still fail every other test.
+// HDF5 recycles blocks through its own free lists, so they are emptied on both sides of the
+// pause: a block allocated outside it must not be lost inside it.
+class LeakCheckPause {
+ public:
+#if defined(__SANITIZE_ADDRESS__)
+  LeakCheckPause() {
+    H5garbage_collect();
+    __lsan_disable();
+  }
+  ~LeakCheckPause() {
+    H5garbage_collect();
+    __lsan_enable();
+  }
+#else
+  LeakCheckPause() = default;
+#endif
+  LeakCheckPause(const LeakCheckPause&) = delete;
+  LeakCheckPause& operator=(const LeakCheckPause&) = delete;
+};
 
 // A fresh folder under the system temporary folder, removed with everything in it.
 class TempDir {

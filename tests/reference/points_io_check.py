@@ -123,6 +123,18 @@ def main():
             f.create_dataset("labels", data=np.arange(257))
         compare(tmp, "h5py default dataset", single, base)
 
+        # Constant data compresses near deflate's limit (about 1032:1): still points.
+        flat = os.path.join(tmp, "flat.h5")
+        with h5py.File(flat, "w") as f:
+            f.create_dataset("zeros", data=np.zeros((4000, 784), np.float32), chunks=(1000, 784),
+                             compression="gzip", compression_opts=9, shuffle=True)
+            f.create_dataset("threes", data=np.full((500, 20), 3.0, np.float32), chunks=(100, 20),
+                             scaleoffset=0)
+        with h5py.File(flat, "r") as f:
+            print(f"zeros: {f['zeros'].id.get_storage_size()} bytes stored for {4000 * 784 * 4}")
+            compare(tmp, "h5py gzip zeros", flat, f["zeros"][()], ["--dataset", "zeros"])
+            compare(tmp, "h5py scale-offset", flat, f["threes"][()], ["--dataset", "threes"])
+
         for dtype, fortran, version in [("<f4", False, (1, 0)), ("<f8", True, (2, 0)),
                                         (">f8", False, (3, 0)), (">i4", True, (1, 0)),
                                         ("<u2", False, (1, 0)), ("|i1", True, (2, 0)),
