@@ -79,7 +79,7 @@ void add_map_options(CLI::App* cmd, MapArgs& a) {
       ->check(CLI::IsMember({"maxmin", "random"}))
       ->capture_default_str();
   cmd->add_flag("--keep-geodesics", a.keep_geodesics,
-                "Store the landmark geodesic rows in the map (needed to place new points)");
+                "Store the landmark geodesic rows (L x N float32) in the map");
   cmd->add_option("--node-order", a.node_order,
                   "Node numbering for the shortest-path stage, for memory locality (it also "
                   "decides which node the seed makes the first landmark)")

@@ -7,6 +7,7 @@
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
+#include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
 #include "engine/error.hpp"
 #include "io/atomic_output.hpp"
@@ -57,6 +58,13 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
                         "provide (wrong --points, --rows or --dataset?)",
                         a.map, r, row, a.points.file));
       std::copy_n(in.points.row(position[row]), in.points.cols, input.row(r));
+    }
+    if (auto model = preprocess_from_arrays(m.extras)) {
+      // Score in the space the neighbour search of `embed` saw.
+      input = apply_preprocess(*model, input);
+      say(g, fmt::format("points transformed as the map's /preprocess records (scale {}, metric "
+                         "{}, {} components)",
+                         scale_name(model->scale), metric_name(model->metric), model->components));
     }
     map = std::move(m.coords);
     geodesic = std::move(m.landmark_geodesic);

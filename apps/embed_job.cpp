@@ -2,6 +2,7 @@
 
 #include <fmt/core.h>
 
+#include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
@@ -41,21 +42,6 @@ PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
   o.metric = a.metric == "cosine" ? Metric::cosine : Metric::euclidean;
   o.pca = a.pre_pca;
   return o;
-}
-
-// The fitted preprocessing, stored so that new points can be transformed the same way.
-void add_preprocess_arrays(const PreprocessModel& m, std::vector<io::MapArray>& out) {
-  const nlohmann::json attrs = {{"scale", scale_name(m.scale)},
-                                {"metric", metric_name(m.metric)},
-                                {"components", m.components},
-                                {"variance_kept", m.variance_kept}};
-  out.push_back({"/preprocess/centre", m.centre, {m.centre.size()}, attrs});
-  out.push_back({"/preprocess/spread", m.spread, {m.spread.size()}, attrs});
-  if (m.components > 0) {
-    out.push_back({"/preprocess/pca_mean", m.pca_mean, {m.pca_mean.size()}, attrs});
-    out.push_back({"/preprocess/axes", m.axes, {m.components, m.input_cols}, attrs});
-    out.push_back({"/preprocess/variances", m.variances, {m.variances.size()}, attrs});
-  }
 }
 
 nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const EmbedOptions& o,
