@@ -1,0 +1,43 @@
+#!/usr/bin/env bash
+# End-to-end figures of `unfurl embed` against scikit-learn's Isomap (Debian python3-sklearn)
+# on the same Swiss roll files, each as a whole process under GNU time (wall seconds, peak
+# resident memory). Writes a Markdown table to stdout; paste it into bench/RESULTS.md with
+# the date and the machine's load.
+#
+# usage: bench/end_to_end.sh BUILD_DIR WORK_DIR [--skip-reference-20k] [--skip-1m]
+set -euo pipefail
+build=${1:?build folder}; work=${2:?work folder}; shift 2
+skip20=0; skip1m=0
+for a in "$@"; do
+  case $a in --skip-reference-20k) skip20=1 ;; --skip-1m) skip1m=1 ;; esac
+done
+unfurl="$build/apps/unfurl"
+here="$(cd "$(dirname "$0")" && pwd)"
+mkdir -p "$work"
+
+# run NAME CMD...: prints "| NAME | wall s | peak MiB |" from GNU time's report.
+run() {
+  local name=$1; shift
+  /usr/bin/time -v "$@" > "$work/$name.out" 2> "$work/$name.time"
+  local wall mem
+  wall=$(awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,p,":"); s=0; for(i=1;i<=n;i++) s=s*60+p[i]; print s}' "$work/$name.time")
+  mem=$(awk -F': ' '/Maximum resident set size/ {printf "%.0f", $2/1024}' "$work/$name.time")
+  echo "| $name | $wall | $mem |"
+}
+
+for n in 10000 20000; do
+  "$unfurl" --quiet demo --scenario swiss-roll --points $n --out "$work/roll$n" --data-only
+done
+echo "| run | wall s | peak MiB |"
+echo "|---|---|---|"
+run unfurl-exact-10k "$unfurl" --quiet embed "$work/roll10000/swiss-roll.h5" -o "$work/exact10k.h5" --k 10 --landmarks all
+run reference-isomap-10k /usr/bin/python3 "$here/reference_isomap.py" "$work/roll10000/swiss-roll.h5" "$work/ref10k.h5" --k 10
+run unfurl-landmarks500-20k "$unfurl" --quiet embed "$work/roll20000/swiss-roll.h5" -o "$work/lm20k.h5" --k 10 --landmarks 500
+if [ $skip20 = 0 ]; then
+  run reference-isomap-20k /usr/bin/python3 "$here/reference_isomap.py" "$work/roll20000/swiss-roll.h5" "$work/ref20k.h5" --k 10
+fi
+if [ $skip1m = 0 ]; then
+  "$unfurl" --quiet demo --scenario swiss-roll --points 1000000 --out "$work/roll1m" --data-only
+  run unfurl-landmarks256-1m "$unfurl" --quiet embed "$work/roll1m/swiss-roll.h5" -o "$work/lm1m.h5" --k 10 --landmarks 256
+  run unfurl-landmarks256-1m-noscore "$unfurl" --quiet embed "$work/roll1m/swiss-roll.h5" -o "$work/lm1m-ns.h5" --k 10 --landmarks 256 --no-score
+fi
