@@ -30,9 +30,11 @@ for n in 10000 20000; do
 done
 echo "| run | wall s | peak MiB |"
 echo "|---|---|---|"
-run unfurl-exact-10k "$unfurl" --quiet embed "$work/roll10000/swiss-roll.h5" -o "$work/exact10k.h5" --k 10 --landmarks all
+# The peer computes no scores, so the compared runs skip them; one scored run shows their cost.
+run unfurl-exact-10k "$unfurl" --quiet embed "$work/roll10000/swiss-roll.h5" -o "$work/exact10k.h5" --k 10 --landmarks all --no-score
+run unfurl-exact-10k-scored "$unfurl" --quiet embed "$work/roll10000/swiss-roll.h5" -o "$work/exact10k-s.h5" --k 10 --landmarks all
 run reference-isomap-10k /usr/bin/python3 "$here/reference_isomap.py" "$work/roll10000/swiss-roll.h5" "$work/ref10k.h5" --k 10
-run unfurl-landmarks500-20k "$unfurl" --quiet embed "$work/roll20000/swiss-roll.h5" -o "$work/lm20k.h5" --k 10 --landmarks 500
+run unfurl-landmarks500-20k "$unfurl" --quiet embed "$work/roll20000/swiss-roll.h5" -o "$work/lm20k.h5" --k 10 --landmarks 500 --no-score
 if [ $skip20 = 0 ]; then
   run reference-isomap-20k /usr/bin/python3 "$here/reference_isomap.py" "$work/roll20000/swiss-roll.h5" "$work/ref20k.h5" --k 10
 fi
