@@ -67,6 +67,7 @@ json embed_json(const EmbedResult& r) {
   j["map"] = {{"rows", r.coords.rows}, {"dims", r.coords.cols}};
   j["seconds"] = {{"graph", r.seconds.graph},
                   {"components", r.seconds.components},
+                  {"node_order", r.seconds.order},
                   {"geodesics", r.seconds.geodesics},
                   {"spectral", r.seconds.spectral},
                   {"total", r.seconds.total}};
