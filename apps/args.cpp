@@ -95,9 +95,9 @@ void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
   o.keep_geodesics = a.keep_geodesics;
   o.exact = a.landmarks == "all";
   o.order = a.node_order == "input"         ? NodeOrder::input
-            : a.node_order == "morton"      ? NodeOrder::morton
+            : a.node_order == "bfs"         ? NodeOrder::bfs
             : a.node_order == "tree-leaves" ? NodeOrder::tree_leaves
-                                            : NodeOrder::bfs;
+                                            : NodeOrder::morton;
   o.landmarks.count = 0;
   if (a.landmarks != "all" && a.landmarks != "auto") {
     std::size_t used = 0;

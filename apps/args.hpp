@@ -48,7 +48,7 @@ struct MapArgs {
   std::string landmarks = "auto";  // a count, "auto" or "all"
   std::string pick = "maxmin";
   bool keep_geodesics = false;
-  std::string node_order = "bfs";
+  std::string node_order = "morton";
 };
 void add_map_options(CLI::App* cmd, MapArgs& args);
 void apply_map_options(const MapArgs& args, std::uint64_t seed, EmbedOptions& options);

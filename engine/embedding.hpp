@@ -33,7 +33,7 @@ struct EmbedOptions {
   bool keep_geodesics = false;  // return the landmark rows, columns in map-row order
   // Node order for the shortest-path stage (memory locality; results map back to input
   // order). morton and tree_leaves need points: for a given graph they fall back to bfs.
-  NodeOrder order = NodeOrder::bfs;
+  NodeOrder order = NodeOrder::morton;
   // Throws OptionError naming the field; `points` is the number of input points.
   void validate(std::size_t points) const;
 };
