@@ -15,9 +15,11 @@ Exits non-zero when any check fails; prints every check.
 
 import hashlib
 import os
+import signal
 import subprocess
 import sys
 import tempfile
+import time
 
 import h5py
 import numpy as np
@@ -331,8 +333,53 @@ def main():
         code = 66 if what.startswith("missing") else 65
         refused(f"embed --input {kind}, {what}",
                 ["embed", source, "--input", kind, "-o", good_map], code, names, work)
+    with open(d("two-triangles.csv"), "w") as f:
+        f.write("0,1,1\n1,2,1\n2,0,1\n3,4,1\n4,5,1\n5,3,1\n")
+    refused("embed --input edges, a disconnected edge list",
+            ["embed", d("two-triangles.csv"), "--input", "edges", "-o", good_map], 65,
+            ["2 components", "--disconnected"], work)
+    refused("embed --input edges --disconnected bridge (needs points)",
+            ["embed", d("two-triangles.csv"), "--input", "edges", "--disconnected", "bridge",
+             "-o", good_map], 64, ["--disconnected bridge"], work)
     refused("embed --input graph given a point file",
             ["embed", roll, "--input", "graph", "-o", good_map], 65, ["roll.h5"], work)
+
+    refused("embed --rows beyond the file", ["embed", roll, "--rows", "250:400", "-o", good_map],
+            64, ["--rows", "250:400"], work)
+    refused("embed --rows backwards", ["embed", roll, "--rows", "20:10", "-o", good_map], 64,
+            ["--rows"], work)
+    refused("embed --dataset on a CSV file",
+            ["embed", d("roll.csv"), "--dataset", "/points", "-o", good_map], 64,
+            ["--dataset"], work)
+    with open(d("a-file"), "w") as f:
+        f.write("not a folder\n")
+    refused("demo --out names a file", ["demo", "--out", d("a-file"), "--points", "50"], 73,
+            ["a-file"], work)
+
+    # Inspect shows a file's description before reading it; bytes of a binary file must not
+    # reach the terminal raw (printable ASCII, tabs and newlines only).
+    r = run(["inspect", d("random.bin")])
+    shown = r.stdout.encode("utf-8", "replace")
+    raw = [b for b in shown if b not in (9, 10) and not 32 <= b < 127]
+    check("inspect on random bytes: exit 65 and only printable text on stdout",
+          r.returncode == 65 and not raw, f"exit {r.returncode}, {len(raw)} raw bytes")
+
+    # SIGTERM during a run: exit 75 and nothing written. Exact mode on 4000 points takes about
+    # 3 s of CPU in a Release build (10 s here on a busy machine), so a signal after 1 s
+    # arrives mid-run.
+    write_h5(d("big.h5"), points=swiss_roll(4000, 9))
+    before = snapshot(work)
+    job = subprocess.Popen([BIN, "embed", d("big.h5"), "-o", good_map, "--landmarks", "all"],
+                           stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    time.sleep(1.0)
+    job.send_signal(signal.SIGTERM)
+    out, err = job.communicate(timeout=300)
+    after = snapshot(work)
+    err = err.decode("utf-8", "replace")
+    check("SIGTERM mid-run: exit 75, one line, outputs untouched",
+          job.returncode == 75 and len(err.splitlines()) == 1 and before == after,
+          f"exit {job.returncode}, stdout {out[-200:]!r}, stderr {err.strip()!r}, "
+          + snapshot_diff(before, after))
 
     # Score against points of another size.
     refused("score, unfurl map over 300 rows against 200 points",
