@@ -2,6 +2,8 @@
 
 #include <cmath>
 
+#include <fmt/core.h>
+
 #include "engine/error.hpp"
 
 namespace unfurl::app {
@@ -32,9 +34,23 @@ io::PointReadOptions to_read_options(const PointInputArgs& a) {
 }
 
 void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
-  cmd->add_option("--k", a.k, "Neighbours per point of the k-nearest graph")->capture_default_str();
-  cmd->add_option("--radius", a.radius,
-                  "Join points closer than or at this Euclidean distance instead (data units)");
+  // Whether --k and --radius were given is recorded: 0 or a negative radius must be refused,
+  // not read as "no radius", and --k beside --radius must not be dropped silently.
+  cmd->add_option_function<std::size_t>(
+         "--k",
+         [&a](const std::size_t& k) {
+           a.k = k;
+           a.k_given = true;
+         },
+         "Neighbours per point of the k-nearest graph")
+      ->default_str(std::to_string(a.k));
+  cmd->add_option_function<double>(
+      "--radius",
+      [&a](const double& r) {
+        a.radius = r;
+        a.radius_given = true;
+      },
+      "Join points closer than or at this Euclidean distance instead (data units)");
   cmd->add_flag("--mutual", a.mutual, "Keep an edge only when both points list each other");
   cmd->add_option("--search", a.search, "Exact search back end")
       ->check(CLI::IsMember({"automatic", "tree", "scan"}))
@@ -51,8 +67,16 @@ void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
 
 GraphOptions to_graph_options(const GraphArgs& a) {
   GraphOptions o;
-  o.radius = a.radius;
-  o.k = a.radius > 0 ? 0 : a.k;
+  if (a.radius_given) {
+    if (!(a.radius > 0) || !std::isfinite(a.radius))
+      throw OptionError("--radius: must be a positive finite number, got " +
+                        fmt::format("{}", a.radius));
+    o.radius = a.radius;
+    o.k = a.k_given ? a.k : 0;  // both given: GraphOptions::validate refuses the pair
+  } else {
+    o.radius = 0;
+    o.k = a.k;
+  }
   o.mutual = a.mutual;
   o.search = a.search == "tree"   ? Search::tree
              : a.search == "scan" ? Search::scan
@@ -135,6 +159,17 @@ AssessOptions to_assess_options(const ScoreArgs& a, std::uint64_t seed) {
   o.neighbourhoods.sample = a.sample;
   o.neighbourhoods.seed = seed;
   return o;
+}
+
+void validate_score_options(const AssessOptions& o, std::size_t points) {
+  try {
+    o.validate(points);
+  } catch (const OptionError& e) {
+    // The engine names its field --k; on the command line it is --score-k.
+    const std::string message = e.what();
+    if (message.rfind("--k:", 0) == 0) throw OptionError("--score-k:" + message.substr(4));
+    throw;
+  }
 }
 
 std::uint64_t parse_bytes(const std::string& option, const std::string& text) {

@@ -31,7 +31,9 @@ io::PointReadOptions to_read_options(const PointInputArgs& args);
 // The neighbour graph and what to do when it falls apart.
 struct GraphArgs {
   std::size_t k = 10;
+  bool k_given = false;  // --k on the command line (refused together with --radius)
   double radius = 0;
+  bool radius_given = false;  // --radius on the command line, whatever its value
   bool mutual = false;
   std::string search = "automatic";
   bool keep_duplicates = false;
@@ -61,6 +63,9 @@ struct ScoreArgs {
 };
 void add_score_options(CLI::App* cmd, ScoreArgs& args);
 AssessOptions to_assess_options(const ScoreArgs& args, std::uint64_t seed);
+// Checks the score options against `points` points before any work is done, with the
+// command line's names (--score-k for the neighbourhood sizes). Throws OptionError.
+void validate_score_options(const AssessOptions& options, std::size_t points);
 
 // "8G", "512M", "1.5G", "1000000" -> bytes; OptionError naming `option` otherwise.
 std::uint64_t parse_bytes(const std::string& option, const std::string& text);

@@ -79,6 +79,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     map = std::move(foreign.points);
     input = in.points;
   }
+  validate_score_options(options, input.rows);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
                      map.cols, input.rows, input.cols));
   const Assessment scores =

@@ -151,6 +151,8 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
 
   const std::size_t n = given_graph ? in.graph->nodes() : in.points.rows;
   if (options.exact && !a.linear) check_exact_memory(a, options, n);
+  // Refuse bad score options now, not after the embedding has run.
+  if (!a.no_score && !given_graph) validate_score_options(assess, n);
   EmbedResult result = a.linear      ? linear_result(in.points, a.map.dims)
                        : given_graph ? embed_graph(*in.graph, options, stop_token())
                                      : embed_points(in.points, options, stop_token());

@@ -239,7 +239,7 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
         sizes += " and " + std::to_string(s.sizes.size() - shown) + " more";
       throw DataError("graph: not connected, " + std::to_string(labels.count) +
                       " components of sizes " + sizes +
-                      "; use a larger --k or --radius, or --components largest|bridge");
+                      "; use a larger --k or --radius, or --disconnected largest|bridge");
     }
     case ComponentPolicy::largest: {
       std::size_t keep = 0;  // labels are numbered by smallest node, so ties go to the first
@@ -256,7 +256,7 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
     }
     case ComponentPolicy::bridge: {
       if (node_points.rows != graph.nodes())
-        throw OptionError("--components bridge: needs the coordinates of all " +
+        throw OptionError("--disconnected bridge: needs the coordinates of all " +
                           std::to_string(graph.nodes()) + " nodes, got " +
                           std::to_string(node_points.rows) + " rows");
       r.bridges = bridge_edges(node_points, labels, stop);

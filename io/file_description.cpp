@@ -78,7 +78,7 @@ void describe_npy(FileDescription& out) {
                        h.shape[0] > 0 && (h.shape.size() == 1 || h.shape[1] > 0);
   out.arrays.push_back(a);
   out.detail = "NPY format " + std::to_string(h.major) + "." + std::to_string(h.minor) +
-               ", dtype '" + h.descr + "'";
+               ", dtype '" + detail::printable(h.descr, 200) + "'";
 }
 
 void describe_text(FileDescription& out) {
@@ -89,7 +89,9 @@ void describe_text(FileDescription& out) {
   a.storage = "lines";
   a.points_candidate = t.data_rows > 0 && t.columns > 0;
   out.arrays.push_back(a);
-  out.column_names = t.column_names;
+  // A binary file read as text yields any bytes as "names"; shown as text, they must not
+  // reach the terminal raw.
+  for (const auto& name : t.column_names) out.column_names.push_back(detail::printable(name, 200));
   const std::string delimiter = t.delimiter == '\t'  ? "tab"
                                 : t.delimiter == ' ' ? "spaces or tabs"
                                                      : std::string("'") + t.delimiter + "'";

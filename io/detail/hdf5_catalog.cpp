@@ -118,7 +118,8 @@ std::vector<hsize_t> dataspace_dims(hid_t space, const std::string& where) {
   return dims;
 }
 
-std::vector<std::string> point_dataset_paths(hid_t file, const std::string& where) {
+std::vector<std::string> point_dataset_paths(hid_t file, const std::string& where,
+                                             bool include_empty) {
   std::vector<std::string> found;
   for (const std::string& path : dataset_paths(file, where)) {
     Hid d(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
@@ -128,7 +129,8 @@ std::vector<std::string> point_dataset_paths(hid_t file, const std::string& wher
     if (!type || !space || !is_plain_numeric_type(type.get())) continue;
     try {
       const auto dims = dataspace_dims(space.get(), where + ":" + path);
-      if (dims.size() == 2 && dims[0] > 0 && dims[1] > 0) found.push_back(path);
+      if (dims.size() == 2 && (include_empty || (dims[0] > 0 && dims[1] > 0)))
+        found.push_back(path);
     } catch (const IoError&) {
       // A damaged dataset is no candidate; naming it explicitly reports the damage.
     }

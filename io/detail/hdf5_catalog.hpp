@@ -27,8 +27,11 @@ bool is_plain_numeric_type(hid_t type);
 // Dimensions of a simple dataspace (empty for scalar or null); IoError when unreadable.
 std::vector<hsize_t> dataspace_dims(hid_t space, const std::string& where);
 
-// Datasets that can be points: 2-D, numeric, at least one row and column.
-std::vector<std::string> point_dataset_paths(hid_t file, const std::string& where);
+// Datasets that can be points: 2-D, numeric, at least one row and column. With
+// include_empty, also 2-D numeric datasets with no rows or no columns (so that a file whose
+// only points are empty is reported as empty data, not as a file without points).
+std::vector<std::string> point_dataset_paths(hid_t file, const std::string& where,
+                                             bool include_empty = false);
 
 // "/a, /b" or "none" for messages.
 std::string join_paths(const std::vector<std::string>& paths);

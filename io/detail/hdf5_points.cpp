@@ -63,6 +63,11 @@ std::string choose_dataset(hid_t file, const std::string& requested, const std::
     return path;
   }
   const auto candidates = point_dataset_paths(file, name);
+  const auto empty =
+      candidates.empty() ? point_dataset_paths(file, name, true) : std::vector<std::string>{};
+  if (empty.size() == 1) return empty.front();  // its shape check reports the empty data
+  if (!empty.empty())
+    throw DataError(name + ": every 2-D numeric dataset is empty (" + join_paths(empty) + ")");
   if (candidates.empty())
     throw MissingInputError(name + ": holds no 2-D numeric dataset (datasets: " +
                             join_paths(dataset_paths(file, name)) + ")");
