@@ -8,6 +8,7 @@
 #include <fmt/core.h>
 
 #include "apps/command.hpp"
+#include "apps/usage_errors.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl::app {
@@ -54,6 +55,7 @@ int main(int argc, char** argv) {
   cli.add_option("--seed", g.seed, "Seed for every random choice")->capture_default_str();
   cli.add_flag("--quiet", g.quiet, "Print nothing but errors");
 
+  app::install_usage_messages(cli);
   app::add_demo_command(cli, g);
   app::add_embed_command(cli, g);
   app::add_graph_command(cli, g);
