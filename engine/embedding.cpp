@@ -100,6 +100,7 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
   } else {
     LandmarkOptions lo = options.landmarks;
     lo.dims = spectral.dims;
+    lo.draw_order = order.new_of_old;  // the seed picks the same nodes in any node order
     LandmarkResult lr = pick_landmarks(g, lo, stop);
     result.seconds.geodesics = watch.seconds();
     result.landmarks = lr.summary;

@@ -34,13 +34,17 @@ void LandmarkOptions::validate(std::size_t nodes) const {
   if (l > nodes)
     throw OptionError("--landmarks: must be at most the number of graph nodes, " +
                       std::to_string(nodes) + ", got " + std::to_string(l));
+  if (!draw_order.empty() && draw_order.size() != nodes)
+    throw InternalError("landmarks: draw_order lists " + std::to_string(draw_order.size()) +
+                        " nodes of " + std::to_string(nodes));
 }
 
 namespace {
 
 // Greedy maxmin; see the header for how the choice and the rows share the threads.
-void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& rows,
-                 LandmarkSummary& summary, StopToken stop) {
+void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
+                 std::span<const NodeId> draw_order, DistanceRows& rows, LandmarkSummary& summary,
+                 StopToken stop) {
   const std::size_t n = graph.nodes();
   std::vector<double> nearest(n, std::numeric_limits<double>::infinity());
   std::vector<char> chosen(n, 0);
@@ -56,7 +60,8 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& 
       errors.run([&] {
         stop.check("landmarks");
         if (k == 0) {
-          pick = static_cast<NodeId>(rng.below(n));
+          const auto drawn = static_cast<NodeId>(rng.below(n));
+          pick = draw_order.empty() ? drawn : draw_order[drawn];
           return;
         }
         double farthest = -1.0;
@@ -96,11 +101,14 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& 
   summary.coverage_radius = *std::max_element(nearest.begin(), nearest.end());
 }
 
-void pick_random(const NeighbourGraph& graph, std::uint64_t seed, DistanceRows& rows,
-                 StopToken stop) {
+void pick_random(const NeighbourGraph& graph, std::uint64_t seed,
+                 std::span<const NodeId> draw_order, DistanceRows& rows, StopToken stop) {
   // Partial Fisher-Yates shuffle: the first L entries are a uniform draw without repeats.
   std::vector<NodeId> ids(graph.nodes());
-  std::iota(ids.begin(), ids.end(), NodeId{0});
+  if (draw_order.empty())
+    std::iota(ids.begin(), ids.end(), NodeId{0});
+  else
+    ids.assign(draw_order.begin(), draw_order.end());
   Random rng(seed);
   for (std::size_t k = 0; k < rows.rows; ++k) {
     const std::size_t j = k + static_cast<std::size_t>(rng.below(ids.size() - k));
@@ -130,9 +138,9 @@ LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions
   summary.pick = options.pick;
   summary.threads = omp_get_max_threads();
   if (options.pick == Pick::maxmin)
-    pick_maxmin(graph, options.seed, rows, summary, stop);
+    pick_maxmin(graph, options.seed, options.draw_order, rows, summary, stop);
   else
-    pick_random(graph, options.seed, rows, stop);
+    pick_random(graph, options.seed, options.draw_order, rows, stop);
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return result;
 }

@@ -16,6 +16,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -41,6 +42,10 @@ struct LandmarkOptions {
   std::size_t dims = 2;      // map dimensions the landmarks must support: count >= dims + 1
   Pick pick = Pick::maxmin;  // how to pick them
   std::uint64_t seed = 1;    // first maxmin landmark, or the whole random draw
+  // Empty, or the nodes listed in the caller's own numbering (draw_order[i] is the graph node
+  // the caller calls i): seeded draws index this list, so a renumbering of the graph for
+  // speed does not change which nodes the seed picks. Must outlive the call.
+  std::span<const NodeId> draw_order;
 
   // Throws OptionError naming the field: dims < 1, count < dims + 1 or count > nodes.
   void validate(std::size_t nodes) const;
