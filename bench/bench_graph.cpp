@@ -69,10 +69,10 @@ void BM_GraphFashion70k(benchmark::State& state) {
 }
 BENCHMARK(BM_GraphFashion70k)->Unit(benchmark::kSecond)->UseRealTime()->Iterations(1);
 
-// The exact kNN query alone (no duplicates pass, no CSR), both back ends on one 3-D set.
+// The exact kNN query alone (no duplicates pass, no CSR) on a 3-D set, k-d tree.
 void BM_ExactKnn3d(benchmark::State& state) {
   static const PointSet points = swiss_roll(100'000, 2).points;
-  const Search search = state.range(0) == 0 ? Search::tree : Search::scan;
+  const Search search = Search::tree;
   for (auto _ : state) {
     const auto r = exact_knn(points, points, 10, search, true);
     benchmark::DoNotOptimize(r.index.data());
