@@ -6,6 +6,7 @@
 //   UNFURL_BENCH_FASHION  70,000 x 784 Fashion-MNIST rows
 #include <benchmark/benchmark.h>
 
+#include <algorithm>
 #include <cstdint>
 #include <cstdlib>
 #include <fstream>
@@ -68,6 +69,30 @@ void BM_GraphFashion70k(benchmark::State& state) {
   run_graph(state, fashion, Search::scan);
 }
 BENCHMARK(BM_GraphFashion70k)->Unit(benchmark::kSecond)->UseRealTime()->Iterations(1);
+
+// The scan alone on the first 10,000 Fashion-MNIST rows: a short run for comparing builds
+// (for instance with and without -march=native).
+void BM_ScanFashion10k(benchmark::State& state) {
+  static PointSet rows;
+  static const bool loaded = [] {
+    PointSet all;
+    if (!load("UNFURL_BENCH_FASHION", all)) return false;
+    rows = PointSet(10'000, all.cols);
+    std::copy_n(all.values.begin(), rows.values.size(), rows.values.begin());
+    return true;
+  }();
+  if (!loaded) {
+    state.SkipWithError("UNFURL_BENCH_FASHION not set (bench/graph_compare.py makes the file)");
+    for (auto _ : state) {
+    }
+    return;
+  }
+  for (auto _ : state) {
+    const auto r = exact_knn(rows, rows, 10, Search::scan, true);
+    benchmark::DoNotOptimize(r.index.data());
+  }
+}
+BENCHMARK(BM_ScanFashion10k)->Unit(benchmark::kSecond)->UseRealTime()->Iterations(2);
 
 // The exact kNN query alone (no duplicates pass, no CSR) on a 3-D set, k-d tree.
 void BM_ExactKnn3d(benchmark::State& state) {
