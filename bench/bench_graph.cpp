@@ -6,6 +6,7 @@
 //   UNFURL_BENCH_FASHION  70,000 x 784 Fashion-MNIST rows
 #include <benchmark/benchmark.h>
 
+#include <algorithm>
 #include <cstdint>
 #include <cstdlib>
 #include <fstream>
@@ -69,10 +70,34 @@ void BM_GraphFashion70k(benchmark::State& state) {
 }
 BENCHMARK(BM_GraphFashion70k)->Unit(benchmark::kSecond)->UseRealTime()->Iterations(1);
 
-// The exact kNN query alone (no duplicates pass, no CSR), both back ends on one 3-D set.
+// The scan alone on the first 10,000 Fashion-MNIST rows: a short run for comparing builds
+// (for instance with and without -march=native).
+void BM_ScanFashion10k(benchmark::State& state) {
+  static PointSet rows;
+  static const bool loaded = [] {
+    PointSet all;
+    if (!load("UNFURL_BENCH_FASHION", all)) return false;
+    rows = PointSet(10'000, all.cols);
+    std::copy_n(all.values.begin(), rows.values.size(), rows.values.begin());
+    return true;
+  }();
+  if (!loaded) {
+    state.SkipWithError("UNFURL_BENCH_FASHION not set (bench/graph_compare.py makes the file)");
+    for (auto _ : state) {
+    }
+    return;
+  }
+  for (auto _ : state) {
+    const auto r = exact_knn(rows, rows, 10, Search::scan, true);
+    benchmark::DoNotOptimize(r.index.data());
+  }
+}
+BENCHMARK(BM_ScanFashion10k)->Unit(benchmark::kSecond)->UseRealTime()->Iterations(2);
+
+// The exact kNN query alone (no duplicates pass, no CSR) on a 3-D set, k-d tree.
 void BM_ExactKnn3d(benchmark::State& state) {
   static const PointSet points = swiss_roll(100'000, 2).points;
-  const Search search = state.range(0) == 0 ? Search::tree : Search::scan;
+  const Search search = Search::tree;
   for (auto _ : state) {
     const auto r = exact_knn(points, points, 10, search, true);
     benchmark::DoNotOptimize(r.index.data());

@@ -272,4 +272,13 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
   throw InternalError("make_connected: unknown policy");
 }
 
+std::vector<std::size_t> dropped_rows(std::span<const NodeId> node_of_point,
+                                      const ComponentResult& result) {
+  std::vector<std::size_t> rows;
+  for (std::size_t r = 0; r < node_of_point.size(); ++r)
+    if (std::binary_search(result.dropped.begin(), result.dropped.end(), node_of_point[r]))
+      rows.push_back(r);
+  return rows;
+}
+
 }  // namespace unfurl

@@ -67,4 +67,9 @@ struct ComponentResult {
 ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptions& options,
                                const PointSet& node_points = {}, StopToken stop = {});
 
+// Input rows whose node was dropped (largest), ascending: node_of_point as the graph stage
+// returned it, so that the map can report every row it left out.
+std::vector<std::size_t> dropped_rows(std::span<const NodeId> node_of_point,
+                                      const ComponentResult& result);
+
 }  // namespace unfurl

@@ -43,8 +43,9 @@ struct GraphOptions {
   // Length of the edges between kept duplicates, in data units. 0: automatic, 1e-6 times the
   // median non-zero edge length (small against every real edge, yet never zero).
   float duplicate_epsilon = 0.0f;
-  // Scan back end: query rows per block. Memory per thread is about block_rows x 2048 floats
-  // plus the candidate lists, so the scan never holds an N x N matrix.
+  // Scan back end: rows per block. Memory: per thread one block of products (block_rows x
+  // block_rows floats, or block_rows x 2048 for other queries), a centred copy of the data,
+  // and k + max(16, k) candidates of 8 bytes per row; never an N x N matrix.
   std::size_t block_rows = 512;
 
   // Throws OptionError naming the field: k < 1 without radius, k >= number of nodes,

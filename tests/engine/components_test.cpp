@@ -106,6 +106,15 @@ TEST_CASE("largest policy keeps the largest component and lists the dropped node
   CHECK(r.old_of_new.back() == 109);
   CHECK(r.dropped.size() == 50);
   CHECK(r.summary.dropped_nodes == 50);
+  // With a repeated row the dropped rows outnumber the dropped nodes.
+  auto with_copy = pts;
+  with_copy.rows += 1;
+  with_copy.values.insert(with_copy.values.end(), pts.row(3), pts.row(3) + 3);
+  const auto built = build_neighbour_graph(with_copy, o);
+  const auto rows = dropped_rows(built.node_of_point, make_connected(built.graph, c));
+  CHECK(rows.size() == 51);
+  CHECK(rows.back() == 130);
+  CHECK(rows[3] == 3);
   CHECK(connected_components(r.graph).count == 1);
   // Every kept edge is an edge of the input between the same points with the same length.
   for (std::size_t v = 0; v < r.graph.nodes(); ++v)
