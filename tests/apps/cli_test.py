@@ -273,6 +273,15 @@ def main():
     refused("score --json folder missing",
             ["score", good_map, "--points", roll, "--json", d("out/none/s.json")], 73,
             ["none"], work)
+    refused("score --score-k 0", ["score", good_map, "--points", roll, "--score-k", "0"], 64,
+            ["--score-k"], work)
+    nan_map = np.zeros((N, 2), np.float32)
+    nan_map[17, 1] = np.nan
+    np.save(d("nanmap.npy"), nan_map)
+    refused("score, an array map holding NaN", ["score", d("nanmap.npy"), "--points", roll], 65,
+            ["nanmap.npy", "row 17"], work)
+    refused("score --map-dataset missing",
+            ["score", good_map, "--map-dataset", "/nope", "--points", roll], 66, ["/nope"], work)
     refused("score map file missing", ["score", d("nomap.h5"), "--points", roll], 66,
             ["nomap.h5"], work)
 
