@@ -50,7 +50,7 @@ int main(int argc, char** argv) {
 
   app::GlobalOptions g;
   cli.add_option("--threads", g.threads, "Threads to use (0: all cores)")
-      ->check(CLI::NonNegativeNumber)
+      ->check(CLI::Range(0, 4096))
       ->capture_default_str();
   cli.add_option("--seed", g.seed, "Seed for every random choice")->capture_default_str();
   cli.add_flag("--quiet", g.quiet, "Print nothing but errors");
