@@ -65,12 +65,9 @@ json embed_json(const EmbedResult& r) {
        std::vector<double>(r.spectrum.begin(),
                            r.spectrum.begin() + std::min<std::size_t>(r.spectrum.size(), 10))}};
   j["map"] = {{"rows", r.coords.rows}, {"dims", r.coords.cols}};
-  j["seconds"] = {{"graph", r.seconds.graph},
-                  {"components", r.seconds.components},
-                  {"node_order", r.seconds.order},
-                  {"geodesics", r.seconds.geodesics},
-                  {"spectral", r.seconds.spectral},
-                  {"total", r.seconds.total}};
+  j["seconds"] = {{"graph", r.seconds.graph},       {"components", r.seconds.components},
+                  {"node_order", r.seconds.order},  {"geodesics", r.seconds.geodesics},
+                  {"spectral", r.seconds.spectral}, {"total", r.seconds.total}};
   j["warnings"] = r.warnings;
   return j;
 }
