@@ -78,18 +78,17 @@ GraphOptions to_graph_options(const GraphArgs& a) {
     o.k = a.k;
   }
   o.mutual = a.mutual;
-  o.search = a.search == "tree"   ? Search::tree
-             : a.search == "scan" ? Search::scan
-                                  : Search::automatic;
+  o.search = from_name(a.search, {Search::automatic, Search::tree, Search::scan}, search_name,
+                       Search::automatic);
   o.keep_duplicates = a.keep_duplicates;
   return o;
 }
 
 ComponentOptions to_component_options(const GraphArgs& a) {
   ComponentOptions o;
-  o.policy = a.disconnected == "largest"  ? ComponentPolicy::largest
-             : a.disconnected == "bridge" ? ComponentPolicy::bridge
-                                          : ComponentPolicy::fail;
+  o.policy = from_name(a.disconnected,
+                       {ComponentPolicy::fail, ComponentPolicy::largest, ComponentPolicy::bridge},
+                       component_policy_name, ComponentPolicy::fail);
   return o;
 }
 
@@ -153,9 +152,9 @@ void add_score_options(CLI::App* cmd, ScoreArgs& a) {
 AssessOptions to_assess_options(const ScoreArgs& a, std::uint64_t seed) {
   AssessOptions o;
   o.neighbourhoods.ks = a.ks;
-  o.neighbourhoods.method = a.method == "exact"     ? ScoreMethod::exact
-                            : a.method == "sampled" ? ScoreMethod::sampled
-                                                    : ScoreMethod::automatic;
+  o.neighbourhoods.method =
+      from_name(a.method, {ScoreMethod::automatic, ScoreMethod::exact, ScoreMethod::sampled},
+                score_method_name, ScoreMethod::automatic);
   o.neighbourhoods.sample = a.sample;
   o.neighbourhoods.seed = seed;
   return o;

@@ -5,6 +5,7 @@
 #pragma once
 
 #include <cstdint>
+#include <initializer_list>
 #include <string>
 #include <vector>
 
@@ -66,6 +67,15 @@ AssessOptions to_assess_options(const ScoreArgs& args, std::uint64_t seed);
 // Checks the score options against `points` points before any work is done, with the
 // command line's names (--score-k for the neighbourhood sizes). Throws OptionError.
 void validate_score_options(const AssessOptions& options, std::size_t points);
+
+// The value among `values` whose engine name (`name_of`, e.g. search_name) is `text`;
+// `fallback` when none is (CLI11's IsMember checks have already limited the text).
+template <class E, class NameOf>
+E from_name(const std::string& text, std::initializer_list<E> values, NameOf name_of, E fallback) {
+  for (E v : values)
+    if (text == name_of(v)) return v;
+  return fallback;
+}
 
 // "8G", "512M", "1.5G", "1000000" -> bytes; OptionError naming `option` otherwise.
 std::uint64_t parse_bytes(const std::string& option, const std::string& text);

@@ -36,10 +36,10 @@ void check_exact_memory(const EmbedArgs& a, const EmbedOptions& options, std::si
 
 PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
   PreprocessOptions o;
-  o.scale = a.scale == "standard" ? Scale::standard
-            : a.scale == "robust" ? Scale::robust
-                                  : Scale::none;
-  o.metric = a.metric == "cosine" ? Metric::cosine : Metric::euclidean;
+  o.scale =
+      from_name(a.scale, {Scale::none, Scale::standard, Scale::robust}, scale_name, Scale::none);
+  o.metric =
+      from_name(a.metric, {Metric::euclidean, Metric::cosine}, metric_name, Metric::euclidean);
   o.pca = a.pre_pca;
   return o;
 }

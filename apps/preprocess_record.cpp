@@ -1,5 +1,7 @@
 #include "apps/preprocess_record.hpp"
 
+#include "apps/args.hpp"
+
 #include <string>
 
 #include "engine/error.hpp"
@@ -33,10 +35,9 @@ std::optional<PreprocessModel> preprocess_from_arrays(const std::vector<io::MapA
   const nlohmann::json& at = centre->attributes;
   const std::string scale = at.value("scale", "none");
   const std::string metric = at.value("metric", "euclidean");
-  for (Scale s : {Scale::none, Scale::standard, Scale::robust})
-    if (scale == scale_name(s)) m.scale = s;
-  for (Metric k : {Metric::euclidean, Metric::cosine})
-    if (metric == metric_name(k)) m.metric = k;
+  m.scale =
+      from_name(scale, {Scale::none, Scale::standard, Scale::robust}, scale_name, Scale::none);
+  m.metric = from_name(metric, {Metric::euclidean, Metric::cosine}, metric_name, Metric::euclidean);
   m.input_cols = centre->values.size();
   m.centre = centre->values;
   m.spread = spread->values;
