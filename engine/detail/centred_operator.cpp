@@ -8,10 +8,14 @@ namespace unfurl::detail {
 
 namespace {
 // One row's share of S x: its dot product with x, and its entries times x_i added to the
-// column sums. Separate pointers the compiler may assume distinct, so the loop vectorises.
+// column sums. Separate pointers the compiler may assume distinct, and an OpenMP simd
+// reduction so the dot product vectorises too: without it the one running sum is a chain of
+// dependent additions, and exact mode's operator ran 3x slower. The vector width is fixed at
+// compile time, so the summation order, and the map, do not depend on the thread count.
 void sum_row(const float* __restrict row, const double* __restrict x, double xi,
              double* __restrict column, std::size_t n, double& dot) {
   double sum = 0.0;
+#pragma omp simd reduction(+ : sum)
   for (std::size_t j = 0; j < n; ++j) {
     const double q = static_cast<double>(row[j]) * row[j];
     sum += q * x[j];

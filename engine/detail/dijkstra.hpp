@@ -4,44 +4,79 @@
 #pragma once
 
 #include <algorithm>
+#include <array>
+#include <bit>
 #include <cstddef>
 #include <cstdint>
+#include <type_traits>
 #include <vector>
 
 #include "engine/graph.hpp"
 
 namespace unfurl::detail {
 
-// A binary min-heap of (tentative distance, node) with lazy deletion: a node may sit in the
-// heap several times and stale entries are skipped when popped. It needs no node-to-slot
-// index, so the only per-node state is the distance array. (A 4-ary heap measured no faster
-// on the million-node Swiss roll graph.) A run is sequential, so ties need no rule for the
-// result to be reproducible.
+// A monotone priority queue of (tentative distance, node): a radix heap (Ahuja, Mehlhorn,
+// Orlin and Tarjan, "Faster algorithms for the shortest path problem", J. ACM 37, 1990).
+// Dijkstra only ever pushes keys at least as large as the last one popped, which is all a
+// radix heap needs. Non-negative IEEE floats order like their bit patterns read as unsigned
+// integers, so bucket i holds the entries whose bits first differ from the last popped key's
+// at bit i-1; a pop scans only the smallest non-empty bucket. Exact mode's 10,000 sources on
+// the 10,000-node Swiss roll graph took 5.83 s against 6.27 s with the binary heap it
+// replaced (2 threads, one run each), and the rows are the same: each node's final distance
+// is the minimum over its neighbours of d(u) + w, whatever order equal keys come out in.
+// Lazy deletion: a node may sit in the heap several times; the caller skips stale entries.
 template <class Key>
 class DistanceHeap {
+  using Bits = std::conditional_t<sizeof(Key) == 4, std::uint32_t, std::uint64_t>;
+  static constexpr int kBuckets = 8 * sizeof(Key) + 1;
+
  public:
   struct Entry {
     Key key;
     NodeId node;
   };
-  void clear() { items_.clear(); }
-  bool empty() const { return items_.empty(); }
+  void clear() {
+    for (auto& b : buckets_) b.clear();
+    size_ = 0;
+    last_ = 0;
+  }
+  bool empty() const { return size_ == 0; }
+  // `key` must be >= 0 and >= the key of the last pop (Dijkstra's invariant).
   void push(Key key, NodeId node) {
-    items_.push_back({key, node});
-    std::push_heap(items_.begin(), items_.end(), Later{});
+    buckets_[bucket_of(bits(key))].push_back({key, node});
+    ++size_;
   }
   Entry pop() {
-    std::pop_heap(items_.begin(), items_.end(), Later{});
-    const Entry top = items_.back();
-    items_.pop_back();
+    if (buckets_[0].empty()) refill();
+    const Entry top = buckets_[0].back();
+    buckets_[0].pop_back();
+    --size_;
     return top;
   }
 
  private:
-  struct Later {  // a function object, not a function pointer, so the heap code inlines it
-    bool operator()(const Entry& a, const Entry& b) const { return a.key > b.key; }
-  };
-  std::vector<Entry> items_;
+  static Bits bits(Key key) {
+    // +0 for -0, so that every non-negative key has the sign bit clear
+    return std::bit_cast<Bits>(key + Key(0));
+  }
+  int bucket_of(Bits b) const {
+    const Bits x = b ^ last_;
+    return x == 0 ? 0 : static_cast<int>(8 * sizeof(Bits)) - std::countl_zero(x);
+  }
+  // Moves the smallest non-empty bucket's entries down, around its minimum, the new `last_`.
+  void refill() {
+    int i = 1;
+    while (buckets_[i].empty()) ++i;
+    auto& from = buckets_[i];
+    Bits smallest = bits(from[0].key);
+    for (const Entry& e : from) smallest = std::min(smallest, bits(e.key));
+    last_ = smallest;
+    for (const Entry& e : from) buckets_[bucket_of(bits(e.key))].push_back(e);
+    from.clear();
+  }
+  std::array<std::vector<Entry>, kBuckets> buckets_;
+  std::size_t size_ = 0;
+  Bits last_ = 0;
 };
 
 class DijkstraWorkspace {

@@ -2,11 +2,14 @@
 
 #include <omp.h>
 
+#include <algorithm>
 #include <atomic>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <numeric>
+#include <random>
 
+#include "engine/detail/dijkstra.hpp"
 #include "engine/error.hpp"
 #include "tests/test_util.hpp"
 
@@ -92,4 +95,32 @@ TEST_CASE("duplicate points: zero-length edges give zero distances", "[geodesic]
   const auto rows = unfurl::geodesic_rows(g, s);
   CHECK(rows.row(0)[1] == 0.0f);
   CHECK(rows.row(0)[2] == 2.0f);
+}
+
+TEST_CASE("the radix heap pops keys in the order a full sort gives, on a monotone workload",
+          "[geodesic]") {
+  // Reference: std::stable_sort of every pushed key (common practice, no source). The workload
+  // is Dijkstra's: each push is at least the last popped key, here plus a random step that is
+  // sometimes zero (equal keys), tiny (keys that share high bits) or large.
+  unfurl::detail::DistanceHeap<float> heap;
+  std::mt19937_64 random(7);
+  std::uniform_real_distribution<float> step(0.0f, 1.0f);
+  std::vector<float> pushed, popped;
+  float last = 0.0f;
+  heap.push(0.0f, 0);
+  pushed.push_back(0.0f);
+  while (pushed.size() < 20000 || !heap.empty()) {
+    const auto top = heap.pop();
+    popped.push_back(top.key);
+    REQUIRE(top.key >= last);
+    last = top.key;
+    for (int i = 0; i < 3 && pushed.size() < 20000; ++i) {
+      const float u = step(random);
+      const float key = u < 0.2f ? last : u < 0.5f ? std::nextafter(last, 1e30f) : last + 10 * u;
+      heap.push(key, static_cast<NodeId>(pushed.size()));
+      pushed.push_back(key);
+    }
+  }
+  std::stable_sort(pushed.begin(), pushed.end());
+  CHECK(popped == pushed);
 }
