@@ -2,6 +2,7 @@
 
 #include <omp.h>
 
+#include <algorithm>
 #include <chrono>
 #include <limits>
 #include <numeric>
@@ -11,6 +12,7 @@
 #include "engine/detail/dijkstra.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
+#include "engine/reorder.hpp"
 
 namespace unfurl {
 
@@ -94,11 +96,103 @@ DistanceRows geodesic_rows(const NeighbourGraph& graph, std::span<const NodeId> 
   return rows;
 }
 
+namespace {
+
+// Row i, column j gets D_ij computed by the run of whichever of i, j comes first in the
+// sequence (that run settled the other); the pair's other entry is overwritten by it.
+void mirror_by_rank(DistanceRows& rows, std::span<const NodeId> rank) {
+  constexpr std::size_t kTile = 64;  // two 64 x 64 float tiles stay in L1
+  const std::size_t n = rows.cols;
+  const auto tiles = static_cast<std::ptrdiff_t>((n + kTile - 1) / kTile);
+#pragma omp parallel for schedule(dynamic, 1)
+  for (std::ptrdiff_t ti = 0; ti < tiles; ++ti) {
+    const std::size_t i0 = static_cast<std::size_t>(ti) * kTile;
+    const std::size_t i1 = std::min(n, i0 + kTile);
+    for (std::size_t j0 = i0; j0 < n; j0 += kTile) {
+      const std::size_t j1 = std::min(n, j0 + kTile);
+      for (std::size_t i = i0; i < i1; ++i) {
+        float* row_i = rows.row(i);
+        for (std::size_t j = std::max(j0, i + 1); j < j1; ++j) {
+          float& ij = row_i[j];
+          float& ji = rows.row(j)[i];
+          if (rank[i] < rank[j])
+            ji = ij;
+          else
+            ij = ji;
+        }
+      }
+    }
+  }
+}
+
+// Nodes reachable from node 0, by breadth-first search: all_geodesic_rows checks this first so
+// that a disconnected graph gets one message whatever the thread count.
+std::size_t reachable_from_first(const NeighbourGraph& graph) {
+  const std::size_t n = graph.nodes();
+  if (n == 0) return 0;
+  std::vector<char> seen(n, 0);
+  std::vector<NodeId> queue{0};
+  seen[0] = 1;
+  for (std::size_t head = 0; head < queue.size(); ++head) {
+    const NodeId u = queue[head];
+    for (auto e = graph.offsets[u]; e < graph.offsets[u + 1]; ++e) {
+      const NodeId v = graph.targets[e];
+      if (!seen[v]) {
+        seen[v] = 1;
+        queue.push_back(v);
+      }
+    }
+  }
+  return queue.size();
+}
+
+}  // namespace
+
 DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
                                GeodesicSummary* summary) {
-  std::vector<NodeId> every(graph.nodes());
-  std::iota(every.begin(), every.end(), NodeId{0});
-  return geodesic_rows(graph, every, stop, summary);
+  const auto start = std::chrono::steady_clock::now();
+  detail::check_graph(graph);
+  const std::size_t n = graph.nodes();
+  if (const std::size_t reached = reachable_from_first(graph); reached < n)
+    detail::throw_unreachable(n - reached, n, 0);
+  const Renumbering sequence = node_order(NodeOrder::bfs, graph);
+  const std::span<const NodeId> rank = sequence.new_of_old;
+  DistanceRows rows;
+  rows.rows = n;
+  rows.cols = n;
+  rows.sources.resize(n);
+  std::iota(rows.sources.begin(), rows.sources.end(), NodeId{0});
+  rows.values.resize(n * n);
+  const auto count = static_cast<std::ptrdiff_t>(n);
+  ExceptionCollector errors;
+#pragma omp parallel
+  {
+    detail::DijkstraWorkspace work;
+#pragma omp for schedule(dynamic, 1)
+    for (std::ptrdiff_t p = 0; p < count; ++p) {
+      if (errors.failed()) continue;
+      errors.run([&] {
+        stop.check("geodesic");
+        const NodeId source = sequence.old_of_new[static_cast<std::size_t>(p)];
+        if (work.run_to_later(graph, source, rank, rows.row(source)) > 0) {
+          const float* row = rows.row(source);  // the run went as far as it could: count
+          const auto unreachable = static_cast<std::size_t>(
+              std::count(row, row + n, std::numeric_limits<float>::infinity()));
+          detail::throw_unreachable(unreachable, n, source);
+        }
+      });
+    }
+  }
+  errors.rethrow();
+  mirror_by_rank(rows, rank);
+  if (summary) {
+    summary->sources = n;
+    summary->nodes = n;
+    summary->threads = omp_get_max_threads();
+    summary->seconds =
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  }
+  return rows;
 }
 
 }  // namespace unfurl

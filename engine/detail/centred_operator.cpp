@@ -1,6 +1,7 @@
 #include "engine/detail/centred_operator.hpp"
 
 #include <algorithm>
+#include <cmath>
 
 #include "engine/parallel.hpp"
 
@@ -23,12 +24,47 @@ void sum_row(const float* __restrict row, const double* __restrict x, double xi,
   }
   dot = sum;
 }
+
+// True when D is square, exactly symmetric and zero on the diagonal (all_geodesic_rows gives
+// such rows). One tiled pass, about the cost of one operator product; it lets every later
+// product read only the upper triangle.
+bool exactly_symmetric(const DistanceRows& d) {
+  if (d.rows != d.cols) return false;
+  constexpr std::size_t kTile = 64;
+  const std::size_t n = d.cols;
+  const auto tiles = static_cast<std::ptrdiff_t>((n + kTile - 1) / kTile);
+  bool symmetric = true;
+#pragma omp parallel for schedule(dynamic, 1) reduction(&& : symmetric)
+  for (std::ptrdiff_t ti = 0; ti < tiles; ++ti) {
+    const std::size_t i0 = static_cast<std::size_t>(ti) * kTile;
+    const std::size_t i1 = std::min(n, i0 + kTile);
+    for (std::size_t j0 = i0; j0 < n && symmetric; j0 += kTile) {
+      const std::size_t j1 = std::min(n, j0 + kTile);
+      for (std::size_t i = i0; i < i1; ++i) {
+        if (d.row(i)[i] != 0.0f) symmetric = false;
+        for (std::size_t j = std::max(j0, i + 1); j < j1; ++j)
+          if (d.row(i)[j] != d.row(j)[i]) symmetric = false;
+      }
+    }
+  }
+  return symmetric;
+}
+
+// First row of block b of `blocks`: equal shares of the rows, or of the upper triangle's
+// entries when only the triangle is read (row i holds n - 1 - i of them).
+std::size_t block_start(std::size_t b, std::size_t blocks, std::size_t n, bool triangle) {
+  if (b >= blocks) return n;
+  if (!triangle) return b * n / blocks;
+  const double left = 1.0 - static_cast<double>(b) / static_cast<double>(blocks);
+  return std::min(n, static_cast<std::size_t>(static_cast<double>(n) * (1.0 - std::sqrt(left))));
+}
 }  // namespace
 
 CentredSquaredOperator::CentredSquaredOperator(const DistanceRows& rows, StopToken stop)
     : d_(rows),
       n_(rows.cols),
       blocks_(std::min(kMaxBlocks, std::max<std::size_t>(rows.cols, 1))),
+      triangle_(exactly_symmetric(rows)),
       stop_(stop),
       row_means_(rows.cols),
       partial_(blocks_ * rows.cols),
@@ -57,10 +93,13 @@ void CentredSquaredOperator::squared_product(const double* x, double* y) const {
       stop_.check("spectral");
       double* column = partial_.data() + static_cast<std::size_t>(b) * n;
       std::fill(column, column + n, 0.0);
-      const std::size_t first = static_cast<std::size_t>(b) * n / blocks_;
-      const std::size_t last = static_cast<std::size_t>(b + 1) * n / blocks_;
+      const auto block = static_cast<std::size_t>(b);
+      const std::size_t first = block_start(block, blocks_, n, triangle_);
+      const std::size_t last = block_start(block + 1, blocks_, n, triangle_);
       for (std::size_t i = first; i < last; ++i) {
-        sum_row(d_.row(i), x, x[i], column, n, own_[i]);
+        // The triangle: entries j > i, which feed (S x)_i and, through the column sums, (S x)_j.
+        const std::size_t from = triangle_ ? i + 1 : 0;
+        sum_row(d_.row(i) + from, x + from, x[i], column + from, n - from, own_[i]);
       }
     });
   }
@@ -72,7 +111,7 @@ void CentredSquaredOperator::squared_product(const double* x, double* y) const {
       double sum = own_[static_cast<std::size_t>(j)];
       for (std::size_t b = 0; b < blocks_; ++b)
         sum += partial_[b * n + static_cast<std::size_t>(j)];
-      y[j] = 0.5 * sum;
+      y[j] = triangle_ ? sum : 0.5 * sum;  // the full pass counts each pair twice
     });
   }
   errors.rethrow();

@@ -4,8 +4,10 @@
 // ulp, and the Lanczos solver needs an exactly symmetric operator). With r the row means of
 // S and g their mean, B x = -1/2 (S x - r (1'x) - 1 (r'x) + g (1'x) 1).
 //
-// One pass over D per product: every D_ij feeds both (S x)_i and (S x)_j. The column part is
-// accumulated per block of rows into that block's own buffer and the buffers are added in
+// One pass over D per product: every D_ij feeds both (S x)_i and (S x)_j. When D is exactly
+// symmetric with a zero diagonal (checked once, in the constructor) the pass reads only the
+// upper triangle, half the memory traffic; otherwise all of D, symmetrised as above. The column
+// part is accumulated per block of rows into that block's own buffer and the buffers are added in
 // block order, with blocks fixed by N alone: the sums do not depend on the thread count.
 #pragma once
 
@@ -41,6 +43,7 @@ class CentredSquaredOperator {
   const DistanceRows& d_;
   std::size_t n_;
   std::size_t blocks_;
+  bool triangle_;  // D exactly symmetric, zero diagonal: read the upper triangle only
   StopToken stop_;
   std::vector<double> row_means_;
   double grand_mean_ = 0.0;

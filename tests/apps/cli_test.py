@@ -373,10 +373,10 @@ def main():
     check("inspect on random bytes: exit 65 and only printable text on stdout",
           r.returncode == 65 and not raw, f"exit {r.returncode}, {len(raw)} raw bytes")
 
-    # SIGTERM during a run: exit 75 and nothing written. Exact mode on 4000 points takes about
-    # 3 s of CPU in a Release build (10 s here on a busy machine), so a signal after 1 s
-    # arrives mid-run.
-    write_h5(d("big.h5"), points=swiss_roll(4000, 9))
+    # SIGTERM during a run: exit 75 and nothing written. Exact mode on 12,000 points takes
+    # about 10 s of CPU in a Release build on an idle 2-core machine (4,000 points took only
+    # 1 s, too close to the signal), so a signal after 1 s arrives mid-run.
+    write_h5(d("big.h5"), points=swiss_roll(12000, 9))
     before = snapshot(work)
     job = subprocess.Popen([BIN, "embed", d("big.h5"), "-o", good_map, "--landmarks", "all"],
                            stdout=subprocess.PIPE, stderr=subprocess.PIPE)

@@ -67,6 +67,9 @@ TEST_CASE("an unreachable node is an error that says how many", "[geodesic]") {
   const std::vector<NodeId> first{0};
   CHECK_THROWS_WITH(unfurl::geodesic_rows(g, first),
                     Catch::Contains("2 of 5 graph nodes are unreachable from node 0"));
+  // All pairs: checked from node 0 before any run, so one message whatever the threads.
+  CHECK_THROWS_WITH(unfurl::all_geodesic_rows(g),
+                    Catch::Contains("2 of 5 graph nodes are unreachable from node 0"));
 }
 
 TEST_CASE("bad sources and malformed graphs are data errors", "[geodesic]") {
@@ -123,4 +126,27 @@ TEST_CASE("the radix heap pops keys in the order a full sort gives, on a monoton
   }
   std::stable_sort(pushed.begin(), pushed.end());
   CHECK(popped == pushed);
+}
+
+TEST_CASE("all-pairs rows are exactly symmetric and take each pair from a full run", "[geodesic]") {
+  // all_geodesic_rows computes each pair once and mirrors it; full runs from every source
+  // (checked against Floyd-Warshall above) may round d(i, j) and d(j, i) a bit apart, and the
+  // pair must hold one of the two. Graphs: random, and one with many equal lengths (ties).
+  auto ties = unfurl::test::random_connected_graph(200, 500, 12);
+  for (float& w : ties.lengths) w = std::round(w * 4.0f) / 4.0f + 0.25f;
+  for (const auto& g : {unfurl::test::random_connected_graph(250, 700, 11), ties}) {
+    const std::size_t n = g.nodes();
+    const auto all = unfurl::all_geodesic_rows(g);
+    std::vector<NodeId> every(n);
+    std::iota(every.begin(), every.end(), NodeId{0});
+    const auto full = unfurl::geodesic_rows(g, every);
+    for (std::size_t i = 0; i < n; ++i) {
+      REQUIRE(all.row(i)[i] == 0.0f);
+      for (std::size_t j = 0; j < n; ++j) {
+        REQUIRE(all.row(i)[j] == all.row(j)[i]);
+        const float v = all.row(i)[j];
+        REQUIRE((v == full.row(i)[j] || v == full.row(j)[i]));
+      }
+    }
+  }
 }

@@ -4,6 +4,7 @@
 
 #include <atomic>
 #include <catch2/catch.hpp>
+#include <cmath>
 #include <numeric>
 
 #include "engine/error.hpp"
@@ -165,4 +166,39 @@ TEST_CASE("exact mode memory estimate counts the N x N rows", "[spectral]") {
   const std::size_t bytes = unfurl::exact_mode_bytes(n);
   CHECK(bytes >= n * n * sizeof(float));
   CHECK(bytes < n * n * sizeof(float) * 11 / 10);  // rows dominate far above dense_limit
+}
+
+TEST_CASE("exact mode's implicit operator agrees with the dense solver, triangle or whole",
+          "[spectral]") {
+  // The dense path forms B = -1/2 J S J explicitly (Torgerson 1952's double centring); the
+  // implicit operator must give the same top eigenpairs whether it reads only the upper
+  // triangle (exactly symmetric rows, as all_geodesic_rows returns) or the whole matrix
+  // (rows a last bit apart across the diagonal, as two separate Dijkstra runs can give).
+  const auto g = unfurl::test::random_connected_graph(400, 1200, 4);
+  const auto rows = unfurl::all_geodesic_rows(g);
+  for (std::size_t i = 0; i < rows.rows; ++i)
+    for (std::size_t j = 0; j < i; ++j) REQUIRE(rows.row(i)[j] == rows.row(j)[i]);
+  auto skewed = rows;
+  for (std::size_t i = 0; i < skewed.rows; ++i)
+    for (std::size_t j = i + 1; j < skewed.rows; j += 7)
+      skewed.row(j)[i] = std::nextafter(skewed.row(i)[j], 1e30f);
+  unfurl::SpectralOptions o;
+  o.dims = 3;
+  o.dense_limit = 1000;
+  const auto dense = unfurl::exact_mds(rows, o);
+  o.dense_limit = 100;
+  const auto triangle = unfurl::exact_mds(rows, o);
+  const auto whole = unfurl::exact_mds(skewed, o);
+  REQUIRE(dense.summary.solver == "dense");
+  REQUIRE(triangle.summary.solver == "lanczos");
+  for (std::size_t a = 0; a < 3; ++a) {
+    CHECK(triangle.spectrum[a] == Approx(dense.spectrum[a]).epsilon(1e-6));
+    CHECK(whole.spectrum[a] == Approx(dense.spectrum[a]).epsilon(1e-6));
+  }
+  // Same axes, same signs (the sign rule is deterministic): coordinates agree closely.
+  const double scale = std::sqrt(dense.spectrum[0]);
+  for (std::size_t i = 0; i < dense.coords.values.size(); ++i) {
+    CHECK(triangle.coords.values[i] == Approx(dense.coords.values[i]).margin(1e-4 * scale));
+    CHECK(whole.coords.values[i] == Approx(dense.coords.values[i]).margin(1e-4 * scale));
+  }
 }
