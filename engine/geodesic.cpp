@@ -12,7 +12,6 @@
 #include "engine/detail/dijkstra.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
-#include "engine/reorder.hpp"
 
 namespace unfurl {
 
@@ -125,25 +124,25 @@ void mirror_by_rank(DistanceRows& rows, std::span<const NodeId> rank) {
   }
 }
 
-// Nodes reachable from node 0, by breadth-first search: all_geodesic_rows checks this first so
-// that a disconnected graph gets one message whatever the thread count.
-std::size_t reachable_from_first(const NeighbourGraph& graph) {
+// The order in which exact mode runs its sources: by geodesic distance from a far node (the
+// node farthest from node 0), nearest first, ties by id. A run stops once every later node
+// is settled, so the sequence sweeps the graph from one end: on the 10,000-node Swiss roll
+// graph the runs then reach 74% of the N x N entries (a breadth-first order did as well; the
+// Morton node order itself, 95%). Also checks that the graph is connected, with one message
+// whatever the thread count.
+std::vector<NodeId> sweep_sequence(const NeighbourGraph& graph) {
   const std::size_t n = graph.nodes();
-  if (n == 0) return 0;
-  std::vector<char> seen(n, 0);
-  std::vector<NodeId> queue{0};
-  seen[0] = 1;
-  for (std::size_t head = 0; head < queue.size(); ++head) {
-    const NodeId u = queue[head];
-    for (auto e = graph.offsets[u]; e < graph.offsets[u + 1]; ++e) {
-      const NodeId v = graph.targets[e];
-      if (!seen[v]) {
-        seen[v] = 1;
-        queue.push_back(v);
-      }
-    }
-  }
-  return queue.size();
+  std::vector<float> from(n);
+  detail::DijkstraWorkspace work;
+  if (const std::size_t unreachable = work.run(graph, 0, from.data()); unreachable > 0)
+    detail::throw_unreachable(unreachable, n, 0);
+  const auto far = static_cast<NodeId>(std::max_element(from.begin(), from.end()) - from.begin());
+  work.run(graph, far, from.data());
+  std::vector<NodeId> sequence(n);
+  std::iota(sequence.begin(), sequence.end(), NodeId{0});
+  std::sort(sequence.begin(), sequence.end(),
+            [&](NodeId x, NodeId y) { return from[x] < from[y] || (from[x] == from[y] && x < y); });
+  return sequence;
 }
 
 }  // namespace
@@ -153,10 +152,10 @@ DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
   const auto start = std::chrono::steady_clock::now();
   detail::check_graph(graph);
   const std::size_t n = graph.nodes();
-  if (const std::size_t reached = reachable_from_first(graph); reached < n)
-    detail::throw_unreachable(n - reached, n, 0);
-  const Renumbering sequence = node_order(NodeOrder::bfs, graph);
-  const std::span<const NodeId> rank = sequence.new_of_old;
+  if (n == 0) return {};
+  const std::vector<NodeId> sequence = sweep_sequence(graph);
+  std::vector<NodeId> rank(n);
+  for (std::size_t p = 0; p < n; ++p) rank[sequence[p]] = static_cast<NodeId>(p);
   DistanceRows rows;
   rows.rows = n;
   rows.cols = n;
@@ -173,7 +172,7 @@ DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
       if (errors.failed()) continue;
       errors.run([&] {
         stop.check("geodesic");
-        const NodeId source = sequence.old_of_new[static_cast<std::size_t>(p)];
+        const NodeId source = sequence[static_cast<std::size_t>(p)];
         if (work.run_to_later(graph, source, rank, rows.row(source)) > 0) {
           const float* row = rows.row(source);  // the run went as far as it could: count
           const auto unreachable = static_cast<std::size_t>(
