@@ -1,6 +1,7 @@
 #include "engine/detail/csr.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <cstdint>
 #include <numeric>
 
@@ -9,12 +10,20 @@
 namespace unfurl::detail {
 
 NeighbourGraph symmetric_csr(std::size_t nodes, const std::vector<Edge>& edges) {
+  // Counting and scattering run in parallel with atomic counters, so entries land in each row
+  // in an order that depends on the threads; the sort below by (target, edge position) makes
+  // the rows identical whatever that order was. On the million-point Swiss roll the serial
+  // version of these two loops took about a sixth of the whole graph stage.
+  constexpr std::size_t kChunk = 1 << 16;
   std::vector<std::int64_t> start(nodes + 1, 0);
-  for (const Edge& e : edges)
-    if (e.from != e.to) {
-      ++start[e.from + 1];
-      ++start[e.to + 1];
+  parallel_chunks(edges.size(), kChunk, {}, "graph", [&](std::size_t first, std::size_t last) {
+    for (std::size_t i = first; i < last; ++i) {
+      const Edge& e = edges[i];
+      if (e.from == e.to) continue;
+      std::atomic_ref<std::int64_t>(start[e.from + 1]).fetch_add(1, std::memory_order_relaxed);
+      std::atomic_ref<std::int64_t>(start[e.to + 1]).fetch_add(1, std::memory_order_relaxed);
     }
+  });
   std::partial_sum(start.begin(), start.end(), start.begin());
   // Entries carry the edge's position so that "first length wins" survives the sort.
   struct Entry {
@@ -24,12 +33,18 @@ NeighbourGraph symmetric_csr(std::size_t nodes, const std::vector<Edge>& edges) 
   };
   std::vector<Entry> entries(static_cast<std::size_t>(start.back()));
   std::vector<std::int64_t> cursor(start.begin(), start.end() - 1);
-  for (std::size_t i = 0; i < edges.size(); ++i) {
-    const Edge& e = edges[i];
-    if (e.from == e.to) continue;
-    entries[static_cast<std::size_t>(cursor[e.from]++)] = {e.to, e.length, i};
-    entries[static_cast<std::size_t>(cursor[e.to]++)] = {e.from, e.length, i};
-  }
+  parallel_chunks(edges.size(), kChunk, {}, "graph", [&](std::size_t first, std::size_t last) {
+    for (std::size_t i = first; i < last; ++i) {
+      const Edge& e = edges[i];
+      if (e.from == e.to) continue;
+      const auto at_from =
+          std::atomic_ref<std::int64_t>(cursor[e.from]).fetch_add(1, std::memory_order_relaxed);
+      const auto at_to =
+          std::atomic_ref<std::int64_t>(cursor[e.to]).fetch_add(1, std::memory_order_relaxed);
+      entries[static_cast<std::size_t>(at_from)] = {e.to, e.length, i};
+      entries[static_cast<std::size_t>(at_to)] = {e.from, e.length, i};
+    }
+  });
   std::vector<std::int64_t> kept(nodes, 0);
   parallel_chunks(nodes, 4096, {}, "graph", [&](std::size_t first, std::size_t last) {
     for (std::size_t v = first; v < last; ++v) {
