@@ -116,13 +116,9 @@ PointSet noisy_truth(const SyntheticSet& s, double noise, std::uint64_t seed) {
 }  // namespace
 
 TEST_CASE("sampled estimates cover the exact value at the stated 95% level", "[quality]") {
-  // N = 10,000, not the 20,000 first planned: on the shared 2-core machine the N = 20,000
-  // version (one exact run plus 20 samples of 1,000) took 142 s under the sanitizers. Halving
-  // N makes each run 4x cheaper; the interval's validity depends on the sample size and the
-  // spread of the per-point terms (and on N only through the finite-population factor), so
-  // nothing the test checks is lost. 500 queries per seed keep the 20 sampled runs as cheap as
-  // the exact one.
-  const auto roll = swiss_roll(10000, 11);
+  // As the quality issue states the check: N = 20,000, the default 2,000 queries, a fixed seed
+  // list (1..20), and the exact value inside the reported 95% interval for at least 19 of 20.
+  const auto roll = swiss_roll(20000, 11);
   const PointSet map = noisy_truth(roll, 1.5, 12);
   const auto exact = neighbourhood_scores(roll.points, map, options_for({12}));
   const auto& e = exact.by_k[0];
@@ -130,10 +126,10 @@ TEST_CASE("sampled estimates cover the exact value at the stated 95% level", "[q
   int t_inside = 0, c_inside = 0;
   for (std::uint64_t seed = 1; seed <= 20; ++seed) {  // fixed seed list 1..20
     const auto r =
-        neighbourhood_scores(roll.points, map, options_for({12}, ScoreMethod::sampled, 500, seed));
+        neighbourhood_scores(roll.points, map, options_for({12}, ScoreMethod::sampled, 2000, seed));
     const auto& s = r.by_k[0];
     REQUIRE(s.sampled);
-    REQUIRE(s.sample_size == 500);
+    REQUIRE(s.sample_size == 2000);
     REQUIRE(s.t_low < s.trustworthiness);
     REQUIRE(s.trustworthiness < s.t_high);
     // Each sampled point is ranked exactly against all N: its terms are the exact ones.
@@ -145,22 +141,23 @@ TEST_CASE("sampled estimates cover the exact value at the stated 95% level", "[q
     c_inside += s.c_low <= e.continuity && e.continuity <= s.c_high;
   }
   // Binomial(20, 0.95) (common practice, no source): a correct 95% interval reaches 19 of 20
-  // only with probability 0.74, but 17 or more with probability 0.98, so 17 is the bar here.
-  // Observed: here T 18 and C 19 of 20, and 0.941 for the 2,000-draw coverage below. At
-  // N = 20,000 with 1,000 queries, seeds 1..20 gave T 17, C 20 and seeds 1..100 T 92, C 96.
-  CHECK(t_inside >= 17);
-  CHECK(c_inside >= 17);
+  // with probability 0.74, so this bar can fail for a sound interval and another seed list;
+  // for this fixed list it is deterministic. Observed here: T 19, C 20 of 20. (The earlier
+  // N = 10,000 version with 500 queries gave T 18, C 19; fewer queries cover skewed terms
+  // less well.)
+  CHECK(t_inside >= 19);
+  CHECK(c_inside >= 19);
 
   // The interval procedure itself on 2,000 seeded draws of the engine's sampler from the exact
   // per-point terms: the coverage of a 95% interval, within 3 binomial standard deviations
   // (sqrt(0.95 * 0.05 / 2000) = 0.49%).
   int covered = 0;
   const int draws = 2000;
-  std::vector<double> terms(500);
+  std::vector<double> terms(2000);
   for (int seed = 0; seed < draws; ++seed) {
-    const auto rows = detail::sample_rows(10000, 500, 1000 + seed);
+    const auto rows = detail::sample_rows(20000, 2000, 1000 + seed);
     for (std::size_t q = 0; q < rows.size(); ++q) terms[q] = e.t_terms[rows[q]];
-    const auto m = detail::mean_interval(terms, 10000);
+    const auto m = detail::mean_interval(terms, 20000);
     covered += std::abs(m.mean - (1.0 - e.trustworthiness)) <= m.half;
   }
   CHECK(covered / double(draws) == Approx(0.95).margin(0.015));
