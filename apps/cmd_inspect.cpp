@@ -6,6 +6,7 @@
 #include <memory>
 #include <nlohmann/json.hpp>
 
+#include "apps/args.hpp"
 #include "apps/command.hpp"
 #include "io/file_description.hpp"
 #include "io/points_reader.hpp"
@@ -15,11 +16,7 @@ namespace unfurl::app {
 namespace {
 
 struct InspectArgs {
-  std::string file;
-  std::string dataset;
-  std::string rows;
-  std::string format;
-  bool drop_nonfinite = false;
+  PointInputArgs input;  // the same point-input options as every other command
   bool json = false;
 };
 
@@ -115,27 +112,16 @@ void add_inspect_command(CLI::App& app, GlobalOptions& g) {
   auto* cmd = app.add_subcommand(
       "inspect", "Describe a point file (HDF5, CSV/TSV, NPY) and check the points it holds");
   auto args = std::make_shared<InspectArgs>();
-  cmd->add_option("file", args->file, "HDF5, CSV/TSV or NPY file")->required();
-  cmd->add_option("--dataset", args->dataset,
-                  "HDF5 dataset of points (default: the file's only 2-D numeric dataset)");
-  cmd->add_option("--rows", args->rows, "Read rows A:B only (half-open, 0-based; A: or :B)");
-  cmd->add_option("--format", args->format, "hdf5, csv, tsv or npy (default: from the file)");
-  cmd->add_flag("--drop-nonfinite", args->drop_nonfinite,
-                "Drop rows holding NaN or inf instead of failing");
+  add_point_input(cmd, args->input, "FILE");
   cmd->add_flag("--json", args->json, "Print one JSON document instead of text");
   cmd->callback([&g, args] {
     apply_globals(g);
-    io::PointReadOptions options;
-    options.dataset = args->dataset;
-    options.format = args->format;
-    options.drop_nonfinite = args->drop_nonfinite;
+    io::PointReadOptions options = to_read_options(args->input);
     options.stop = stop_token();
-    if (!args->rows.empty()) options.rows = io::parse_row_range(args->rows);
-    options.validate();
-    const io::FileDescription description = io::describe_file(args->file, args->format);
+    const io::FileDescription description = io::describe_file(args->input.file, args->input.format);
     // Text shows the description before reading, so it is there when the points are not.
     if (!args->json) print_description(g, description);
-    const io::PointReadResult result = io::read_points(args->file, options);
+    const io::PointReadResult result = io::read_points(args->input.file, options);
     const auto stats = io::column_stats(result.points);
     if (args->json)
       say(g, to_json(description, result, stats).dump(2));
