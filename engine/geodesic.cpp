@@ -50,15 +50,14 @@ void fill_geodesic_rows(const NeighbourGraph& graph, DistanceRows& rows, std::si
   ExceptionCollector errors;
 #pragma omp parallel
   {
-    DijkstraWorkspace work;  // one per thread, reused for all of its sources
+    DijkstraWorkspace work(graph);  // one per thread, reused for all of its sources
 #pragma omp for schedule(dynamic, 1)
     for (std::ptrdiff_t r = static_cast<std::ptrdiff_t>(first); r < last; ++r) {
       if (errors.failed()) continue;
       errors.run([&] {
         stop.check("geodesic");
         const NodeId source = rows.sources[static_cast<std::size_t>(r)];
-        const std::size_t unreachable =
-            work.run(graph, source, rows.row(static_cast<std::size_t>(r)));
+        const std::size_t unreachable = work.run(source, rows.row(static_cast<std::size_t>(r)));
         if (unreachable > 0) throw_unreachable(unreachable, graph.nodes(), source);
       });
     }
@@ -133,11 +132,11 @@ void mirror_by_rank(DistanceRows& rows, std::span<const NodeId> rank) {
 std::vector<NodeId> sweep_sequence(const NeighbourGraph& graph) {
   const std::size_t n = graph.nodes();
   std::vector<float> from(n);
-  detail::DijkstraWorkspace work;
-  if (const std::size_t unreachable = work.run(graph, 0, from.data()); unreachable > 0)
+  detail::DijkstraWorkspace work(graph);
+  if (const std::size_t unreachable = work.run(0, from.data()); unreachable > 0)
     detail::throw_unreachable(unreachable, n, 0);
   const auto far = static_cast<NodeId>(std::max_element(from.begin(), from.end()) - from.begin());
-  work.run(graph, far, from.data());
+  work.run(far, from.data());
   std::vector<NodeId> sequence(n);
   std::iota(sequence.begin(), sequence.end(), NodeId{0});
   std::sort(sequence.begin(), sequence.end(),
@@ -166,14 +165,14 @@ DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
   ExceptionCollector errors;
 #pragma omp parallel
   {
-    detail::DijkstraWorkspace work;
+    detail::DijkstraWorkspace work(graph);
 #pragma omp for schedule(dynamic, 1)
     for (std::ptrdiff_t p = 0; p < count; ++p) {
       if (errors.failed()) continue;
       errors.run([&] {
         stop.check("geodesic");
         const NodeId source = sequence[static_cast<std::size_t>(p)];
-        if (work.run_to_later(graph, source, rank, rows.row(source)) > 0) {
+        if (work.run_to_later(source, rank, rows.row(source)) > 0) {
           const float* row = rows.row(source);  // the run went as far as it could: count
           const auto unreachable = static_cast<std::size_t>(
               std::count(row, row + n, std::numeric_limits<float>::infinity()));

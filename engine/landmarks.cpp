@@ -49,7 +49,8 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
   std::vector<double> nearest(n, std::numeric_limits<double>::infinity());
   std::vector<char> chosen(n, 0);
   detail::DistanceHeap<double> heap;
-  std::vector<detail::DijkstraWorkspace> work(static_cast<std::size_t>(omp_get_max_threads()));
+  std::vector<detail::DijkstraWorkspace> work(static_cast<std::size_t>(omp_get_max_threads()),
+                                              detail::DijkstraWorkspace(graph));
   Random rng(seed);
   ExceptionCollector errors;
 #pragma omp parallel
@@ -84,7 +85,7 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
         if (errors.failed()) return;
         stop.check("landmarks");
         auto& mine = work[static_cast<std::size_t>(omp_get_thread_num())];
-        const std::size_t unreachable = mine.run(graph, pick, rows.row(k));
+        const std::size_t unreachable = mine.run(pick, rows.row(k));
         if (unreachable > 0) detail::throw_unreachable(unreachable, graph.nodes(), pick);
       });
       errors.run([&] {

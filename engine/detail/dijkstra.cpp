@@ -1,5 +1,7 @@
 #include "engine/detail/dijkstra.hpp"
 
+#include <algorithm>
+#include <bit>
 #include <limits>
 
 namespace unfurl::detail {
@@ -10,9 +12,9 @@ namespace {
 // (to +infinity for a full run, to the current landmark bounds for the maxmin update): only
 // nodes whose distance drops are relaxed. `done(u)`, called on each settled node, ends the
 // run early by returning true. Returns the number of nodes settled.
-template <class Key, class Done>
-std::size_t settle_from(const NeighbourGraph& graph, NodeId source, Key* dist,
-                        DistanceHeap<Key>& heap, Done done) {
+template <class Key, class Queue, class Done>
+std::size_t settle_from(const NeighbourGraph& graph, NodeId source, Key* dist, Queue& heap,
+                        Done done) {
   const std::int64_t* offsets = graph.offsets.data();
   const NodeId* targets = graph.targets.data();
   const float* lengths = graph.lengths.data();
@@ -39,23 +41,82 @@ std::size_t settle_from(const NeighbourGraph& graph, NodeId source, Key* dist,
 
 }  // namespace
 
-std::size_t DijkstraWorkspace::run(const NeighbourGraph& graph, NodeId source, float* out) {
-  const std::size_t n = graph.nodes();
-  std::fill(out, out + n, std::numeric_limits<float>::infinity());
-  return n - settle_from(graph, source, out, heap_, [](NodeId) { return false; });
+bool BucketQueue::setup(float shortest, float longest) {
+  if (!(shortest > 0.0f) || !(longest >= shortest)) return false;
+  // Width half the shortest edge: a relaxation moves at least two buckets on, a margin that
+  // float rounding of key / width (relative 2^-24 of keys up to 2^22 widths) cannot eat.
+  const double width = 0.5 * static_cast<double>(shortest);
+  const double span = static_cast<double>(longest) / width + 2.0;
+  if (span > static_cast<double>(kMaxBuckets)) return false;
+  const std::size_t size = std::bit_ceil(std::max<std::size_t>(64, static_cast<std::size_t>(span)));
+  ring_.assign(size, {});
+  occupied_.assign(size / 64, 0);
+  mask_ = size - 1;
+  inverse_width_ = static_cast<float>(1.0 / width);
+  clear();
+  return true;
 }
 
-std::size_t DijkstraWorkspace::run_to_later(const NeighbourGraph& graph, NodeId source,
-                                            std::span<const NodeId> rank, float* out) {
-  const std::size_t n = graph.nodes();
+void BucketQueue::clear() {
+  for (std::size_t w = 0; w < occupied_.size(); ++w)
+    for (std::uint64_t bits = occupied_[w]; bits != 0; bits &= bits - 1)
+      ring_[w * 64 + static_cast<std::size_t>(std::countr_zero(bits))].clear();
+  std::fill(occupied_.begin(), occupied_.end(), 0);
+  current_ = next_ = size_ = 0;
+}
+
+void BucketQueue::release(std::size_t slot) {
+  ring_[slot].clear();
+  occupied_[slot >> 6] &= ~(std::uint64_t{1} << (slot & 63));
+  next_ = 0;
+}
+
+// The absolute index of the first occupied bucket after `after`: every live key lies less
+// than a ring's length ahead, so the first set bit going round from there is it.
+std::size_t BucketQueue::next_occupied(std::size_t after) const {
+  const std::size_t from = (after + 1) & mask_;
+  std::size_t word = from >> 6;
+  std::uint64_t bits = occupied_[word] & (~std::uint64_t{0} << (from & 63));
+  for (std::size_t step = 0; step <= occupied_.size(); ++step) {
+    if (bits != 0) {
+      const std::size_t slot = word * 64 + static_cast<std::size_t>(std::countr_zero(bits));
+      return after + 1 + ((slot - from) & mask_);
+    }
+    word = (word + 1) % occupied_.size();
+    bits = occupied_[word];
+  }
+  return after + 1;  // not reached while the queue holds an entry
+}
+
+DijkstraWorkspace::DijkstraWorkspace(const NeighbourGraph& graph) : graph_(&graph) {
+  if (graph.lengths.empty()) return;
+  const auto [shortest, longest] = std::minmax_element(graph.lengths.begin(), graph.lengths.end());
+  buckets_ = bucket_queue_.setup(*shortest, *longest);
+}
+
+template <class Done>
+std::size_t DijkstraWorkspace::settle(NodeId source, float* out, Done done) {
+  const std::size_t n = graph_->nodes();
   std::fill(out, out + n, std::numeric_limits<float>::infinity());
+  return buckets_ ? settle_from(*graph_, source, out, bucket_queue_, done)
+                  : settle_from(*graph_, source, out, heap_, done);
+}
+
+std::size_t DijkstraWorkspace::run(NodeId source, float* out) {
+  return graph_->nodes() - settle(source, out, [](NodeId) { return false; });
+}
+
+std::size_t DijkstraWorkspace::run_to_later(NodeId source, std::span<const NodeId> rank,
+                                            float* out) {
+  const std::size_t n = graph_->nodes();
   const NodeId own = rank[source];
   std::size_t later = n - 1 - own;  // nodes ranked after the source, not settled yet
   if (later == 0) {  // the last of the sequence: every other entry comes from other runs
+    std::fill(out, out + n, std::numeric_limits<float>::infinity());
     out[source] = 0.0f;
     return 0;
   }
-  settle_from(graph, source, out, heap_, [&](NodeId u) { return rank[u] > own && --later == 0; });
+  settle(source, out, [&](NodeId u) { return rank[u] > own && --later == 0; });
   return later;
 }
 

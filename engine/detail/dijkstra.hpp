@@ -80,22 +80,85 @@ class DistanceHeap {
   Bits last_ = 0;
 };
 
+// Dial's bucket queue (Dial, "Algorithm 360: shortest-path forest with topological ordering",
+// Comm. ACM 12, 1969), with buckets of width delta = half the shortest edge: every edge then
+// spans at least two buckets, so when a bucket comes up its entries are final, in any order,
+// and the rows equal the heap's to the bit. Live keys lie within the longest edge of the
+// current one, so a ring of (longest / delta + 2) buckets, rounded up to a power of two,
+// holds them all, and a bitmap finds the next non-empty bucket. On the 10,000-node Swiss roll
+// graph (1,024 buckets) it ran single sources 1.7x faster than the radix heap.
+class BucketQueue {
+ public:
+  struct Entry {
+    float key;
+    NodeId node;
+  };
+  // False (and unusable) when the lengths do not suit it: a zero shortest edge, or a ring
+  // over kMaxBuckets buckets (lengths spread over more than about 5 orders of magnitude).
+  bool setup(float shortest, float longest);
+  void clear();
+  bool empty() const { return size_ == 0; }
+  void push(float key, NodeId node) {
+    const auto at = std::max(current_, static_cast<std::size_t>(key * inverse_width_));
+    const std::size_t slot = at & mask_;
+    ring_[slot].push_back({key, node});
+    occupied_[slot >> 6] |= std::uint64_t{1} << (slot & 63);
+    ++size_;
+  }
+  Entry pop() {  // the caller checks empty() first
+    for (;;) {
+      auto& bucket = ring_[current_ & mask_];
+      if (next_ < bucket.size()) {
+        --size_;
+        return bucket[next_++];
+      }
+      release(current_ & mask_);
+      current_ = next_occupied(current_);
+    }
+  }
+
+  static constexpr std::size_t kMaxBuckets = std::size_t{1} << 18;
+
+ private:
+  void release(std::size_t slot);
+  std::size_t next_occupied(std::size_t after) const;
+
+  std::vector<std::vector<Entry>> ring_;
+  std::vector<std::uint64_t> occupied_;  // a bit per bucket of the ring
+  std::size_t mask_ = 0;
+  float inverse_width_ = 0.0f;
+  std::size_t current_ = 0;  // absolute index of the bucket being emptied
+  std::size_t next_ = 0;     // its next entry
+  std::size_t size_ = 0;
+};
+
+// One thread's state for many single-source runs over one graph: the queue (Dial's buckets
+// when the edge lengths allow, else the radix heap) and nothing per source.
 class DijkstraWorkspace {
  public:
+  explicit DijkstraWorkspace(const NeighbourGraph& graph);
+
   // Full single-source distances from `source`, computed in place in `out` (graph.nodes()
   // floats). Returns the number of nodes left unreachable (their entries are +infinity).
-  // Float32 throughout: 8-byte heap entries and a 4-byte distance per node run about 1.5x
+  // Float32 throughout: 8-byte queue entries and a 4-byte distance per node run about 1.5x
   // faster than double; the price is rounding at every edge, measured at up to 1.5e-6
   // relative against double sums on the million-node Swiss roll graph (7e-7 at 10,000).
-  std::size_t run(const NeighbourGraph& graph, NodeId source, float* out);
+  std::size_t run(NodeId source, float* out);
   // The all-pairs shortcut: `rank` is a permutation of the nodes, and the run stops once every
   // node ranked after `source` is settled, so `out` is final for those nodes and holds
   // anything (final, tentative or +infinity) for the others, whose distances the runs from
   // them supply. Returns how many nodes ranked after `source` it could not reach.
-  std::size_t run_to_later(const NeighbourGraph& graph, NodeId source, std::span<const NodeId> rank,
-                           float* out);
+  std::size_t run_to_later(NodeId source, std::span<const NodeId> rank, float* out);
+  // Dial's buckets (true) or the radix heap (false), chosen from the graph's edge lengths.
+  bool uses_buckets() const { return buckets_; }
 
  private:
+  template <class Done>
+  std::size_t settle(NodeId source, float* out, Done done);
+
+  const NeighbourGraph* graph_;
+  bool buckets_ = false;  // Dial's buckets suit this graph's lengths
+  BucketQueue bucket_queue_;
   DistanceHeap<float> heap_;
 };
 

@@ -150,3 +150,35 @@ TEST_CASE("all-pairs rows are exactly symmetric and take each pair from a full r
     }
   }
 }
+
+TEST_CASE("Dial's buckets and the radix heap both give Floyd-Warshall's distances", "[geodesic]") {
+  // Oracle: Floyd-Warshall (Floyd 1962, test_util.hpp). The workspace picks the bucket queue
+  // when the lengths span a small enough ratio; a single very short or zero edge sends the
+  // same graph to the heap. Both must agree with the oracle (the spread graph's lengths run
+  // from 1e-3 to 1).
+  auto spread = unfurl::test::random_connected_graph(300, 900, 21);
+  for (std::size_t e = 0; e < spread.lengths.size(); ++e)
+    spread.lengths[e] = std::pow(10.0f, -3.0f * (spread.lengths[e] - 0.1f));
+  auto tiny = spread, zero = spread;
+  tiny.lengths[0] = 1e-9f;  // the ratio 1e9 needs far more buckets than the ring may hold
+  zero.lengths[0] = 0.0f;
+  for (unfurl::NeighbourGraph* g : {&tiny, &zero}) {
+    // The CSR holds each edge twice: give the entry back from node 0's first neighbour the
+    // same length.
+    const auto target = g->targets[0];
+    for (auto e = g->offsets[target]; e < g->offsets[target + 1]; ++e)
+      if (g->targets[static_cast<std::size_t>(e)] == 0)
+        g->lengths[static_cast<std::size_t>(e)] = g->lengths[0];
+  }
+  REQUIRE(spread.targets[0] != 0);
+  REQUIRE(unfurl::detail::DijkstraWorkspace(spread).uses_buckets());
+  REQUIRE_FALSE(unfurl::detail::DijkstraWorkspace(tiny).uses_buckets());
+  REQUIRE_FALSE(unfurl::detail::DijkstraWorkspace(zero).uses_buckets());
+  for (const auto* g : {&spread, &tiny, &zero}) {
+    const auto oracle = unfurl::test::floyd_warshall(*g);
+    const auto rows = unfurl::all_geodesic_rows(*g);
+    for (std::size_t i = 0; i < 300; ++i)
+      for (std::size_t j = 0; j < 300; ++j)
+        REQUIRE(rows.row(i)[j] == Approx(oracle[i * 300 + j]).epsilon(1e-5).margin(1e-6));
+  }
+}
