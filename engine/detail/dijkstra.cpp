@@ -52,7 +52,7 @@ bool BucketQueue::setup(float shortest, float longest) {
   ring_.assign(size, {});
   occupied_.assign(size / 64, 0);
   mask_ = size - 1;
-  inverse_width_ = static_cast<float>(1.0 / width);
+  inverse_width_ = 1.0 / width;
   clear();
   return true;
 }
@@ -63,6 +63,8 @@ void BucketQueue::clear() {
       ring_[w * 64 + static_cast<std::size_t>(std::countr_zero(bits))].clear();
   std::fill(occupied_.begin(), occupied_.end(), 0);
   current_ = next_ = size_ = 0;
+  popped_ = false;
+  exact_ = true;
 }
 
 void BucketQueue::release(std::size_t slot) {
@@ -94,29 +96,37 @@ DijkstraWorkspace::DijkstraWorkspace(const NeighbourGraph& graph) : graph_(&grap
   buckets_ = bucket_queue_.setup(*shortest, *longest);
 }
 
-template <class Done>
-std::size_t DijkstraWorkspace::settle(NodeId source, float* out, Done done) {
+template <class MakeDone>
+std::size_t DijkstraWorkspace::settle(NodeId source, float* out, MakeDone make_done) {
   const std::size_t n = graph_->nodes();
+  if (buckets_) {
+    std::fill(out, out + n, std::numeric_limits<float>::infinity());
+    const std::size_t settled = settle_from(*graph_, source, out, bucket_queue_, make_done());
+    if (bucket_queue_.exact()) return settled;
+    buckets_ = false;
+  }
   std::fill(out, out + n, std::numeric_limits<float>::infinity());
-  return buckets_ ? settle_from(*graph_, source, out, bucket_queue_, done)
-                  : settle_from(*graph_, source, out, heap_, done);
+  return settle_from(*graph_, source, out, heap_, make_done());
 }
 
 std::size_t DijkstraWorkspace::run(NodeId source, float* out) {
-  return graph_->nodes() - settle(source, out, [](NodeId) { return false; });
+  return graph_->nodes() - settle(source, out, [] { return [](NodeId) { return false; }; });
 }
 
 std::size_t DijkstraWorkspace::run_to_later(NodeId source, std::span<const NodeId> rank,
                                             float* out) {
   const std::size_t n = graph_->nodes();
   const NodeId own = rank[source];
-  std::size_t later = n - 1 - own;  // nodes ranked after the source, not settled yet
-  if (later == 0) {  // the last of the sequence: every other entry comes from other runs
+  if (own + 1 == n) {  // the last of the sequence: every other entry comes from other runs
     std::fill(out, out + n, std::numeric_limits<float>::infinity());
     out[source] = 0.0f;
     return 0;
   }
-  settle(source, out, [&](NodeId u) { return rank[u] > own && --later == 0; });
+  std::size_t later = 0;  // nodes ranked after the source, not settled yet
+  settle(source, out, [&] {
+    later = n - 1 - own;
+    return [&](NodeId u) { return rank[u] > own && --later == 0; };
+  });
   return later;
 }
 

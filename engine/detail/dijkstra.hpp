@@ -83,10 +83,10 @@ class DistanceHeap {
 // Dial's bucket queue (Dial, "Algorithm 360: shortest-path forest with topological ordering",
 // Comm. ACM 12, 1969), with buckets of width delta = half the shortest edge: every edge then
 // spans at least two buckets, so when a bucket comes up its entries are final, in any order,
-// and the rows equal the heap's to the bit. Live keys lie within the longest edge of the
-// current one, so a ring of (longest / delta + 2) buckets, rounded up to a power of two,
-// holds them all, and a bitmap finds the next non-empty bucket. On the 10,000-node Swiss roll
-// graph (1,024 buckets) it ran single sources 1.7x faster than the radix heap.
+// and the rows equal the heap's to the bit (exact() checks that this held). Live keys lie within
+// the longest edge of the current one, so a ring of (longest / delta + 2) buckets, rounded up to a
+// power of two, holds them all, and a bitmap finds the next non-empty bucket. On the 10,000-node
+// Swiss roll graph (1,024 buckets) it ran single sources 1.7x faster than the radix heap.
 class BucketQueue {
  public:
   struct Entry {
@@ -99,13 +99,18 @@ class BucketQueue {
   void clear();
   bool empty() const { return size_ == 0; }
   void push(float key, NodeId node) {
-    const auto at = std::max(current_, static_cast<std::size_t>(key * inverse_width_));
+    auto at = static_cast<std::size_t>(static_cast<double>(key) * inverse_width_);
+    if (at <= current_ && popped_) {  // a relaxation that did not move a bucket on: see exact()
+      exact_ = false;
+      at = current_;
+    }
     const std::size_t slot = at & mask_;
     ring_[slot].push_back({key, node});
     occupied_[slot >> 6] |= std::uint64_t{1} << (slot & 63);
     ++size_;
   }
   Entry pop() {  // the caller checks empty() first
+    popped_ = true;
     for (;;) {
       auto& bucket = ring_[current_ & mask_];
       if (next_ < bucket.size()) {
@@ -117,6 +122,12 @@ class BucketQueue {
     }
   }
 
+  // False when, since clear(), some relaxation stayed in the bucket being emptied, so that
+  // bucket's entries were not all final when it came up. Float32 keys cause it once paths
+  // reach about 2^24 bucket widths and adding an edge no longer moves a key by a width (a
+  // node could then be settled twice); the caller redoes the run with the heap.
+  bool exact() const { return exact_; }
+
   static constexpr std::size_t kMaxBuckets = std::size_t{1} << 18;
 
  private:
@@ -126,10 +137,12 @@ class BucketQueue {
   std::vector<std::vector<Entry>> ring_;
   std::vector<std::uint64_t> occupied_;  // a bit per bucket of the ring
   std::size_t mask_ = 0;
-  float inverse_width_ = 0.0f;
-  std::size_t current_ = 0;  // absolute index of the bucket being emptied
-  std::size_t next_ = 0;     // its next entry
+  double inverse_width_ = 0.0;  // double: the bucket index of a large key stays exact
+  std::size_t current_ = 0;     // absolute index of the bucket being emptied
+  std::size_t next_ = 0;        // its next entry
   std::size_t size_ = 0;
+  bool popped_ = false;  // the source is in: pushes from here on are relaxations
+  bool exact_ = true;
 };
 
 // One thread's state for many single-source runs over one graph: the queue (Dial's buckets
@@ -153,8 +166,10 @@ class DijkstraWorkspace {
   bool uses_buckets() const { return buckets_; }
 
  private:
-  template <class Done>
-  std::size_t settle(NodeId source, float* out, Done done);
+  // One run; `make_done()` gives the run's stop rule afresh, because a bucket run that was
+  // not exact is redone with the heap (and the heap kept for this graph from then on).
+  template <class MakeDone>
+  std::size_t settle(NodeId source, float* out, MakeDone make_done);
 
   const NeighbourGraph* graph_;
   bool buckets_ = false;  // Dial's buckets suit this graph's lengths

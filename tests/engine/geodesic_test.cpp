@@ -182,3 +182,26 @@ TEST_CASE("Dial's buckets and the radix heap both give Floyd-Warshall's distance
         REQUIRE(rows.row(i)[j] == Approx(oracle[i * 300 + j]).epsilon(1e-5).margin(1e-6));
   }
 }
+
+TEST_CASE("bucket runs that float32 keys make inexact are redone with the heap", "[geodesic]") {
+  // A path of 400 nodes with edges of 100 and, every tenth, one of 0.001: the length ratio
+  // fits the bucket ring (buckets of 0.0005), but beyond 32,768 a float32 key's ulp (0.0039)
+  // swallows the 0.001 edge, which then stays in its bucket. Oracle: Floyd-Warshall in double
+  // (Floyd 1962, test_util.hpp); the swallowed edges cost float32 at most 40 x 0.001 on
+  // distances near 4e4, 1e-6 relative.
+  constexpr std::size_t n = 400;
+  std::vector<Edge> edges;
+  for (NodeId i = 0; i + 1 < n; ++i) edges.push_back({i, i + 1, i % 10 == 0 ? 0.001f : 100.0f});
+  const auto g = unfurl::test::graph_from_edges(n, edges);
+  unfurl::detail::DijkstraWorkspace work(g);
+  REQUIRE(work.uses_buckets());
+  std::vector<float> row(n);
+  work.run(0, row.data());
+  CHECK_FALSE(work.uses_buckets());  // the first run found it out and fell back
+  const auto oracle = unfurl::test::floyd_warshall(g);
+  for (std::size_t j = 0; j < n; ++j) REQUIRE(row[j] == Approx(oracle[j]).epsilon(1e-5));
+  const auto rows = unfurl::all_geodesic_rows(g);
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t j = 0; j < n; ++j)
+      REQUIRE(rows.row(i)[j] == Approx(oracle[i * n + j]).epsilon(1e-5).margin(1e-6));
+}
