@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "engine/detail/dijkstra.hpp"
+#include "engine/detail/upper_tiles.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
 
@@ -44,26 +45,52 @@ void check_graph(const NeighbourGraph& graph) {
   }
 }
 
-void fill_geodesic_rows(const NeighbourGraph& graph, DistanceRows& rows, std::size_t first,
-                        std::size_t count, StopToken stop) {
-  const auto last = static_cast<std::ptrdiff_t>(first + count);
+namespace {
+
+// Calls body(work, i) for i in [first, last), shared among the threads (dynamic schedule,
+// one at a time), each thread with its own workspace for all of its calls; polls `stop`
+// before each and rethrows the first exception after the loop.
+template <class Body>
+void for_each_run(const NeighbourGraph& graph, std::size_t first, std::size_t last, StopToken stop,
+                  Body&& body) {
   ExceptionCollector errors;
 #pragma omp parallel
   {
-    DijkstraWorkspace work(graph);  // one per thread, reused for all of its sources
+    DijkstraWorkspace work(graph);
 #pragma omp for schedule(dynamic, 1)
-    for (std::ptrdiff_t r = static_cast<std::ptrdiff_t>(first); r < last; ++r) {
+    for (auto i = static_cast<std::ptrdiff_t>(first); i < static_cast<std::ptrdiff_t>(last); ++i) {
       if (errors.failed()) continue;
       errors.run([&] {
         stop.check("geodesic");
-        const NodeId source = rows.sources[static_cast<std::size_t>(r)];
-        const std::size_t unreachable = work.run(source, rows.row(static_cast<std::size_t>(r)));
-        if (unreachable > 0) throw_unreachable(unreachable, graph.nodes(), source);
+        body(work, static_cast<std::size_t>(i));
       });
     }
   }
   errors.rethrow();
 }
+
+}  // namespace
+
+void fill_geodesic_rows(const NeighbourGraph& graph, DistanceRows& rows, std::size_t first,
+                        std::size_t count, StopToken stop) {
+  for_each_run(graph, first, first + count, stop, [&](DijkstraWorkspace& work, std::size_t r) {
+    const NodeId source = rows.sources[r];
+    const std::size_t unreachable = work.run(source, rows.row(r));
+    if (unreachable > 0) throw_unreachable(unreachable, graph.nodes(), source);
+  });
+}
+
+namespace {
+void fill_summary(GeodesicSummary* summary, const DistanceRows& rows,
+                  std::chrono::steady_clock::time_point start) {
+  if (!summary) return;
+  summary->sources = rows.rows;
+  summary->nodes = rows.cols;
+  summary->threads = omp_get_max_threads();
+  summary->seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+}
+}  // namespace
 
 }  // namespace detail
 
@@ -84,13 +111,7 @@ DistanceRows geodesic_rows(const NeighbourGraph& graph, std::span<const NodeId> 
   rows.sources.assign(sources.begin(), sources.end());
   rows.values.resize(rows.rows * rows.cols);
   detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
-  if (summary) {
-    summary->sources = rows.rows;
-    summary->nodes = n;
-    summary->threads = omp_get_max_threads();
-    summary->seconds =
-        std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  }
+  detail::fill_summary(summary, rows, start);
   return rows;
 }
 
@@ -99,28 +120,14 @@ namespace {
 // Row i, column j gets D_ij computed by the run of whichever of i, j comes first in the
 // sequence (that run settled the other); the pair's other entry is overwritten by it.
 void mirror_by_rank(DistanceRows& rows, std::span<const NodeId> rank) {
-  constexpr std::size_t kTile = 64;  // two 64 x 64 float tiles stay in L1
-  const std::size_t n = rows.cols;
-  const auto tiles = static_cast<std::ptrdiff_t>((n + kTile - 1) / kTile);
-#pragma omp parallel for schedule(dynamic, 1)
-  for (std::ptrdiff_t ti = 0; ti < tiles; ++ti) {
-    const std::size_t i0 = static_cast<std::size_t>(ti) * kTile;
-    const std::size_t i1 = std::min(n, i0 + kTile);
-    for (std::size_t j0 = i0; j0 < n; j0 += kTile) {
-      const std::size_t j1 = std::min(n, j0 + kTile);
-      for (std::size_t i = i0; i < i1; ++i) {
-        float* row_i = rows.row(i);
-        for (std::size_t j = std::max(j0, i + 1); j < j1; ++j) {
-          float& ij = row_i[j];
-          float& ji = rows.row(j)[i];
-          if (rank[i] < rank[j])
-            ji = ij;
-          else
-            ij = ji;
-        }
-      }
-    }
-  }
+  detail::for_upper_pairs_tiled(rows.cols, [&](std::size_t i, std::size_t j) {
+    float& ij = rows.row(i)[j];
+    float& ji = rows.row(j)[i];
+    if (rank[i] < rank[j])
+      ji = ij;
+    else
+      ij = ji;
+  });
 }
 
 // The order in which exact mode runs its sources: by geodesic distance from a far node (the
@@ -161,35 +168,15 @@ DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
   rows.sources.resize(n);
   std::iota(rows.sources.begin(), rows.sources.end(), NodeId{0});
   rows.values.resize(n * n);
-  const auto count = static_cast<std::ptrdiff_t>(n);
-  ExceptionCollector errors;
-#pragma omp parallel
-  {
-    detail::DijkstraWorkspace work(graph);
-#pragma omp for schedule(dynamic, 1)
-    for (std::ptrdiff_t p = 0; p < count; ++p) {
-      if (errors.failed()) continue;
-      errors.run([&] {
-        stop.check("geodesic");
-        const NodeId source = sequence[static_cast<std::size_t>(p)];
-        if (work.run_to_later(source, rank, rows.row(source)) > 0) {
-          const float* row = rows.row(source);  // the run went as far as it could: count
-          const auto unreachable = static_cast<std::size_t>(
-              std::count(row, row + n, std::numeric_limits<float>::infinity()));
-          detail::throw_unreachable(unreachable, n, source);
-        }
-      });
-    }
-  }
-  errors.rethrow();
+  detail::for_each_run(graph, 0, n, stop, [&](detail::DijkstraWorkspace& work, std::size_t p) {
+    const NodeId source = sequence[p];
+    // sweep_sequence found the graph connected, so every run reaches all later nodes
+    if (work.run_to_later(source, rank, rows.row(source)) > 0)
+      throw InternalError("geodesic: a run from node " + std::to_string(source) +
+                          " missed nodes of a connected graph");
+  });
   mirror_by_rank(rows, rank);
-  if (summary) {
-    summary->sources = n;
-    summary->nodes = n;
-    summary->threads = omp_get_max_threads();
-    summary->seconds =
-        std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  }
+  detail::fill_summary(summary, rows, start);
   return rows;
 }
 

@@ -1,8 +1,10 @@
 #include "engine/detail/centred_operator.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
 
+#include "engine/detail/upper_tiles.hpp"
 #include "engine/parallel.hpp"
 
 namespace unfurl::detail {
@@ -30,24 +32,13 @@ void sum_row(const float* __restrict row, const double* __restrict x, double xi,
 // product read only the upper triangle.
 bool exactly_symmetric(const DistanceRows& d) {
   if (d.rows != d.cols) return false;
-  constexpr std::size_t kTile = 64;
-  const std::size_t n = d.cols;
-  const auto tiles = static_cast<std::ptrdiff_t>((n + kTile - 1) / kTile);
-  bool symmetric = true;
-#pragma omp parallel for schedule(dynamic, 1) reduction(&& : symmetric)
-  for (std::ptrdiff_t ti = 0; ti < tiles; ++ti) {
-    const std::size_t i0 = static_cast<std::size_t>(ti) * kTile;
-    const std::size_t i1 = std::min(n, i0 + kTile);
-    for (std::size_t j0 = i0; j0 < n && symmetric; j0 += kTile) {
-      const std::size_t j1 = std::min(n, j0 + kTile);
-      for (std::size_t i = i0; i < i1; ++i) {
-        if (d.row(i)[i] != 0.0f) symmetric = false;
-        for (std::size_t j = std::max(j0, i + 1); j < j1; ++j)
-          if (d.row(i)[j] != d.row(j)[i]) symmetric = false;
-      }
-    }
-  }
-  return symmetric;
+  for (std::size_t i = 0; i < d.cols; ++i)
+    if (d.row(i)[i] != 0.0f) return false;
+  std::atomic<bool> symmetric{true};
+  for_upper_pairs_tiled(d.cols, [&](std::size_t i, std::size_t j) {
+    if (d.row(i)[j] != d.row(j)[i]) symmetric.store(false, std::memory_order_relaxed);
+  });
+  return symmetric.load();
 }
 
 // First row of block b of `blocks`: equal shares of the rows, or of the upper triangle's
