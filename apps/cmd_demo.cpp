@@ -32,11 +32,10 @@ SyntheticSet generate(const DemoArgs& a, std::uint64_t seed) {
   return ocean_buoys(a.points, seed, a.noise < 0 ? 0.02 : a.noise);
 }
 
-void write_scenario(const std::filesystem::path& path, const DemoArgs& a, const SyntheticSet& s,
-                    std::uint64_t seed) {
-  io::AtomicOutput out(path);
-  {
-    io::H5Writer w(out.temp_path());
+void write_scenario(io::OutputSet& outputs, std::size_t output, const DemoArgs& a,
+                    const SyntheticSet& s, std::uint64_t seed) {
+  outputs.write(output, [&](const std::filesystem::path& temp) {
+    io::H5Writer w(temp);
     w.write("/points", s.points.values, {s.points.rows, s.points.cols}, {.gzip_level = 4});
     // The hidden quantities as 1-D datasets, so /points stays the file's only 2-D dataset
     // and every command picks it without --dataset.
@@ -50,9 +49,31 @@ void write_scenario(const std::filesystem::path& path, const DemoArgs& a, const 
                            "invented demo data of unfurl; /truth/* hold the hidden quantities");
     w.set_int_attribute("/", "seed", static_cast<std::int64_t>(seed));
     w.close();
-  }
-  out.commit();
+  });
 }
+
+// Removes the --out folder on failure when this run created it and nothing else is in it.
+class CreatedFolder {
+ public:
+  explicit CreatedFolder(const std::filesystem::path& folder) {
+    namespace fs = std::filesystem;
+    std::error_code ec;
+    created_ = fs::create_directories(folder, ec);
+    if (ec || !fs::is_directory(folder))
+      throw OutputError("--out " + folder.string() + ": cannot create the folder" +
+                        (ec ? ": " + ec.message() : ""));
+    if (created_) folder_ = folder;
+  }
+  ~CreatedFolder() {
+    std::error_code ec;
+    if (!folder_.empty()) std::filesystem::remove(folder_, ec);  // only when empty
+  }
+  void keep() { folder_.clear(); }
+
+ private:
+  std::filesystem::path folder_;
+  bool created_ = false;
+};
 
 // |Pearson correlation| of map axis `axis` with truth column `col` over the map rows.
 double abs_correlation(const PointSet& map, std::size_t axis, const PointSet& truth,
@@ -76,28 +97,41 @@ double abs_correlation(const PointSet& map, std::size_t axis, const PointSet& tr
 void run_demo(const GlobalOptions& g, DemoArgs& a) {
   apply_globals(g);
   namespace fs = std::filesystem;
-  std::error_code ec;
-  fs::create_directories(a.out, ec);
-  if (ec || !fs::is_directory(a.out))
-    throw OutputError("--out: cannot create the folder " + a.out + (ec ? ": " + ec.message() : ""));
+  CreatedFolder folder(a.out);
+  // The scenario, its map and its report are one output set, committed together.
+  io::OutputSet outputs(stop_token());
   const fs::path data = fs::path(a.out) / (a.scenario + ".h5");
+  const std::size_t data_out = outputs.add(data, "--out");
   a.embed.output = (fs::path(a.out) / (a.scenario + "-map.h5")).string();
   a.embed.json = (fs::path(a.out) / (a.scenario + "-report.json")).string();
-  check_outputs(a.embed);
+  const JobOutputs where =
+      a.data_only ? JobOutputs{} : add_job_outputs(outputs, a.embed, "--out", "--out");
 
   const SyntheticSet set = generate(a, g.seed);
-  write_scenario(data, a, set, g.seed);
-  say(g, fmt::format("demo: {} records x {} channels of the '{}' scenario written to {}",
-                     set.points.rows, set.points.cols, a.scenario, data.string()));
-  if (a.data_only) return;
+  write_scenario(outputs, data_out, a, set, g.seed);
+  const auto written = fmt::format(
+      "demo: {} records x {} channels of the '{}' scenario written "
+      "to {}",
+      set.points.rows, set.points.cols, a.scenario, data.string());
+  if (a.data_only) {
+    outputs.commit();
+    folder.keep();
+    say(g, written);
+    return;
+  }
 
   JobInput in;
   in.points = set.points;
   in.rows.resize(set.points.rows);
   for (std::size_t i = 0; i < in.rows.size(); ++i) in.rows[i] = static_cast<std::int64_t>(i);
-  in.identity = io::input_identity(data, "/points");
+  // The point file is still under its temporary name; its identity is that file's, by the
+  // name it will have (a rename keeps size and modification time).
+  in.identity = io::input_identity(outputs.temp_path(data_out), "/points");
+  in.identity["path"] = fs::absolute(data).string();
   EmbedResult result;
-  run_embed_job(g, a.embed, std::move(in), &result);
+  run_embed_job(g, a.embed, std::move(in), outputs, where, &result);
+  folder.keep();
+  say(g, written);
 
   for (std::size_t c = 0; c < set.truth.cols; ++c) {
     std::size_t best = 0;

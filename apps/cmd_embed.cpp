@@ -80,10 +80,12 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
   add_embed_job_options(cmd, *args);
   cmd->callback([&g, args] {
     apply_globals(g);
-    check_outputs(*args);
+    io::OutputSet outputs(stop_token());
+    outputs.add_input(args->input.file, "input");
+    const JobOutputs where = add_job_outputs(outputs, *args);
     JobInput in =
         args->input_kind == "points" ? read_points_input(g, *args) : read_graph_input(g, *args);
-    run_embed_job(g, *args, std::move(in));
+    run_embed_job(g, *args, std::move(in), outputs, where);
   });
 }
 

@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <memory>
+#include <optional>
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
@@ -27,8 +28,11 @@ struct GraphCommandArgs {
 
 void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
   apply_globals(g);
-  io::AtomicOutput{a.output};  // fail before any work; creates nothing
-  if (!a.json.empty()) io::AtomicOutput{a.json};
+  io::OutputSet outputs(stop_token());  // every output checked before any work
+  outputs.add_input(a.input.file, "input");
+  const std::size_t graph_out = outputs.add(a.output, "-o");
+  std::optional<std::size_t> json_out;
+  if (!a.json.empty()) json_out = outputs.add(a.json, "--json");
   const GraphOptions options = to_graph_options(a.graph);
   const io::PointReadResult in = io::read_points(a.input.file, to_read_options(a.input));
   say(g, fmt::format("points: {} rows x {} columns", in.points.rows, in.points.cols));
@@ -59,8 +63,9 @@ void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
   std::vector<std::int64_t> rows;
   rows.reserve(built.point_of_node.size());
   for (std::size_t p : built.point_of_node) rows.push_back(in.rows[p]);
-  io::write_graph(a.output, built.graph, attributes, rows);
-  if (!a.json.empty()) write_json_file(a.json, attributes);
+  io::write_graph(outputs, graph_out, built.graph, attributes, rows);
+  if (json_out) write_json_file(outputs, *json_out, attributes);
+  outputs.commit();
   say(g, "wrote " + a.output);
 }
 

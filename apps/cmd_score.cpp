@@ -35,7 +35,11 @@ bool is_unfurl_map(const std::string& file) {
 
 void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   apply_globals(g);
-  if (!a.json.empty()) io::AtomicOutput{a.json};  // fail before any work
+  io::OutputSet outputs(stop_token());  // the output checked before any work
+  outputs.add_input(a.map, "map");
+  outputs.add_input(a.points.file, "--points");
+  std::optional<std::size_t> json_out;
+  if (!a.json.empty()) json_out = outputs.add(a.json, "--json");
   AssessOptions options = to_assess_options(a.score, g.seed);
   options.dimension_k = a.dimension_k;
 
@@ -85,11 +89,14 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   const Assessment scores =
       assess_map(input, map, geodesic ? &*geodesic : nullptr, spectrum, options, stop_token());
   print_assessment(g, scores);
-  if (!a.json.empty())
-    write_json_file(a.json, {{"map", a.map},
-                             {"points", io::input_identity(a.points.file, in.dataset)},
-                             {"seed", g.seed},
-                             {"quality", assessment_json(scores)}});
+  if (json_out) {
+    write_json_file(outputs, *json_out,
+                    {{"map", a.map},
+                     {"points", io::input_identity(a.points.file, in.dataset)},
+                     {"seed", g.seed},
+                     {"quality", assessment_json(scores)}});
+    outputs.commit();
+  }
 }
 
 }  // namespace

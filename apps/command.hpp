@@ -20,7 +20,7 @@ struct GlobalOptions {
   bool quiet = false;      // print nothing but errors
 };
 
-// Set by SIGINT/SIGTERM/SIGUSR1 handlers installed in main().
+// Set by the SIGINT/SIGTERM/SIGUSR1/SIGHUP handlers installed in main().
 extern std::atomic<bool> g_stop_requested;
 inline StopToken stop_token() {
   return StopToken{&g_stop_requested};

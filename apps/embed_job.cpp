@@ -7,7 +7,6 @@
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
 #include "engine/linear.hpp"
-#include "io/atomic_output.hpp"
 #include "io/csv_writer.hpp"
 #include "io/map_file.hpp"
 
@@ -113,14 +112,17 @@ void add_embed_job_options(CLI::App* cmd, EmbedArgs& a) {
                   "Refuse exact mode when it would need more (e.g. 8G; default: 80% of RAM)");
 }
 
-void check_outputs(const EmbedArgs& a) {
-  // Constructing an AtomicOutput checks the folder and creates nothing.
-  io::AtomicOutput{a.output};
-  if (!a.csv.empty()) io::AtomicOutput{a.csv};
-  if (!a.json.empty()) io::AtomicOutput{a.json};
+JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std::string& map_label,
+                           const std::string& json_label) {
+  JobOutputs where;
+  where.map = outputs.add(a.output, map_label);
+  if (!a.csv.empty()) where.csv = outputs.add(a.csv, "--csv");
+  if (!a.json.empty()) where.json = outputs.add(a.json, json_label);
+  return where;
 }
 
 nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInput in,
+                             io::OutputSet& outputs, const JobOutputs& where,
                              EmbedResult* result_out) {
   EmbedOptions options;
   options.graph = to_graph_options(a.graph);
@@ -201,10 +203,11 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
                     {"seed", g.seed},
                     {"seconds", report["embedding"]["seconds"]}};
 
-  io::write_map(a.output, map);
-  if (!a.csv.empty()) io::write_coordinates_csv(a.csv, map.coords, map.rows);
+  io::write_map(outputs, where.map, map);
+  if (where.csv) io::write_coordinates_csv(outputs, *where.csv, map.coords, map.rows);
   report["peak_memory_bytes"] = peak_memory_bytes();
-  if (!a.json.empty()) write_json_file(a.json, report);
+  if (where.json) write_json_file(outputs, *where.json, report);
+  outputs.commit();
   say(g, fmt::format("wrote {} (peak memory {})", a.output, human_bytes(peak_memory_bytes())));
   if (result_out) *result_out = std::move(result);
   return report;

@@ -2,6 +2,7 @@
 // memory -> preprocessing -> graph -> map -> scores -> map file (and CSV/JSON when asked).
 #pragma once
 
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -11,6 +12,7 @@
 #include "apps/command.hpp"
 #include "engine/embedding.hpp"
 #include "engine/preprocess.hpp"
+#include "io/atomic_output.hpp"
 
 namespace unfurl::app {
 
@@ -44,12 +46,23 @@ struct JobInput {
 // Adds every option of the embed job except the input (and the output path) to `cmd`.
 void add_embed_job_options(CLI::App* cmd, EmbedArgs& args);
 
-// Throws OutputError now, before any work, when an output named in `args` cannot be created.
-void check_outputs(const EmbedArgs& args);
+// Where the job's outputs sit in the run's output set.
+struct JobOutputs {
+  std::size_t map = 0;
+  std::optional<std::size_t> csv, json;
+};
 
-// Runs the job. Returns the run's JSON report (also written to args.json when given) and,
-// when asked, the result itself.
+// Declares the map (named by `map_label` in messages), --csv and --json in `outputs`: an
+// OutputError now, before any work, when one cannot be written safely.
+JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& args,
+                           const std::string& map_label = "-o",
+                           const std::string& json_label = "--json");
+
+// Runs the job, writes its outputs into `outputs` and commits the whole set (with anything
+// the caller wrote into it before). Returns the run's JSON report and, when asked, the
+// result itself.
 nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& args, JobInput input,
+                             io::OutputSet& outputs, const JobOutputs& where,
                              EmbedResult* result_out = nullptr);
 
 }  // namespace unfurl::app

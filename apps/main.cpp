@@ -1,9 +1,13 @@
 #include <omp.h>
 
+#include <cerrno>
 #include <csignal>
 #include <cstdio>
+#include <cstring>
 #include <exception>
 #include <new>
+#include <string>
+#include <system_error>
 
 #include <fmt/core.h>
 
@@ -37,10 +41,28 @@ int fail(unfurl::ExitCode code, const char* message) {
   return static_cast<int>(code);
 }
 
+// A report that could not be printed is a failed run too (`unfurl inspect x >/dev/full`).
+int stdout_failed(int err) {
+  std::clearerr(stdout);
+  return fail(unfurl::ExitCode::io_error,
+              (std::string("standard output: write failed: ") + std::strerror(err)).c_str());
+}
+
+// Flushes stdout; exit 74 when it fails, else `code`.
+int finish(int code) {
+  errno = 0;
+  if (std::fflush(stdout) != 0 || std::ferror(stdout)) return stdout_failed(errno ? errno : EIO);
+  return code;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
   using namespace unfurl;
+  // First of all: a stop request (Ctrl-C, a scheduler's SIGTERM or SIGUSR1 warning, a closed
+  // terminal) ends the run with exit 75 at the next check; outputs are committed whole or not
+  // at all.
+  for (int s : {SIGINT, SIGTERM, SIGUSR1, SIGHUP}) std::signal(s, request_stop);
   CLI::App cli{
       "unfurl: unfold high-dimensional points into a few coordinates that follow "
       "geodesic distances over a neighbour graph."};
@@ -62,16 +84,16 @@ int main(int argc, char** argv) {
   app::add_inspect_command(cli, g);
   app::add_score_command(cli, g);
 
-  std::signal(SIGINT, request_stop);
-  std::signal(SIGTERM, request_stop);
-  std::signal(SIGUSR1, request_stop);
-
   try {
     cli.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
     // CLI11 uses its own codes (100 and up) for parse errors; ours is 64 for every usage error.
     const int rc = cli.exit(e);
-    return rc == 0 ? 0 : static_cast<int>(ExitCode::usage);
+    return finish(rc == 0 ? 0 : static_cast<int>(ExitCode::usage));
+  } catch (const std::system_error& e) {
+    // fmt reports a failed write to stdout this way.
+    if (std::ferror(stdout)) return stdout_failed(e.code().value());
+    return fail(ExitCode::internal, (std::string("internal error: ") + e.what()).c_str());
   } catch (const Error& e) {
     return fail(e.code(), e.what());
   } catch (const std::bad_alloc&) {
@@ -79,5 +101,5 @@ int main(int argc, char** argv) {
   } catch (const std::exception& e) {
     return fail(ExitCode::internal, (std::string("internal error: ") + e.what()).c_str());
   }
-  return 0;
+  return finish(0);
 }

@@ -2,10 +2,7 @@
 
 #include <fmt/core.h>
 
-#include <fstream>
-
 #include "engine/error.hpp"
-#include "io/atomic_output.hpp"
 
 namespace unfurl::app {
 namespace {
@@ -234,14 +231,8 @@ void print_assessment(const GlobalOptions& g, const Assessment& a) {
   for (const auto& w : a.warnings) say(g, "warning: " + w);
 }
 
-void write_json_file(const std::string& path, const nlohmann::json& doc) {
-  io::AtomicOutput out(path);
-  {
-    std::ofstream f(out.temp_path());
-    f << doc.dump(2) << "\n";
-    if (!f) throw IoError(path + ": cannot write the JSON report");
-  }
-  out.commit();
+void write_json_file(io::OutputSet& outputs, std::size_t output, const nlohmann::json& doc) {
+  outputs.write_text(output, doc.dump(2) + "\n");
 }
 
 }  // namespace unfurl::app

@@ -10,6 +10,7 @@
 #include "apps/command.hpp"
 #include "engine/assessment.hpp"
 #include "engine/embedding.hpp"
+#include "io/atomic_output.hpp"
 #include "io/map_file.hpp"
 
 namespace unfurl::app {
@@ -27,7 +28,7 @@ void print_graph(const GlobalOptions& g, const GraphSummary& s);
 void print_embedding(const GlobalOptions& g, const EmbedResult& r);
 void print_assessment(const GlobalOptions& g, const Assessment& a);
 
-// Writes `doc` to `path` atomically (pretty-printed JSON).
-void write_json_file(const std::string& path, const nlohmann::json& doc);
+// Writes `doc` (pretty-printed JSON) into output `output` of `outputs`.
+void write_json_file(io::OutputSet& outputs, std::size_t output, const nlohmann::json& doc);
 
 }  // namespace unfurl::app

@@ -63,17 +63,25 @@ void put_field(Sink& out, const std::string& s) {
 void write_coordinates_csv(const std::filesystem::path& path, const PointSet& coords,
                            std::span<const std::int64_t> rows,
                            const std::vector<std::string>& names) {
+  OutputSet outputs;
+  write_coordinates_csv(outputs, outputs.add(path), coords, rows, names);
+  outputs.commit();
+}
+
+void write_coordinates_csv(OutputSet& outputs, std::size_t output, const PointSet& coords,
+                           std::span<const std::int64_t> rows,
+                           const std::vector<std::string>& names) {
+  const std::filesystem::path& path = outputs.path(output);
   if (rows.size() != coords.rows || coords.values.size() != coords.rows * coords.cols)
     throw InternalError(path.string() + ": " + std::to_string(rows.size()) + " row indices for " +
                         std::to_string(coords.rows) + " points");
   if (!names.empty() && names.size() != coords.cols)
     throw InternalError(path.string() + ": " + std::to_string(names.size()) + " column names for " +
                         std::to_string(coords.cols) + " columns");
-  AtomicOutput output(path);
-  {
-    std::unique_ptr<std::FILE, FileCloser> file(std::fopen(output.temp_path().c_str(), "wb"));
-    if (!file) throw OutputError(path.string() + ": cannot create: " + std::strerror(errno));
-    auto sink = std::make_unique<Sink>(file.get(), path);
+  outputs.write(output, [&](const std::filesystem::path& temp) {
+    std::unique_ptr<std::FILE, FileCloser> file(std::fopen(temp.c_str(), "wb"));
+    if (!file) throw OutputError(temp.string() + ": cannot create: " + std::strerror(errno));
+    auto sink = std::make_unique<Sink>(file.get(), temp);
     sink->put("row", 3);
     for (std::size_t c = 0; c < coords.cols; ++c) {
       sink->put(',');
@@ -96,11 +104,10 @@ void write_coordinates_csv(const std::filesystem::path& path, const PointSet& co
     }
     sink->flush();
     if (std::fflush(file.get()) != 0 || std::ferror(file.get()))
-      throw IoError(path.string() + ": write failed: " + std::strerror(errno));
+      throw IoError(temp.string() + ": write failed: " + std::strerror(errno));
     if (std::fclose(file.release()) != 0)
-      throw IoError(path.string() + ": closing failed: " + std::strerror(errno));
-  }
-  output.commit();
+      throw IoError(temp.string() + ": write failed: " + std::strerror(errno));
+  });
 }
 
 }  // namespace unfurl::io

@@ -14,6 +14,7 @@
 #include <vector>
 
 #include "engine/points.hpp"
+#include "io/atomic_output.hpp"
 
 namespace unfurl::io {
 
@@ -22,6 +23,10 @@ namespace unfurl::io {
 // means x1..xm. Throws OutputError when the file cannot be created, IoError when writing
 // fails, InternalError when the sizes disagree.
 void write_coordinates_csv(const std::filesystem::path& path, const PointSet& coords,
+                           std::span<const std::int64_t> rows,
+                           const std::vector<std::string>& names = {});
+// The same into output `output` of `outputs`, committed with the rest of the set.
+void write_coordinates_csv(OutputSet& outputs, std::size_t output, const PointSet& coords,
                            std::span<const std::int64_t> rows,
                            const std::vector<std::string>& names = {});
 

@@ -82,6 +82,15 @@ void validate_graph(const NeighbourGraph& g, const std::string& where) {
 void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::json& attributes,
                  const std::vector<std::int64_t>& rows, const std::vector<MapArray>& node_arrays,
                  H5WriteOptions large) {
+  OutputSet outputs;
+  write_graph(outputs, outputs.add(path), g, attributes, rows, node_arrays, large);
+  outputs.commit();
+}
+
+void write_graph(OutputSet& outputs, std::size_t output, const NeighbourGraph& g,
+                 const nlohmann::json& attributes, const std::vector<std::int64_t>& rows,
+                 const std::vector<MapArray>& node_arrays, H5WriteOptions large) {
+  const fs::path& path = outputs.path(output);
   const std::size_t n = g.nodes();
   const auto bug = [&](const std::string& what) {
     throw InternalError(path.string() + ": graph contents disagree: " + what);
@@ -95,9 +104,8 @@ void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::
     if (a.path.rfind(nodes_group, 0) != 0 || a.dims.empty() || a.dims[0] != n)
       bug("node array " + a.path + " must sit under /graph/nodes/ with N rows");
 
-  AtomicOutput output(path);
-  {
-    H5Writer out(output.temp_path());
+  outputs.write(output, [&](const fs::path& temp) {
+    H5Writer out(temp);
     out.write("/graph/offsets", g.offsets, {g.offsets.size()},
               detail::layout_for_bytes(g.offsets.size() * 8, large));
     out.write("/graph/targets", g.targets, {g.targets.size()},
@@ -112,8 +120,7 @@ void write_graph(const fs::path& path, const NeighbourGraph& g, const nlohmann::
     detail::write_json_attributes(
         out, "/", detail::stamp_attributes(nlohmann::json::object(), graph_format_version));
     out.close();
-  }
-  output.commit();
+  });
 }
 
 GraphFile read_graph(const fs::path& path) {

@@ -21,6 +21,7 @@
 #include <vector>
 
 #include "engine/graph.hpp"
+#include "io/atomic_output.hpp"
 #include "io/hdf5_file.hpp"
 #include "io/map_array.hpp"
 
@@ -40,6 +41,10 @@ struct GraphFile {
 // the layout of datasets above 4 MiB (default contiguous). Sizes that
 // disagree are a caller's bug (InternalError); an unwritable output is an OutputError.
 void write_graph(const std::filesystem::path& path, const NeighbourGraph& graph,
+                 const nlohmann::json& attributes, const std::vector<std::int64_t>& rows = {},
+                 const std::vector<MapArray>& node_arrays = {}, H5WriteOptions large = {});
+// The same into output `output` of `outputs`, committed with the rest of the set.
+void write_graph(OutputSet& outputs, std::size_t output, const NeighbourGraph& graph,
                  const nlohmann::json& attributes, const std::vector<std::int64_t>& rows = {},
                  const std::vector<MapArray>& node_arrays = {}, H5WriteOptions large = {});
 

@@ -1,8 +1,8 @@
 // A small layer over the HDF5 C API for the files unfurl writes and reads.
 //
-// H5Writer creates a file (normally on an AtomicOutput's temporary path) and writes whole
-// datasets of float, double, int64 or uint32 with given dimensions, creating the groups on
-// the way, plus scalar and vector attributes. close() it before committing the output.
+// H5Writer creates a file (normally an OutputSet's temporary file, io/atomic_output.hpp) and
+// writes whole datasets of float, double, int64 or uint32 with given dimensions, creating the
+// groups on the way, plus scalar and vector attributes. close() it before committing.
 //
 // H5Reader opens a file read-only and treats it as untrusted: shapes and types are checked
 // before anything is read, a dataset that declares more data than the file could hold is

@@ -56,10 +56,16 @@ json input_identity(const fs::path& file, const std::string& dataset) {
 }
 
 void write_map(const fs::path& path, const MapContents& c, H5WriteOptions large) {
+  OutputSet outputs;
+  write_map(outputs, outputs.add(path), c, large);
+  outputs.commit();
+}
+
+void write_map(OutputSet& outputs, std::size_t output, const MapContents& c, H5WriteOptions large) {
+  const fs::path& path = outputs.path(output);
   check_sizes(path, c);
-  AtomicOutput output(path);
-  {
-    H5Writer out(output.temp_path());
+  outputs.write(output, [&](const fs::path& temp) {
+    H5Writer out(temp);
     const std::size_t n = c.coords.rows, m = c.coords.cols, l = c.landmark_rows.size();
     out.write("/coords", c.coords.values, {n, m},
               detail::layout_for_bytes(c.coords.values.size() * 4, large));
@@ -82,8 +88,7 @@ void write_map(const fs::path& path, const MapContents& c, H5WriteOptions large)
     detail::write_json_attributes(out, "/",
                                   detail::stamp_attributes(c.attributes, map_format_version));
     out.close();
-  }
-  output.commit();
+  });
 }
 
 namespace {

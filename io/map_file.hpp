@@ -35,6 +35,7 @@
 
 #include "engine/distance_rows.hpp"
 #include "engine/points.hpp"
+#include "io/atomic_output.hpp"
 #include "io/hdf5_file.hpp"
 #include "io/map_array.hpp"
 
@@ -61,6 +62,9 @@ struct MapContents {
 // disagree in size (a caller's bug).
 // `large` is the layout of datasets above 4 MiB (default contiguous).
 void write_map(const std::filesystem::path& path, const MapContents& contents,
+               H5WriteOptions large = {});
+// The same into output `output` of `outputs`, committed with the rest of the set.
+void write_map(OutputSet& outputs, std::size_t output, const MapContents& contents,
                H5WriteOptions large = {});
 
 // Reads a map file; the geodesic rows (often the largest part) only when asked. Rejects a

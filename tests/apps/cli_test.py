@@ -13,7 +13,6 @@ N stays at a few hundred points so the script runs in seconds, also under saniti
 Exits non-zero when any check fails; prints every check.
 """
 
-import hashlib
 import os
 import signal
 import subprocess
@@ -27,84 +26,10 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial.distance import cdist
 
-BIN = os.environ["UNFURL_BIN"]
+from cli_support import (BIN, check, failures, finish, refused, run, snapshot,  # noqa: F401
+                         snapshot_diff, succeeds, swiss_roll)
+
 N = 300
-failures = []
-checks = 0
-
-
-def check(what, ok, detail=""):
-    global checks
-    checks += 1
-    print(("ok   " if ok else "FAIL ") + what + ("" if ok else ": " + detail))
-    if not ok:
-        failures.append(what)
-
-
-def run(args, timeout=300):
-    r = subprocess.run([BIN, *args], capture_output=True, timeout=timeout)
-    # Bytes of a damaged input may be echoed; decode them without failing here.
-    r.stdout = r.stdout.decode("utf-8", "replace")
-    r.stderr = r.stderr.decode("utf-8", "replace")
-    return r
-
-
-def snapshot(folder):
-    """Every file under `folder` (hidden ones too) with the SHA-256 of its bytes."""
-    out = {}
-    for root, dirs, files in os.walk(folder):
-        for name in dirs + files:
-            path = os.path.join(root, name)
-            if os.path.isfile(path):
-                with open(path, "rb") as f:
-                    out[os.path.relpath(path, folder)] = hashlib.sha256(f.read()).hexdigest()
-            else:
-                out[os.path.relpath(path, folder) + "/"] = "folder"
-    return out
-
-
-def snapshot_diff(before, after):
-    added = sorted(set(after) - set(before))
-    removed = sorted(set(before) - set(after))
-    changed = sorted(k for k in before.keys() & after.keys() if before[k] != after[k])
-    return f"added {added}, removed {removed}, changed {changed}"
-
-
-def refused(what, args, code, names, folder):
-    """Runs a command that must fail: exit `code`, one line on stderr holding every string of
-    `names`, and no file under `folder` created, removed or changed."""
-    before = snapshot(folder)
-    r = run(args)
-    after = snapshot(folder)
-    lines = [line for line in r.stderr.splitlines()]
-    problems = []
-    if r.returncode != code:
-        problems.append(f"exit {r.returncode}, expected {code}")
-    if len(lines) != 1 or not lines[0].strip():
-        problems.append(f"stderr has {len(lines)} lines")
-    missing = [n for n in names if n not in r.stderr]
-    if missing:
-        problems.append(f"message lacks {missing}")
-    if before != after:
-        problems.append("files touched: " + snapshot_diff(before, after))
-    check(f"{what}: exit {code}, one line naming {names}, no output", not problems,
-          "; ".join(problems) + f"; stderr {r.stderr.strip()!r}")
-    return r
-
-
-def succeeds(what, args):
-    r = run(args)
-    check(f"{what}: exit 0", r.returncode == 0,
-          f"exit {r.returncode}; stderr {r.stderr.strip()!r}")
-    return r
-
-
-def swiss_roll(n, seed):
-    # The Swiss roll parametrisation of DESIGN.md section 6 (t = 1.5 pi (1 + 2u), height 21 u').
-    rng = np.random.default_rng(seed)
-    t = 1.5 * np.pi * (1 + 2 * rng.random(n))
-    h = 21 * rng.random(n)
-    return np.column_stack([t * np.cos(t), h, t * np.sin(t)]).astype(np.float32)
 
 
 def write_h5(path, **datasets):
@@ -414,10 +339,7 @@ def main():
               r.returncode == 0 and "Usage" in r.stdout and r.stderr == "",
               f"exit {r.returncode}; stderr {r.stderr.strip()!r}")
 
-    print(f"{checks - len(failures)} of {checks} checks passed (work folder {work})")
-    if failures:
-        sys.exit(1)
-    subprocess.run(["rm", "-rf", work], check=False)
+    finish(work)
 
 
 main()
