@@ -1,4 +1,6 @@
 #include <algorithm>
+#include <cerrno>
+#include <cstring>
 #include <limits>
 
 #include "engine/error.hpp"
@@ -41,6 +43,16 @@ Hid link_properties() {
   Hid lcpl(H5Pcreate(H5P_LINK_CREATE));
   if (lcpl) H5Pset_create_intermediate_group(lcpl.get(), 1);
   return lcpl;
+}
+
+// The system's cause of a failed library write, when errno holds one a write can have
+// ("No space left on device"); HDF5 keeps errno from the failing write(2) but also leaves
+// unrelated values behind, so only these are named.
+std::string write_cause() {
+  const int err = errno;
+  for (int known : {ENOSPC, EDQUOT, EFBIG, EIO, EROFS})
+    if (err == known) return std::string(": ") + std::strerror(err);
+  return "";
 }
 
 }  // namespace
@@ -96,9 +108,10 @@ void H5Writer::write(const std::string& dataset, std::span<const T> values,
   Hid set(H5Dcreate2(file_.get(), dataset.c_str(), detail::H5Type<T>::file(), space.get(),
                      lcpl.get(), dcpl.get(), H5P_DEFAULT));
   if (!set) throw IoError(where(dataset) + ": cannot create dataset");
+  errno = 0;
   if (expected > 0 && H5Dwrite(set.get(), detail::H5Type<T>::memory(), H5S_ALL, H5S_ALL,
                                H5P_DEFAULT, values.data()) < 0)
-    throw IoError(where(dataset) + ": write failed");
+    throw IoError(where(dataset) + ": write failed" + write_cause());
 }
 
 template void H5Writer::write<float>(const std::string&, std::span<const float>,
@@ -182,11 +195,19 @@ void H5Writer::set_ints_attribute(const std::string& object, const std::string& 
 void H5Writer::close() {
   if (!file_) return;
   const hid_t id = file_.get();
+  errno = 0;
   const bool flushed = H5Fflush(id, H5F_SCOPE_GLOBAL) >= 0;
+  const std::string cause = write_cause();
   // Close through the library (not just drop a reference) so that a failure is seen here.
   const bool closed = H5Fclose(id) >= 0;
-  file_ = Hid();
-  if (!flushed || !closed) throw IoError(path_.string() + ": closing the HDF5 file failed");
+  // After a failed close, closing the id again crashes HDF5 1.10: give it up.
+  if (closed)
+    file_ = Hid();
+  else
+    file_.release();
+  if (!flushed || !closed)
+    throw IoError(path_.string() + ": closing the HDF5 file failed" +
+                  (cause.empty() ? write_cause() : cause));
 }
 
 }  // namespace unfurl::io

@@ -31,6 +31,8 @@ class Hid {
   hid_t get() const { return id_; }
   bool valid() const { return id_ >= 0; }
   explicit operator bool() const { return valid(); }
+  // Gives the id up without closing it (for an object the library could not close).
+  hid_t release() { return std::exchange(id_, H5I_INVALID_HID); }
   void reset() {
     if (id_ >= 0 && H5Iis_valid(id_) > 0) H5Idec_ref(id_);
     id_ = H5I_INVALID_HID;

@@ -194,3 +194,21 @@ TEST_CASE("output set: stale temporary files of dead processes are removed") {
   CHECK_FALSE(fs::exists(dir / (".m.h5.part-" + dead + "-0")));
   CHECK(dir.entries().size() == 3);
 }
+
+TEST_CASE("output set: a rename that fails puts back every file renamed before it") {
+  TempFolder dir;
+  write_bytes(dir / "a.txt", "old a");
+  {
+    OutputSet set;
+    const auto a = set.add(dir / "a.txt", "-o");
+    const auto b = set.add(dir / "b.txt", "--json");
+    set.write_text(a, "new a");
+    set.write_text(b, "new b");
+    // Something else takes b's name after the checks: a folder, which no rename replaces.
+    fs::create_directories(dir / "b.txt" / "inside");
+    CHECK_THROWS_WITH(set.commit(), Catch::Contains("--json") && Catch::Contains("b.txt"));
+  }
+  CHECK(file_bytes(dir / "a.txt") == "old a");
+  CHECK(fs::is_directory(dir / "b.txt"));
+  CHECK_FALSE(has_temporaries(dir));
+}
