@@ -1,4 +1,6 @@
+#include <fcntl.h>
 #include <omp.h>
+#include <unistd.h>
 
 #include <cerrno>
 #include <csignal>
@@ -48,6 +50,20 @@ int stdout_failed(int err) {
               (std::string("standard output: write failed: ") + std::strerror(err)).c_str());
 }
 
+// A closed stdin, stdout or stderr is reopened on /dev/null read-only before any file is
+// opened: else a map could receive descriptor 1 and the report's lines with it. Writes to
+// it then fail (EBADF), so a closed stdout is still a failed write, exit 74.
+void hold_standard_descriptors() {
+  for (int fd = 0; fd <= 2; ++fd)
+    if (::fcntl(fd, F_GETFD) == -1 && errno == EBADF) {
+      const int opened = ::open("/dev/null", O_RDONLY);
+      if (opened >= 0 && opened != fd) {
+        ::dup2(opened, fd);
+        ::close(opened);
+      }
+    }
+}
+
 // Flushes stdout; exit 74 when it fails, else `code`.
 int finish(int code) {
   errno = 0;
@@ -63,6 +79,7 @@ int main(int argc, char** argv) {
   // terminal) ends the run with exit 75 at the next check; outputs are committed whole or not
   // at all.
   for (int s : {SIGINT, SIGTERM, SIGUSR1, SIGHUP}) std::signal(s, request_stop);
+  hold_standard_descriptors();
   CLI::App cli{
       "unfurl: unfold high-dimensional points into a few coordinates that follow "
       "geodesic distances over a neighbour graph."};

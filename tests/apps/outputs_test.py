@@ -164,6 +164,16 @@ def successes(work, d):
     check("new map under umask 027 has mode 0640", r.returncode == 0 and mode == 0o640,
           f"exit {r.returncode}, mode {mode and oct(mode)}")
 
+    # A closed stdout: the report cannot be printed (exit 74, named), and no output file
+    # receives descriptor 1 and the report's lines with it.
+    r = run(["embed", roll_h5, "--no-score", "-o", d("closed-stdout.h5")],
+            preexec_fn=lambda: os.close(1))
+    with h5py.File(d("closed-stdout.h5"), "r") as f:
+        rows = f["coords"].shape[0]
+    check("closed stdout: exit 74 naming standard output, the map is a whole HDF5 file",
+          r.returncode == 74 and "standard output" in r.stderr and rows == N,
+          f"exit {r.returncode}, stderr {r.stderr.strip()!r}")
+
     # A dangling symlink is written through too: its target appears, the link stays.
     os.symlink("real/new.csv", d("dangling.csv"))
     r = run(["embed", roll_h5, "--no-score", "-o", d("m2.h5"), "--csv", d("dangling.csv")])
@@ -249,7 +259,8 @@ def signals(work, d):
         job = subprocess.Popen([BIN, "embed", big, "--landmarks", "all",
                                 *sum(([k, v] for k, v in outs.items()), [])],
                                stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-        time.sleep(1.0)
+        catching(job.pid, sig)
+        time.sleep(0.5)
         job.send_signal(sig)
         _, err = job.communicate(timeout=300)
         err = err.decode("utf-8", "replace")
