@@ -12,8 +12,8 @@
 // A symlink to a regular file is written through: the link's target is replaced, the link
 // stays. A replaced file keeps its permission bits; a new one gets the usual 0666 & ~umask.
 //
-// Temporary names are ".NAME.part-HOST-PID-SEQ" (NAME shortened to fit the file-name limit),
-// so a later run can remove those of processes on this host that no longer exist.
+// Temporary names are ".NAME.part-HOST-PID-SEQ" (io/detail/temp_names.hpp); add() removes
+// those that processes of this host which no longer exist left in the output's folder.
 #pragma once
 
 #include <cstddef>
@@ -86,7 +86,6 @@ class OutputSet {
     std::string label;
     FileId id;
   };
-  std::filesystem::path fresh_temp_name(const Output& o);
   void create_temp(std::size_t i);
   void remove_temporaries() noexcept;
 
@@ -96,10 +95,5 @@ class OutputSet {
   std::vector<FileId> cleaned_folders_;
   bool committed_ = false;
 };
-
-// Removes the temporary files of OutputSet (".NAME.part-HOST-PID-SEQ", and the older
-// ".NAME.part-PID-SEQ") left in `folder` by processes of this host that no longer exist.
-// Only regular files owned by the effective user are removed. Returns how many.
-std::size_t remove_stale_temporaries(const std::filesystem::path& folder);
 
 }  // namespace unfurl::io

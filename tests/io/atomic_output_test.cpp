@@ -13,6 +13,7 @@
 #include <catch2/catch.hpp>
 
 #include "engine/error.hpp"
+#include "io/detail/temp_names.hpp"
 #include "tests/io/temp_folder.hpp"
 
 namespace {
@@ -190,7 +191,7 @@ TEST_CASE("output set: stale temporary files of dead processes are removed") {
   write_bytes(dir / (".m.h5.part-" + self + "-0"), "live");
   write_bytes(dir / (".m.h5.part-0badc0de-" + dead + "-0"), "another host's");
   write_bytes(dir / ("m.h5.part-" + dead + "-0"), "not hidden: not ours");
-  CHECK(unfurl::io::remove_stale_temporaries(dir.path()) == 1);
+  CHECK(unfurl::io::detail::remove_stale_temporaries(dir.path()) == 1);
   CHECK_FALSE(fs::exists(dir / (".m.h5.part-" + dead + "-0")));
   CHECK(dir.entries().size() == 3);
 }
