@@ -8,6 +8,8 @@
 #include <memory>
 
 #include "apps/embed_job.hpp"
+#include "apps/option_scope.hpp"
+#include "apps/run_info.hpp"
 #include "engine/error.hpp"
 #include "engine/synthetic.hpp"
 #include "io/atomic_output.hpp"
@@ -21,15 +23,70 @@ struct DemoArgs {
   std::string scenario = "ocean-buoys";
   std::size_t points = 4000;
   std::string out = "demo-output";
-  double noise = -1;  // < 0: the scenario's own default
+  std::optional<double> noise;  // none: the scenario's own default
   bool data_only = false;
   EmbedArgs embed;
 };
 
 SyntheticSet generate(const DemoArgs& a, std::uint64_t seed) {
-  if (a.scenario == "swiss-roll") return swiss_roll(a.points, seed, std::max(a.noise, 0.0));
-  if (a.scenario == "s-curve") return s_curve(a.points, seed, std::max(a.noise, 0.0));
-  return ocean_buoys(a.points, seed, a.noise < 0 ? 0.02 : a.noise);
+  if (a.scenario == "swiss-roll") return swiss_roll(a.points, seed, a.noise.value_or(0.0));
+  if (a.scenario == "s-curve") return s_curve(a.points, seed, a.noise.value_or(0.0));
+  return ocean_buoys(a.points, seed, a.noise.value_or(0.02));
+}
+
+std::size_t scenario_columns(const DemoArgs& a) {
+  return a.scenario == "ocean-buoys" ? kBuoyChannels : 3;
+}
+
+// Rough peak bytes of a demo on n points of d columns (common practice, no source: a sum of
+// the arrays the run holds at once, per point): the scenario, its copy for the job and its
+// two truth columns (12 d + 8); the neighbour search's candidates and the union graph's
+// edges, 8 bytes each ((k + max(16, k)) 8 + 16 k); the landmark geodesic rows (4 L); the map
+// and per-point scores (64). --data-only holds the scenario and its written copy only.
+std::uint64_t demo_bytes(const DemoArgs& a) {
+  const double n = static_cast<double>(a.points), d = static_cast<double>(scenario_columns(a));
+  if (a.data_only) return static_cast<std::uint64_t>(n * (8 * d + 8));
+  const double k = static_cast<double>(a.embed.graph.radius_given ? 0 : a.embed.graph.k);
+  double landmarks =
+      std::min(n, static_cast<double>(std::max<std::size_t>(a.embed.map.dims + 1, 256)));
+  if (a.embed.map.landmarks != "auto" && a.embed.map.landmarks != "all")
+    landmarks = std::stod(a.embed.map.landmarks);  // a count: check_job_options read it
+  const double per_point = 12 * d + 8 + (k + std::max(16.0, k)) * 8 + 16 * k + 4 * landmarks + 64;
+  return static_cast<std::uint64_t>(std::min(n * per_point, 0x1p63));
+}
+
+// Everything that can be refused before a file is written: options that do not apply, the
+// embed job's options on this many points, and the memory the run would need.
+void check_demo(const GlobalOptions& g, const CLI::App& cmd, const DemoArgs& a) {
+  RunShape shape = embed_run_shape(a.embed);
+  shape.demo = true;
+  shape.data_only = a.data_only;
+  refuse_unused_options(cmd, shape);
+  if (!a.data_only) check_job_options(g, a.embed, a.points, scenario_columns(a));
+  const std::uint64_t need = demo_bytes(a);
+  const std::uint64_t limit = a.embed.max_memory.empty()
+                                  ? default_memory_limit()
+                                  : parse_bytes("--max-memory", a.embed.max_memory);
+  if (need > limit)
+    throw ResourceError(fmt::format(
+        "--points {}: the demo would need about {}, over the limit of {} ({}); use fewer "
+        "points{}",
+        a.points, human_bytes(need), human_bytes(limit),
+        a.embed.max_memory.empty() ? "80% of the memory" : "--max-memory",
+        a.embed.max_memory.empty() ? "" : " or raise --max-memory"));
+}
+
+// The folders create_directories(path) would make, deepest first.
+std::vector<std::filesystem::path> missing_folders(std::filesystem::path path) {
+  std::vector<std::filesystem::path> out;
+  path = path.lexically_normal();
+  if (!path.has_filename()) path = path.parent_path();  // "out/" names the folder "out"
+  std::error_code ec;
+  while (!path.empty() && !std::filesystem::exists(path, ec)) {
+    out.push_back(path);
+    path = path.parent_path();
+  }
+  return out;
 }
 
 void write_scenario(const std::filesystem::path& path, const DemoArgs& a, const SyntheticSet& s,
@@ -73,13 +130,8 @@ double abs_correlation(const PointSet& map, std::size_t axis, const PointSet& tr
   return vx > 0 && vy > 0 ? std::abs(cov / std::sqrt(vx * vy)) : 0.0;
 }
 
-void run_demo(const GlobalOptions& g, DemoArgs& a) {
-  apply_globals(g);
+void make_demo(const GlobalOptions& g, DemoArgs& a) {
   namespace fs = std::filesystem;
-  std::error_code ec;
-  fs::create_directories(a.out, ec);
-  if (ec || !fs::is_directory(a.out))
-    throw OutputError("--out: cannot create the folder " + a.out + (ec ? ": " + ec.message() : ""));
   const fs::path data = fs::path(a.out) / (a.scenario + ".h5");
   a.embed.output = (fs::path(a.out) / (a.scenario + "-map.h5")).string();
   a.embed.json = (fs::path(a.out) / (a.scenario + "-report.json")).string();
@@ -96,6 +148,8 @@ void run_demo(const GlobalOptions& g, DemoArgs& a) {
   in.rows.resize(set.points.rows);
   for (std::size_t i = 0; i < in.rows.size(); ++i) in.rows[i] = static_cast<std::int64_t>(i);
   in.identity = io::input_identity(data, "/points");
+  in.identity["file_rows"] = set.points.rows;
+  in.identity["columns"] = set.points.cols;
   EmbedResult result;
   run_embed_job(g, a.embed, std::move(in), &result);
 
@@ -113,6 +167,24 @@ void run_demo(const GlobalOptions& g, DemoArgs& a) {
   say(g, fmt::format("demo: map {}, report {}", a.embed.output, a.embed.json));
 }
 
+void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
+  apply_globals(g);
+  check_demo(g, cmd, a);
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  const std::vector<fs::path> made = missing_folders(a.out);
+  fs::create_directories(a.out, ec);
+  if (ec || !fs::is_directory(a.out))
+    throw OutputError("--out: cannot create the folder " + a.out + (ec ? ": " + ec.message() : ""));
+  try {
+    make_demo(g, a);
+  } catch (...) {
+    // A failed demo leaves no folder it made behind, unless something was written into it.
+    for (const fs::path& folder : made) fs::remove(folder, ec);
+    throw;
+  }
+}
+
 }  // namespace
 
 void add_demo_command(CLI::App& app, GlobalOptions& g) {
@@ -124,16 +196,17 @@ void add_demo_command(CLI::App& app, GlobalOptions& g) {
       ->check(CLI::IsMember({"ocean-buoys", "swiss-roll", "s-curve"}))
       ->capture_default_str();
   cmd->add_option("--points", a->points, "Number of points (records) to generate")
-      ->check(CLI::Range(std::size_t{3}, std::size_t{1} << 31))
+      ->transform(whole_number(3, std::uint64_t{1} << 31))
       ->capture_default_str();
   cmd->add_option("--noise", a->noise,
                   "Standard deviation of the added noise (default: 0.02 for ocean-buoys, 0 "
-                  "otherwise)");
+                  "otherwise)")
+      ->check(non_negative_number());
   cmd->add_option("--out", a->out, "Folder for the scenario, its map and report")
       ->capture_default_str();
   cmd->add_flag("--data-only", a->data_only, "Write the scenario's point file and stop");
   add_embed_job_options(cmd, a->embed);
-  cmd->callback([&g, a] { run_demo(g, *a); });
+  cmd->callback([&g, a, cmd] { run_demo(g, *cmd, *a); });
 }
 
 }  // namespace unfurl::app

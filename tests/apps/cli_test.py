@@ -420,4 +420,5 @@ def main():
     subprocess.run(["rm", "-rf", work], check=False)
 
 
-main()
+if __name__ == "__main__":  # options_test.py imports the helpers above
+    main()
