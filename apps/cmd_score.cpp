@@ -183,6 +183,7 @@ void add_score_command(CLI::App& app, GlobalOptions& g) {
   cmd->callback([&g, a, cmd] {
     RunShape shape;
     shape.score_exact = a->score.method == "exact";
+    if (!a->map_dataset.empty()) shape.map_format = io::detect_point_format(a->map);
     refuse_unused_options(*cmd, shape);
     run_score(g, *a);
   });

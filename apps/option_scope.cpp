@@ -15,6 +15,7 @@ struct Rule {
   std::function<std::string(const RunShape&)> situation;
   std::vector<std::string> options;
   std::string why;
+  std::vector<std::string> values = {};  // refused only with one of these values; empty: any
 };
 
 std::string when(bool active, const std::string& text) {
@@ -36,6 +37,10 @@ const std::vector<Rule>& rules() {
        {"--scale", "--metric", "--pre-pca", "--linear"},
        "these transform points, and a given graph has none"},
       {given_graph,
+       {"--node-order"},
+       "morton and tree-leaves order nodes by their points, and a given graph has none",
+       {"morton", "tree-leaves"}},
+      {given_graph,
        {"--score-k", "--score-method", "--sample"},
        "trustworthiness and continuity need points; a given graph gets the residual variance "
        "only"},
@@ -52,6 +57,12 @@ const std::vector<Rule>& rules() {
                      "a " + s.input_format + " input file");
        },
        {"--dataset"},
+       "only HDF5 files hold named datasets"},
+      {[](const RunShape& s) {
+         return when(!s.map_format.empty() && s.map_format != "hdf5",
+                     "a " + s.map_format + " map file");
+       },
+       {"--map-dataset"},
        "only HDF5 files hold named datasets"},
       {[](const RunShape& s) { return when(s.linear, "--linear"); },
        {"--k", "--radius", "--mutual", "--search", "--keep-duplicates", "--disconnected",
@@ -122,6 +133,10 @@ void refuse_unused_options(const CLI::App& cmd, const RunShape& shape) {
     for (const std::string& name : rule.options) {
       const CLI::Option* option = cmd.get_option_no_throw(name);
       if (option == nullptr || option->count() == 0) continue;
+      const auto& given = option->results();
+      if (!rule.values.empty() &&
+          std::find(rule.values.begin(), rule.values.end(), given.back()) == rule.values.end())
+        continue;
       throw OptionError(as_typed(*option, name) + ": not used with " + situation + ": " + rule.why);
     }
   }
@@ -129,7 +144,7 @@ void refuse_unused_options(const CLI::App& cmd, const RunShape& shape) {
 
 bool option_used(const RunShape& shape, const std::string& option) {
   for (const Rule& rule : rules())
-    if (!rule.situation(shape).empty())
+    if (!rule.situation(shape).empty() && rule.values.empty())
       for (const std::string& name : rule.options)
         if (name == option) return false;
   return true;

@@ -17,6 +17,7 @@ namespace unfurl::app {
 struct RunShape {
   std::string input_kind = "points";  // points | edges | distances | graph
   std::string input_format;           // "csv", "npy", "hdf5"...; "" when not looked at
+  std::string map_format;             // score: the map file's format, like input_format
   bool linear = false;                // --linear: plain PCA, no graph
   bool exact = false;                 // --landmarks all: every node a source
   bool no_score = false;              // --no-score

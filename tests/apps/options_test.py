@@ -86,6 +86,9 @@ def main():
         for option in unused_with_graph:
             refused(f"embed --input {kind} {' '.join(option)}", base + option, 64,
                     [" ".join(option), f"--input {kind}"], work)
+        refused(f"embed --input {kind} --node-order tree-leaves",
+                base + ["--node-order", "tree-leaves"], 64,
+                ["--node-order tree-leaves", f"--input {kind}"], work)
         if kind != "distances":
             refused(f"embed --input {kind} --missing -1", base + ["--missing", "-1"], 64,
                     ["--missing -1", f"--input {kind}"], work)
@@ -122,6 +125,11 @@ def main():
             ["score", good_map, "--points", roll, "--score-method", "exact", "--sample", "10",
              "--json", good_json], 64, ["--sample 10", "--score-method exact"], work)
 
+    np.save(d("array.npy"), points[:, :2].copy())
+    refused("score --map-dataset on an NPY map",
+            ["score", d("array.npy"), "--map-dataset", "/coords", "--points", roll, "--json",
+             good_json], 64, ["--map-dataset /coords", "npy"], work)
+
     # Options that do apply to a graph input are read, not refused.
     succeeds("embed --input edges --dataset names an E x 3 HDF5 table",
              ["embed", d("edges.h5"), "--input", "edges", "--dataset", "/table", "-o",
@@ -129,9 +137,10 @@ def main():
     succeeds("embed --input distances --dataset on an HDF5 matrix",
              ["embed", d("distances.h5"), "--input", "distances", "--dataset", "/matrix",
               "-o", d("out/matrix.h5"), "--quiet"])
-    succeeds("embed --input edges --format csv --disconnected largest --dims 3",
+    succeeds("embed --input edges --format csv --disconnected largest --dims 3 --node-order bfs",
              ["embed", d("edges.csv"), "--input", "edges", "--format", "csv", "--disconnected",
-              "largest", "--dims", "3", "-o", d("out/edges.h5"), "--quiet"])
+              "largest", "--dims", "3", "--node-order", "bfs", "-o", d("out/edges.h5"),
+              "--quiet"])
     with h5py.File(d("out/edges.h5"), "r") as f:
         parameters = json.loads(f.attrs["parameters"])
         rows = f["/rows"][()]
@@ -140,9 +149,9 @@ def main():
                   if key in parameters]
     check("embed --input edges: the map records no option the run did not use",
           not unrecorded, f"recorded {unrecorded}")
-    check("embed --input edges: the map records the options used (dims 3, largest)",
-          parameters.get("dims") == 3 and parameters.get("disconnected") == "largest",
-          f"{parameters}")
+    check("embed --input edges: the map records the options used (dims 3, largest, bfs)",
+          parameters.get("dims") == 3 and parameters.get("disconnected") == "largest"
+          and parameters.get("node_order") == "bfs", f"{parameters}")
     check("embed --input edges: the map holds every node", rows.tolist() == list(range(N)),
           f"{len(rows)} rows")
 
