@@ -173,10 +173,11 @@ void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
   namespace fs = std::filesystem;
   std::error_code ec;
   const std::vector<fs::path> made = missing_folders(a.out);
-  fs::create_directories(a.out, ec);
-  if (ec || !fs::is_directory(a.out))
-    throw OutputError("--out: cannot create the folder " + a.out + (ec ? ": " + ec.message() : ""));
   try {
+    fs::create_directories(a.out, ec);
+    if (ec || !fs::is_directory(a.out))
+      throw OutputError("--out: cannot create the folder " + a.out +
+                        (ec ? ": " + ec.message() : ""));
     make_demo(g, a);
   } catch (...) {
     // A failed demo leaves no folder it made behind, unless something was written into it.

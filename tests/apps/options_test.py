@@ -234,6 +234,15 @@ def main():
     refused("demo --data-only --k 5", demo + ["--data-only", "--k", "5"], 64,
             ["--k 5", "--data-only"], work)
     refused("demo --json", demo + ["--json", d("x.json")], 64, ["--json", "x.json"], work)
+    # A folder whose path fits the 4,095-byte limit of Linux (PATH_MAX 4096, limits.h; common
+    # practice, no source) while the scenario file inside it does not: the write fails after
+    # the folders were made, and the demo removes every folder it made.
+    folder = d("long")
+    while len(folder) < 4085 - 201:
+        folder = os.path.join(folder, "d" * 200)
+    folder = os.path.join(folder, "e" * (4085 - len(folder) - 1))
+    refused("demo whose scenario file name is too long: no folder left behind",
+            ["demo", "--out", folder, "--points", "50"], 73, ["ocean-buoys"], work)
     succeeds("demo, small", demo + ["--points", "200", "--scenario", "swiss-roll", "--noise",
                                     "0.05", "--quiet"])
 
