@@ -50,12 +50,13 @@ void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
       ->transform(whole_number(0, max_count))
       ->default_str(std::to_string(a.k));
   cmd->add_option_function<double>(
-      "--radius",
-      [&a](const double& r) {
-        a.radius = r;
-        a.radius_given = true;
-      },
-      "Join points closer than or at this Euclidean distance instead (data units)");
+         "--radius",
+         [&a](const double& r) {
+           a.radius = r;
+           a.radius_given = true;
+         },
+         "Join points closer than or at this Euclidean distance instead (data units)")
+      ->check(non_negative_number());  // 0 is refused below, where it is known to be given
   cmd->add_flag("--mutual", a.mutual, "Keep an edge only when both points list each other");
   cmd->add_option("--search", a.search, "Exact search back end")
       ->check(CLI::IsMember({"automatic", "tree", "scan"}))

@@ -162,7 +162,9 @@ def main():
                           ("--seed", str(2**63)), ("--seed", "99999999999999999999"),
                           ("--seed", "1.5"), ("--max-memory", "99999999999999999999T"),
                           ("--max-memory", "16E"), ("--max-memory", "nan"),
-                          ("--max-memory", "0x10"), ("--max-memory", "-8G")]:
+                          ("--max-memory", "0x10"), ("--max-memory", "-8G"),
+                          ("--radius", "-1"), ("--radius", "1e400"), ("--radius", "nan"),
+                          ("--radius", "0")]:
         r = refused(f"embed {option} {value}", base + [option, value], 64, [option, value],
                     work)
         check(f"embed {option} {value}: no wrapped value in the message",
