@@ -106,7 +106,8 @@ const std::vector<Rule>& rules() {
   return table;
 }
 
-// "--k 5", "--score-k 5 -1", or "--mutual" for a flag: the option as the user typed it.
+// "--k 5", "--score-k 5 -1", or "--mutual" for a flag: the option as given (whole numbers
+// after whole_number(), which drops leading zeros).
 std::string as_typed(const CLI::Option& option, const std::string& name) {
   std::string text = name;
   if (option.get_expected_max() == 0) return text;  // a flag
