@@ -1,6 +1,10 @@
 #include "apps/args.hpp"
 
+#include <cctype>
+#include <cerrno>
 #include <cmath>
+#include <cstdlib>
+#include <optional>
 
 #include <fmt/core.h>
 
@@ -43,14 +47,16 @@ void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
            a.k_given = true;
          },
          "Neighbours per point of the k-nearest graph")
+      ->transform(whole_number(0, max_count))
       ->default_str(std::to_string(a.k));
   cmd->add_option_function<double>(
-      "--radius",
-      [&a](const double& r) {
-        a.radius = r;
-        a.radius_given = true;
-      },
-      "Join points closer than or at this Euclidean distance instead (data units)");
+         "--radius",
+         [&a](const double& r) {
+           a.radius = r;
+           a.radius_given = true;
+         },
+         "Join points closer than or at this Euclidean distance instead (data units)")
+      ->check(non_negative_number());  // 0 is refused below, where it is known to be given
   cmd->add_flag("--mutual", a.mutual, "Keep an edge only when both points list each other");
   cmd->add_option("--search", a.search, "Exact search back end")
       ->check(CLI::IsMember({"automatic", "tree", "scan"}))
@@ -93,7 +99,9 @@ ComponentOptions to_component_options(const GraphArgs& a) {
 }
 
 void add_map_options(CLI::App* cmd, MapArgs& a) {
-  cmd->add_option("--dims", a.dims, "Dimensions of the map")->capture_default_str();
+  cmd->add_option("--dims", a.dims, "Dimensions of the map")
+      ->transform(whole_number(0, max_count))
+      ->capture_default_str();
   cmd->add_option("--landmarks", a.landmarks,
                   "Landmark count, 'auto' (min(N, max(dims + 1, 256))) or 'all' (exact mode: "
                   "N x N geodesics)")
@@ -140,12 +148,14 @@ void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
 
 void add_score_options(CLI::App* cmd, ScoreArgs& a) {
   cmd->add_option("--score-k", a.ks, "Neighbourhood sizes for trustworthiness and continuity")
+      ->transform(whole_number(0, max_count))
       ->capture_default_str();
   cmd->add_option("--score-method", a.method,
                   "exact (every point), sampled, or automatic (exact up to 50,000 points)")
       ->check(CLI::IsMember({"automatic", "exact", "sampled"}))
       ->capture_default_str();
   cmd->add_option("--sample", a.sample, "Query points when scores are sampled")
+      ->transform(whole_number(0, max_count))
       ->capture_default_str();
 }
 
@@ -171,31 +181,88 @@ void validate_score_options(const AssessOptions& o, std::size_t points) {
   }
 }
 
-std::uint64_t parse_bytes(const std::string& option, const std::string& text) {
+namespace {
+
+// "8G" -> bytes; nothing when the text is not a size or is 2^64 bytes or more.
+std::optional<std::uint64_t> bytes_of(const std::string& text) {
   std::size_t used = 0;
   double value = 0;
   try {
     value = std::stod(text, &used);
   } catch (const std::exception&) {
-    used = 0;
+    return std::nullopt;
   }
-  double scale = 1;
-  const std::string unit = used == 0 ? std::string() : text.substr(used);
-  if (unit == "" || unit == "B")
-    scale = 1;
-  else if (unit == "K" || unit == "KiB")
-    scale = 1024.0;
-  else if (unit == "M" || unit == "MiB")
-    scale = 1024.0 * 1024;
-  else if (unit == "G" || unit == "GiB")
-    scale = 1024.0 * 1024 * 1024;
-  else if (unit == "T" || unit == "TiB")
-    scale = 1024.0 * 1024 * 1024 * 1024;
-  else
-    used = 0;
-  if (used == 0 || !std::isfinite(value) || value <= 0)
-    throw OptionError(option + ": expected a size such as 8G, 512M or 1000000, got '" + text + "'");
-  return static_cast<std::uint64_t>(value * scale);
+  // stod also reads blanks, hexadecimal, "inf" and "nan": a size is written in decimal.
+  if (used == 0 || !(std::isdigit(static_cast<unsigned char>(text[0])) || text[0] == '.') ||
+      text.find_first_of("xXpP") < used)
+    return std::nullopt;
+  const std::string unit = text.substr(used);
+  double scale = 0;
+  if (unit == "" || unit == "B") scale = 1;
+  if (unit == "K" || unit == "KiB") scale = 0x1p10;
+  if (unit == "M" || unit == "MiB") scale = 0x1p20;
+  if (unit == "G" || unit == "GiB") scale = 0x1p30;
+  if (unit == "T" || unit == "TiB") scale = 0x1p40;
+  const double bytes = value * scale;
+  if (scale == 0 || !std::isfinite(bytes) || bytes < 1 || bytes >= 0x1p64) return std::nullopt;
+  return static_cast<std::uint64_t>(bytes);
+}
+
+std::string size_expected(const std::string& text) {
+  return "expected a size from 1 byte to below 16 EiB, such as 8G, 512M or 1000000, got '" + text +
+         "'";
+}
+
+}  // namespace
+
+std::uint64_t parse_bytes(const std::string& option, const std::string& text) {
+  if (const auto bytes = bytes_of(text)) return *bytes;
+  throw OptionError(option + ": " + size_expected(text));
+}
+
+CLI::Validator byte_size() {
+  return CLI::Validator(
+      [](std::string& text) { return bytes_of(text) ? std::string() : size_expected(text); },
+      "SIZE");
+}
+
+CLI::Validator non_negative_number() {
+  return CLI::Validator(
+      [](std::string& text) {
+        const char* begin = text.c_str();
+        char* end = nullptr;
+        errno = 0;
+        const double value = std::strtod(begin, &end);
+        // strtod also reads blanks and hexadecimal; a number here is written in decimal.
+        const bool decimal = !text.empty() && (std::isdigit(static_cast<unsigned char>(text[0])) ||
+                                               text[0] == '.' || text[0] == '+');
+        const bool hex = text.find_first_of("xX") != std::string::npos;
+        if (!decimal || hex || end != begin + text.size() || errno == ERANGE ||
+            !std::isfinite(value) || value < 0)
+          return "expected a finite number of 0 or more, got '" + text + "'";
+        return std::string();
+      },
+      "NUMBER >= 0");
+}
+
+CLI::Validator whole_number(std::uint64_t min, std::uint64_t max) {
+  return CLI::Validator(
+      [min, max](std::string& text) {
+        const std::string expected =
+            fmt::format("expected a whole number from {} to {}, got '{}'", min, max, text);
+        if (text.empty() || text.size() > 40) return expected;
+        std::uint64_t value = 0;
+        for (const char c : text) {
+          if (c < '0' || c > '9') return expected;
+          const std::uint64_t digit = static_cast<std::uint64_t>(c - '0');
+          if (value > (UINT64_MAX - digit) / 10) return expected;  // would overflow
+          value = value * 10 + digit;
+        }
+        if (value < min || value > max) return expected;
+        text = std::to_string(value);  // CLI11 reads "010" as octal: pass it on as "10"
+        return std::string();
+      },
+      max == max_count ? fmt::format("INT >= {}", min) : fmt::format("INT {}..{}", min, max));
 }
 
 }  // namespace unfurl::app

@@ -77,7 +77,26 @@ E from_name(const std::string& text, std::initializer_list<E> values, NameOf nam
   return fallback;
 }
 
-// "8G", "512M", "1.5G", "1000000" -> bytes; OptionError naming `option` otherwise.
+// "8G", "512M", "1.5G", "1000000" (units of 1024) -> bytes, from 1 to below 2^64; OptionError
+// naming `option` and the text as typed otherwise.
 std::uint64_t parse_bytes(const std::string& option, const std::string& text);
+// The same check as a CLI11 validator, so a bad size is refused while parsing.
+CLI::Validator byte_size();
+
+// A CLI11 validator for a finite decimal number of 0 or more (NaN, infinities, negative
+// numbers and values beyond double range refused as typed).
+CLI::Validator non_negative_number();
+
+// Every integer option goes through this CLI11 validator, as ->transform (it rewrites the text):
+// decimal digits only, from `min` to `max`, refused as typed ("--k: expected a whole number from 0
+// to ..., got '-1'"). CLI11 alone reads "-1" into an unsigned option as 2^64 - 1, "0x10" as 16 and
+// "010" as octal 8.
+CLI::Validator whole_number(std::uint64_t min, std::uint64_t max);
+
+// Largest value of --seed: seeds are stored in the map as int64 attributes, so a run can be
+// repeated from its map exactly.
+inline constexpr std::uint64_t max_seed = INT64_MAX;
+// Largest count an option can ask for (sizes beyond are refused by the stage's validate()).
+inline constexpr std::uint64_t max_count = INT64_MAX;
 
 }  // namespace unfurl::app

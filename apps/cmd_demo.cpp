@@ -8,6 +8,8 @@
 #include <memory>
 
 #include "apps/embed_job.hpp"
+#include "apps/option_scope.hpp"
+#include "apps/run_info.hpp"
 #include "engine/error.hpp"
 #include "engine/synthetic.hpp"
 #include "io/atomic_output.hpp"
@@ -21,15 +23,70 @@ struct DemoArgs {
   std::string scenario = "ocean-buoys";
   std::size_t points = 4000;
   std::string out = "demo-output";
-  double noise = -1;  // < 0: the scenario's own default
+  std::optional<double> noise;  // none: the scenario's own default
   bool data_only = false;
   EmbedArgs embed;
 };
 
 SyntheticSet generate(const DemoArgs& a, std::uint64_t seed) {
-  if (a.scenario == "swiss-roll") return swiss_roll(a.points, seed, std::max(a.noise, 0.0));
-  if (a.scenario == "s-curve") return s_curve(a.points, seed, std::max(a.noise, 0.0));
-  return ocean_buoys(a.points, seed, a.noise < 0 ? 0.02 : a.noise);
+  if (a.scenario == "swiss-roll") return swiss_roll(a.points, seed, a.noise.value_or(0.0));
+  if (a.scenario == "s-curve") return s_curve(a.points, seed, a.noise.value_or(0.0));
+  return ocean_buoys(a.points, seed, a.noise.value_or(0.02));
+}
+
+std::size_t scenario_columns(const DemoArgs& a) {
+  return a.scenario == "ocean-buoys" ? kBuoyChannels : 3;
+}
+
+// Rough peak bytes of a demo on n points of d columns (common practice, no source: a sum of
+// the arrays the run holds at once, per point): the scenario, its copy for the job and its
+// two truth columns (12 d + 8); the neighbour search's candidates and the union graph's
+// edges, 8 bytes each ((k + max(16, k)) 8 + 16 k); the landmark geodesic rows (4 L); the map
+// and per-point scores (64). --data-only holds the scenario and its written copy only.
+std::uint64_t demo_bytes(const DemoArgs& a) {
+  const double n = static_cast<double>(a.points), d = static_cast<double>(scenario_columns(a));
+  if (a.data_only) return static_cast<std::uint64_t>(n * (8 * d + 8));
+  const double k = static_cast<double>(a.embed.graph.radius_given ? 0 : a.embed.graph.k);
+  double landmarks =
+      std::min(n, static_cast<double>(std::max<std::size_t>(a.embed.map.dims + 1, 256)));
+  if (a.embed.map.landmarks != "auto" && a.embed.map.landmarks != "all")
+    landmarks = std::stod(a.embed.map.landmarks);  // a count: check_job_options read it
+  const double per_point = 12 * d + 8 + (k + std::max(16.0, k)) * 8 + 16 * k + 4 * landmarks + 64;
+  return static_cast<std::uint64_t>(std::min(n * per_point, 0x1p63));
+}
+
+// Everything that can be refused before a file is written: options that do not apply, the
+// embed job's options on this many points, and the memory the run would need.
+void check_demo(const GlobalOptions& g, const CLI::App& cmd, const DemoArgs& a) {
+  RunShape shape = embed_run_shape(a.embed);
+  shape.demo = true;
+  shape.data_only = a.data_only;
+  refuse_unused_options(cmd, shape);
+  if (!a.data_only) check_job_options(g, a.embed, a.points, scenario_columns(a));
+  const std::uint64_t need = demo_bytes(a);
+  const std::uint64_t limit = a.embed.max_memory.empty()
+                                  ? default_memory_limit()
+                                  : parse_bytes("--max-memory", a.embed.max_memory);
+  if (need > limit)
+    throw ResourceError(fmt::format(
+        "--points {}: the demo would need about {}, over the limit of {} ({}); use fewer "
+        "points{}",
+        a.points, human_bytes(need), human_bytes(limit),
+        a.embed.max_memory.empty() ? "80% of the memory" : "--max-memory",
+        a.embed.max_memory.empty() ? "" : " or raise --max-memory"));
+}
+
+// The folders create_directories(path) would make, deepest first.
+std::vector<std::filesystem::path> missing_folders(std::filesystem::path path) {
+  std::vector<std::filesystem::path> out;
+  path = path.lexically_normal();
+  if (!path.has_filename()) path = path.parent_path();  // "out/" names the folder "out"
+  std::error_code ec;
+  while (!path.empty() && !std::filesystem::exists(path, ec)) {
+    out.push_back(path);
+    path = path.parent_path();
+  }
+  return out;
 }
 
 void write_scenario(io::OutputSet& outputs, std::size_t output, const DemoArgs& a,
@@ -52,27 +109,25 @@ void write_scenario(io::OutputSet& outputs, std::size_t output, const DemoArgs& 
   });
 }
 
-// Removes the --out folder on failure when this run created it and nothing else is in it.
+// Removes, on failure, the --out folder and every parent this run created, when nothing
+// else was put in them.
 class CreatedFolder {
  public:
-  explicit CreatedFolder(const std::filesystem::path& folder) {
-    namespace fs = std::filesystem;
+  explicit CreatedFolder(const std::filesystem::path& folder) : made_(missing_folders(folder)) {
     std::error_code ec;
-    created_ = fs::create_directories(folder, ec);
-    if (ec || !fs::is_directory(folder))
+    std::filesystem::create_directories(folder, ec);
+    if (ec || !std::filesystem::is_directory(folder))
       throw OutputError("--out " + folder.string() + ": cannot create the folder" +
                         (ec ? ": " + ec.message() : ""));
-    if (created_) folder_ = folder;
   }
   ~CreatedFolder() {
     std::error_code ec;
-    if (!folder_.empty()) std::filesystem::remove(folder_, ec);  // only when empty
+    for (const auto& f : made_) std::filesystem::remove(f, ec);  // only when empty
   }
-  void keep() { folder_.clear(); }
+  void keep() { made_.clear(); }
 
  private:
-  std::filesystem::path folder_;
-  bool created_ = false;
+  std::vector<std::filesystem::path> made_;  // deepest first
 };
 
 // |Pearson correlation| of map axis `axis` with truth column `col` over the map rows.
@@ -94,8 +149,9 @@ double abs_correlation(const PointSet& map, std::size_t axis, const PointSet& tr
   return vx > 0 && vy > 0 ? std::abs(cov / std::sqrt(vx * vy)) : 0.0;
 }
 
-void run_demo(const GlobalOptions& g, DemoArgs& a) {
+void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
   apply_globals(g);
+  check_demo(g, cmd, a);
   namespace fs = std::filesystem;
   CreatedFolder folder(a.out);
   // The scenario, its map and its report are one output set, committed together.
@@ -128,6 +184,8 @@ void run_demo(const GlobalOptions& g, DemoArgs& a) {
   // name it will have (a rename keeps size and modification time).
   in.identity = io::input_identity(outputs.temp_path(data_out), "/points");
   in.identity["path"] = fs::absolute(data).string();
+  in.identity["file_rows"] = set.points.rows;
+  in.identity["columns"] = set.points.cols;
   EmbedResult result;
   run_embed_job(g, a.embed, std::move(in), outputs, where, &result);
   folder.keep();
@@ -158,16 +216,17 @@ void add_demo_command(CLI::App& app, GlobalOptions& g) {
       ->check(CLI::IsMember({"ocean-buoys", "swiss-roll", "s-curve"}))
       ->capture_default_str();
   cmd->add_option("--points", a->points, "Number of points (records) to generate")
-      ->check(CLI::Range(std::size_t{3}, std::size_t{1} << 31))
+      ->transform(whole_number(3, std::uint64_t{1} << 31))
       ->capture_default_str();
   cmd->add_option("--noise", a->noise,
                   "Standard deviation of the added noise (default: 0.02 for ocean-buoys, 0 "
-                  "otherwise)");
+                  "otherwise)")
+      ->check(non_negative_number());
   cmd->add_option("--out", a->out, "Folder for the scenario, its map and report")
       ->capture_default_str();
   cmd->add_flag("--data-only", a->data_only, "Write the scenario's point file and stop");
   add_embed_job_options(cmd, a->embed);
-  cmd->callback([&g, a] { run_demo(g, *a); });
+  cmd->callback([&g, a, cmd] { run_demo(g, *cmd, *a); });
 }
 
 }  // namespace unfurl::app

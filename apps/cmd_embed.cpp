@@ -6,6 +6,8 @@
 #include <numeric>
 
 #include "apps/embed_job.hpp"
+#include "apps/option_scope.hpp"
+#include "apps/run_info.hpp"
 #include "engine/graph_build.hpp"
 #include "io/graph_file.hpp"
 #include "io/graph_input.hpp"
@@ -22,21 +24,33 @@ JobInput read_points_input(const GlobalOptions& g, const EmbedArgs& a) {
   if (!r.dropped_rows.empty())
     say(g, fmt::format("points: {} rows with non-finite values dropped", r.dropped_rows.size()));
   JobInput in;
-  in.identity = io::input_identity(a.input.file, r.dataset);
+  in.identity = point_input_identity(a.input.file, r);
   in.points = std::move(r.points);
   in.rows = std::move(r.rows);
   in.dropped_rows = std::move(r.dropped_rows);
   return in;
 }
 
+// --format for a graph input: its readers know csv (also tab-separated), hdf5 and npy.
+io::GraphInputFormat graph_input_format(const std::string& format) {
+  if (format == "hdf5") return io::GraphInputFormat::hdf5;
+  if (format == "npy") return io::GraphInputFormat::npy;
+  if (format == "csv" || format == "tsv") return io::GraphInputFormat::csv;
+  return io::GraphInputFormat::automatic;
+}
+
 JobInput read_graph_input(const GlobalOptions& g, const EmbedArgs& a) {
   JobInput in;
   if (a.input_kind == "edges") {
-    const io::EdgeList e = io::read_edge_list(a.input.file);
+    io::EdgeListOptions o;
+    o.format = graph_input_format(a.input.format);
+    o.table_dataset = a.input.dataset;  // one E x 3 dataset instead of /edges/{i,j,length}
+    const io::EdgeList e = io::read_edge_list(a.input.file, o);
     in.graph = graph_from_edges(e.nodes, e.from, e.to, e.length);
     say(g, fmt::format("edges: {} nodes, {} edges from {}", e.nodes, e.from.size(), a.input.file));
   } else if (a.input_kind == "distances") {
     io::DistanceMatrixOptions o;
+    o.format = graph_input_format(a.input.format);
     if (!a.input.dataset.empty()) o.dataset = a.input.dataset;
     if (!a.missing.empty()) {
       try {
@@ -78,8 +92,12 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
                   "--input distances: the value that marks a missing entry (NaN always does)");
   cmd->add_option("-o,--out", args->output, "Map file to write (HDF5)")->required();
   add_embed_job_options(cmd, *args);
-  cmd->callback([&g, args] {
+  cmd->callback([&g, args, cmd] {
     apply_globals(g);
+    RunShape shape = embed_run_shape(*args);
+    if (args->input_kind != "points" && !args->input.dataset.empty())
+      shape.input_format = io::detect_point_format(args->input.file, args->input.format);
+    refuse_unused_options(*cmd, shape);
     io::OutputSet outputs(stop_token());
     outputs.add_input(args->input.file, "input");
     const JobOutputs where = add_job_outputs(outputs, *args);

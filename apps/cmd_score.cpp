@@ -2,13 +2,16 @@
 // another method, against the points it was made from.
 #include <fmt/core.h>
 
+#include <ctime>
 #include <memory>
 #include <optional>
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
+#include "apps/option_scope.hpp"
 #include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
+#include "apps/run_info.hpp"
 #include "engine/error.hpp"
 #include "io/atomic_output.hpp"
 #include "io/hdf5_file.hpp"
@@ -24,7 +27,69 @@ struct ScoreCommandArgs {
   ScoreArgs score;
   std::size_t dimension_k = 10;
   std::string json;
+  bool points_changed_ok = false;  // score even when --points is not the map's recorded input
 };
+
+// A remark on stderr that is not an error: the run goes on.
+void note(const GlobalOptions& g, const std::string& line) {
+  if (!g.quiet) fmt::print(stderr, "unfurl: note: {}\n", line);
+}
+
+std::string text_of(const std::string& key, const nlohmann::json& v) {
+  if (key == "modified_unix_ns" && v.is_number_integer()) {
+    const std::int64_t ns = v.get<std::int64_t>();
+    const std::time_t seconds = static_cast<std::time_t>(ns / 1000000000);
+    std::tm tm{};
+    gmtime_r(&seconds, &tm);
+    return fmt::format("{:04}-{:02}-{:02}T{:02}:{:02}:{:02}.{:09}Z", tm.tm_year + 1900,
+                       tm.tm_mon + 1, tm.tm_mday, tm.tm_hour, tm.tm_min, tm.tm_sec,
+                       ns % 1000000000);
+  }
+  if (v.is_string()) return v.get<std::string>().empty() ? "(none)" : v.get<std::string>();
+  return v.dump();
+}
+
+// What differs between the point file a map records as its input and the one given now
+// ("rows 200 (the map records 300), ..."); empty when nothing both record differs. The path
+// is not compared: the same file may be reached by another name or copied with its time.
+std::string input_differences(const nlohmann::json& recorded, const nlohmann::json& now) {
+  std::string out;
+  for (const auto& [key, what] :
+       {std::pair{"file_rows", "rows"}, std::pair{"columns", "columns"},
+        std::pair{"bytes", "size in bytes"}, std::pair{"modified", "modified"},
+        std::pair{"modified_unix_ns", "modified"}, std::pair{"dataset", "dataset"}}) {
+    if (!recorded.contains(key) || !now.contains(key) || recorded[key] == now[key]) continue;
+    if (std::string(key) == "modified_unix_ns" && out.find("modified") != std::string::npos)
+      continue;  // the time is named once
+    out += fmt::format("{}{} {} (the map records {})", out.empty() ? "" : ", ", what,
+                       text_of(key, now[key]), text_of(key, recorded[key]));
+  }
+  return out;
+}
+
+// Refuses (DataError) to score a map against points other than those it was made from,
+// unless --points-changed-ok; a map without such a record gets a note.
+void check_points_identity(const GlobalOptions& g, const ScoreCommandArgs& a,
+                           const nlohmann::json& attributes, const nlohmann::json& now) {
+  const bool from_points =
+      !attributes.contains("parameters") || !attributes["parameters"].is_object() ||
+      attributes["parameters"].value("input_kind", std::string("points")) == "points";
+  if (!from_points || !attributes.contains("input") || !attributes["input"].is_object()) {
+    note(g, a.map + " records no point file as its input: cannot check that " + a.points.file +
+                " is the one it was made from");
+    return;
+  }
+  const std::string differences = input_differences(attributes["input"], now);
+  if (differences.empty()) return;
+  if (!a.points_changed_ok)
+    throw DataError(
+        fmt::format("--points {}: not the point file {} was made from: {}; give "
+                    "--points-changed-ok to score against it anyway",
+                    a.points.file, a.map, differences));
+  note(g, fmt::format("--points {} differs from the input {} records ({}); scored anyway "
+                      "(--points-changed-ok)",
+                      a.points.file, a.map, differences));
+}
 
 bool is_unfurl_map(const std::string& file) {
   if (io::detect_point_format(file) != "hdf5") return false;
@@ -50,6 +115,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   std::vector<double> spectrum;
   if (a.map_dataset.empty() && is_unfurl_map(a.map)) {
     io::MapContents m = io::read_map(a.map, true);
+    check_points_identity(g, a, m.attributes, point_input_identity(a.points.file, in));
     // Map rows name input rows; find each among the rows just read.
     std::vector<std::int64_t> position(in.file_rows, -1);
     for (std::size_t i = 0; i < in.rows.size(); ++i) position[in.rows[i]] = i;
@@ -82,6 +148,8 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
                                   foreign.points.rows, a.points.file, in.points.rows));
     map = std::move(foreign.points);
     input = in.points;
+    note(g, a.map + " is an array without a record of its input: cannot check that " +
+                a.points.file + " is the point file it was made from");
   }
   validate_score_options(options, input.rows);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
@@ -92,7 +160,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   if (json_out) {
     write_json_file(outputs, *json_out,
                     {{"map", a.map},
-                     {"points", io::input_identity(a.points.file, in.dataset)},
+                     {"points", point_input_identity(a.points.file, in)},
                      {"seed", g.seed},
                      {"quality", assessment_json(scores)}});
     outputs.commit();
@@ -113,9 +181,19 @@ void add_score_command(CLI::App& app, GlobalOptions& g) {
   add_score_options(cmd, a->score);
   cmd->add_option("--dimension-k", a->dimension_k,
                   "Neighbours for the intrinsic dimension estimate (0: skip)")
+      ->transform(whole_number(0, max_count))
       ->capture_default_str();
   cmd->add_option("--json", a->json, "Also write every figure as JSON");
-  cmd->callback([&g, a] { run_score(g, *a); });
+  cmd->add_flag("--points-changed-ok", a->points_changed_ok,
+                "Score even when --points differs from the input the map records (rows, "
+                "columns, size or modification time)");
+  cmd->callback([&g, a, cmd] {
+    RunShape shape;
+    shape.score_exact = a->score.method == "exact";
+    if (!a->map_dataset.empty()) shape.map_format = io::detect_point_format(a->map);
+    refuse_unused_options(*cmd, shape);
+    run_score(g, *a);
+  });
 }
 
 }  // namespace unfurl::app

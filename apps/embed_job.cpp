@@ -2,6 +2,7 @@
 
 #include <fmt/core.h>
 
+#include "apps/option_scope.hpp"
 #include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
@@ -61,12 +62,20 @@ nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const
                         : o.exact ? std::string("all")
                                   : std::to_string(r.landmarks.landmarks)},
           {"pick", a.map.pick},
-          {"node_order", a.map.node_order},
+          {"node_order", node_order_name(r.order)},  // morton is bfs for a graph
           {"drop_nonfinite", a.input.drop_nonfinite},
           {"rows", a.input.rows},
           {"score", !a.no_score},
           {"score_k", a.score.ks},
           {"threads", g.threads}};
+}
+
+EmbedOptions job_options(const GlobalOptions& g, const EmbedArgs& a) {
+  EmbedOptions options;
+  options.graph = to_graph_options(a.graph);
+  options.components = to_component_options(a.graph);
+  apply_map_options(a.map, g.seed, options);
+  return options;
 }
 
 // The PCA baseline, in the same result shape as an embedding.
@@ -101,6 +110,7 @@ void add_embed_job_options(CLI::App* cmd, EmbedArgs& a) {
   cmd->add_option("--pre-pca", a.pre_pca,
                   "Project on this many principal components before the neighbour search (0: "
                   "off)")
+      ->transform(whole_number(0, max_count))
       ->capture_default_str();
   add_map_options(cmd, a.map);
   cmd->add_flag("--linear", a.linear, "Plain PCA instead (the linear baseline; no graph)");
@@ -109,7 +119,26 @@ void add_embed_job_options(CLI::App* cmd, EmbedArgs& a) {
   cmd->add_option("--csv", a.csv, "Also write the coordinates as CSV");
   cmd->add_option("--json", a.json, "Also write every figure of the run as JSON");
   cmd->add_option("--max-memory", a.max_memory,
-                  "Refuse exact mode when it would need more (e.g. 8G; default: 80% of RAM)");
+                  "Memory ceiling: refuse exact mode (and a demo) that would need more (e.g. 8G; "
+                  "default: 80% of RAM)")
+      ->check(byte_size());
+}
+
+void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t rows,
+                       std::size_t cols) {
+  const EmbedOptions options = job_options(g, a);
+  const PreprocessOptions pre = to_preprocess_options(a);
+  pre.validate(rows, cols);
+  if (a.linear) {
+    LinearOptions lo;
+    lo.dims = a.map.dims;
+    lo.validate(pre.pca ? pre.pca : cols);
+  } else {
+    options.graph.validate(rows);
+    options.validate(rows);
+    if (options.exact) check_exact_memory(a, options, rows);
+  }
+  if (!a.no_score) validate_score_options(to_assess_options(a.score, g.seed), rows);
 }
 
 JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std::string& map_label,
@@ -124,15 +153,9 @@ JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std
 nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInput in,
                              io::OutputSet& outputs, const JobOutputs& where,
                              EmbedResult* result_out) {
-  EmbedOptions options;
-  options.graph = to_graph_options(a.graph);
-  options.components = to_component_options(a.graph);
-  apply_map_options(a.map, g.seed, options);
+  const EmbedOptions options = job_options(g, a);
   const AssessOptions assess = to_assess_options(a.score, g.seed);
   const bool given_graph = in.graph.has_value();
-  if (given_graph && (a.linear || a.scale != "none" || a.metric != "euclidean" || a.pre_pca))
-    throw OptionError("--linear, --scale, --metric and --pre-pca need points, not --input " +
-                      a.input_kind);
   io::MapContents map;
 
   // Preprocessing: the neighbour search and the scores see the transformed points.
@@ -195,7 +218,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   map.landmark_coords = result.landmark_coords;
   map.spectrum = result.spectrum;
   if (a.map.keep_geodesics && !a.linear) map.landmark_geodesic = std::move(result.geodesic);
-  report["parameters"] = parameters_json(g, a, options, result);
+  report["parameters"] = without_unused(embed_run_shape(a), parameters_json(g, a, options, result));
   report["seed"] = g.seed;
   map.attributes = {{"command", "embed"},
                     {"input", in.identity},

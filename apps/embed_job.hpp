@@ -46,6 +46,11 @@ struct JobInput {
 // Adds every option of the embed job except the input (and the output path) to `cmd`.
 void add_embed_job_options(CLI::App* cmd, EmbedArgs& args);
 
+// Throws what the job would throw for its options on `rows` points of `cols` columns, for a
+// caller that knows the size before it has the points (demo).
+void check_job_options(const GlobalOptions& g, const EmbedArgs& args, std::size_t rows,
+                       std::size_t cols);
+
 // Where the job's outputs sit in the run's output set.
 struct JobOutputs {
   std::size_t map = 0;

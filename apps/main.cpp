@@ -13,6 +13,7 @@
 
 #include <fmt/core.h>
 
+#include "apps/args.hpp"
 #include "apps/command.hpp"
 #include "apps/usage_errors.hpp"
 #include "engine/error.hpp"
@@ -89,9 +90,12 @@ int main(int argc, char** argv) {
 
   app::GlobalOptions g;
   cli.add_option("--threads", g.threads, "Threads to use (0: all cores)")
-      ->check(CLI::Range(0, 4096))
+      ->transform(app::whole_number(0, 4096))
       ->capture_default_str();
-  cli.add_option("--seed", g.seed, "Seed for every random choice")->capture_default_str();
+  cli.add_option("--seed", g.seed,
+                 "Seed for every random choice, 0 to 2^63 - 1 (stored in the map as an integer)")
+      ->transform(app::whole_number(0, app::max_seed))
+      ->capture_default_str();
   cli.add_flag("--quiet", g.quiet, "Print nothing but errors");
 
   app::install_usage_messages(cli);

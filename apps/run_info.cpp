@@ -3,7 +3,11 @@
 #include <sys/resource.h>
 #include <unistd.h>
 
+#include <chrono>
+
 #include <fmt/core.h>
+
+#include "io/map_file.hpp"
 
 namespace unfurl::app {
 
@@ -22,6 +26,21 @@ std::string human_bytes(std::uint64_t bytes) {
     ++u;
   }
   return u == 0 ? fmt::format("{} B", bytes) : fmt::format("{:.1f} {}", v, units[u]);
+}
+
+nlohmann::json point_input_identity(const std::filesystem::path& file,
+                                    const io::PointReadResult& read) {
+  nlohmann::json identity = io::input_identity(file, read.dataset);
+  identity["file_rows"] = read.file_rows;
+  identity["columns"] = read.points.cols;
+  // "modified" holds whole seconds; two files written within one second differ here.
+  std::error_code ec;
+  const auto modified = std::filesystem::last_write_time(file, ec);
+  if (!ec)
+    identity["modified_unix_ns"] = std::chrono::duration_cast<std::chrono::nanoseconds>(
+                                       std::chrono::file_clock::to_sys(modified).time_since_epoch())
+                                       .count();
+  return identity;
 }
 
 std::uint64_t default_memory_limit() {

@@ -342,4 +342,5 @@ def main():
     finish(work)
 
 
-main()
+if __name__ == "__main__":  # options_test.py imports the helpers above
+    main()
