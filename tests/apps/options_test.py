@@ -7,7 +7,7 @@ its memory need before it writes anything. Every refusal is one line on stderr a
 work folder byte-identical (SHA-256 of every file before and after).
 
 Run by ctest as cli.options_test with env UNFURL_BIN. The helpers (run, refused, snapshot,
-...) come from cli_test.py. Inputs are written with h5py 3.7, numpy 1.24 and SciPy 1.10
+...) come from cli_support.py; write_h5 from cli_test.py. Inputs are written with h5py 3.7, numpy 1.24 and SciPy 1.10
 (Debian python3-h5py, python3-numpy, python3-scipy): a writer other than ours. The seed's
 type is read back with h5py: an HDF5 64-bit signed integer attribute holds 0..2^63 - 1
 exactly (HDF5 predefined type H5T_STD_I64LE). Exits non-zero when any check fails.
@@ -25,11 +25,11 @@ from scipy.spatial import cKDTree
 from scipy.spatial.distance import cdist
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-import cli_test  # noqa: E402
-from cli_test import refused, run, snapshot, snapshot_diff, succeeds, swiss_roll, write_h5  # noqa: E402
+from cli_support import (check, failures, finish, refused, run, snapshot,  # noqa: E402
+                         snapshot_diff, succeeds, swiss_roll)
+from cli_test import write_h5  # noqa: E402
 
 N = 300
-check = cli_test.check
 
 
 def one_line_naming(what, r, code, names):
@@ -70,7 +70,7 @@ def main():
     succeeds("graph a good graph", ["graph", roll, "-o", d("graph.h5"), "--quiet"])
     succeeds("score a good map", ["score", good_map, "--points", roll, "--json", good_json,
                                   "--quiet"])
-    if cli_test.failures:
+    if failures:
         sys.exit("the good runs failed; nothing to compare against")
 
     # 1. Options a given graph does not use, per input kind, each refused with its value.
@@ -252,11 +252,7 @@ def main():
     r = run(["embed", roll, "-o", good_map, "--input", "edges", "--k", "5"])
     check("nothing changed by the last refusals",
           r.returncode == 64 and before == snapshot(work), snapshot_diff(before, snapshot(work)))
-    print(f"{cli_test.checks - len(cli_test.failures)} of {cli_test.checks} checks passed "
-          f"(work folder {work})")
-    if cli_test.failures:
-        sys.exit(1)
-    subprocess.run(["rm", "-rf", work], check=False)
+    finish(work)
 
 
 main()
