@@ -118,7 +118,8 @@ void add_inspect_command(CLI::App& app, GlobalOptions& g) {
     apply_globals(g);
     io::PointReadOptions options = to_read_options(args->input);
     options.stop = stop_token();
-    const io::FileDescription description = io::describe_file(args->input.file, args->input.format);
+    const io::FileDescription description =
+        io::describe_file(args->input.file, args->input.format, options.stop);
     // Text shows the description before reading, so it is there when the points are not.
     if (!args->json) print_description(g, description);
     const io::PointReadResult result = io::read_points(args->input.file, options);

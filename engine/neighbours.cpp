@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <cstdio>
+#include <limits>
 #include <string>
 
 #include "engine/detail/csr.hpp"
@@ -16,12 +18,32 @@ namespace {
 using detail::Edge;
 using detail::Neighbour;
 
+// Finite values whose squared distances are finite too: the searches square coordinate
+// differences in float32, and a distance that overflows to infinity ties with the empty
+// slots of a neighbour list, which then keep no valid index (seen on a damaged file holding
+// 1.5e28 among values near 1).
 void require_finite(const PointSet& points, const char* what) {
+  std::vector<float> low(points.cols, 0.0f), high(points.cols, 0.0f);
   for (std::size_t i = 0; i < points.rows; ++i)
-    for (std::size_t j = 0; j < points.cols; ++j)
-      if (!std::isfinite(points.row(i)[j]))
+    for (std::size_t j = 0; j < points.cols; ++j) {
+      const float v = points.row(i)[j];
+      if (!std::isfinite(v))
         throw DataError(std::string(what) + ": row " + std::to_string(i) + ", column " +
                         std::to_string(j) + " is not a finite number");
+      low[j] = i == 0 ? v : std::min(low[j], v);
+      high[j] = i == 0 ? v : std::max(high[j], v);
+    }
+  double squared_span = 0;
+  for (std::size_t j = 0; j < points.cols; ++j) {
+    const double span = static_cast<double>(high[j]) - static_cast<double>(low[j]);
+    squared_span += span * span;
+    if (squared_span > 0.5 * std::numeric_limits<float>::max()) {
+      char spread[32];
+      std::snprintf(spread, sizeof spread, "%.3g", span);
+      throw DataError(std::string(what) + ": column " + std::to_string(j) + " spans " + spread +
+                      "; squared distances would overflow float32 (rescale the data)");
+    }
+  }
 }
 
 std::vector<Neighbour> knn_lists(const PointSet& data, const PointSet& queries, std::size_t k,

@@ -109,7 +109,7 @@ EdgeList read_csv(const std::filesystem::path& path, const EdgeListOptions& o) {
 }
 
 EdgeList read_hdf5(const std::filesystem::path& path, const EdgeListOptions& o) {
-  H5Reader in(path);
+  H5Reader in(path, o.stop);
   std::vector<double> i, j, len;
   if (!o.table_dataset.empty()) {
     const auto info = in.require_rank(o.table_dataset, 2);

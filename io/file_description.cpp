@@ -4,65 +4,42 @@
 
 #include "engine/error.hpp"
 #include "io/detail/hdf5_attributes.hpp"
-#include "io/detail/hdf5_catalog.hpp"
 #include "io/detail/point_formats.hpp"
+#include "io/hdf5_file.hpp"
 #include "io/points_reader.hpp"
 
 namespace unfurl::io {
 
 namespace {
 
-ArrayDescription describe_dataset(hid_t file, const std::string& path, const std::string& where) {
+ArrayDescription describe_dataset(const H5Reader& in, const std::string& path) {
   ArrayDescription a;
   a.path = path;
-  detail::Hid d(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
-  if (!d) {
+  H5DatasetInfo info;
+  try {
+    info = in.info(path);
+    a.attributes = detail::attribute_texts(in.open_object(path).get());
+  } catch (const Error&) {
+    // Inspect lists what it can; reading the points reports the damage itself.
     a.type = "<unreadable>";
     return a;
   }
-  detail::Hid type(H5Dget_type(d.get()));
-  detail::Hid space(H5Dget_space(d.get()));
-  detail::Hid dcpl(H5Dget_create_plist(d.get()));
-  if (!type || !space || !dcpl) {
-    a.type = "<unreadable>";
-    return a;
-  }
-  a.type = detail::hdf5_type_name(type.get());
-  for (hsize_t n : detail::dataspace_dims(space.get(), where + ":" + path)) a.shape.push_back(n);
-  switch (H5Pget_layout(dcpl.get())) {
-    case H5D_CHUNKED: {
-      a.storage = "chunked";
-      std::vector<hsize_t> chunk(a.shape.size() > 0 ? a.shape.size() : 1);
-      const int rank = H5Pget_chunk(dcpl.get(), static_cast<int>(chunk.size()), chunk.data());
-      for (int i = 0; i < rank && i < static_cast<int>(chunk.size()); ++i)
-        a.chunk.push_back(chunk[static_cast<std::size_t>(i)]);
-      break;
-    }
-    case H5D_COMPACT:
-      a.storage = "compact";
-      break;
-    case H5D_VIRTUAL:
-      a.storage = "virtual";
-      break;
-    default:
-      a.storage = "contiguous";
-  }
-  for (const auto& f : detail::dataset_filters(dcpl.get()))
+  a.type = info.type_name;
+  a.shape.assign(info.dims.begin(), info.dims.end());
+  a.storage = info.storage;
+  a.chunk.assign(info.chunk.begin(), info.chunk.end());
+  for (const auto& f : info.filters)
     a.filters.push_back(f.available ? f.name : f.name + " (not available)");
-  a.attributes = detail::attribute_texts(d.get());
-  a.points_candidate = detail::is_plain_numeric_type(type.get()) && a.shape.size() == 2 &&
-                       a.shape[0] > 0 && a.shape[1] > 0;
+  a.points_candidate =
+      info.plain_numeric && a.shape.size() == 2 && a.shape[0] > 0 && a.shape[1] > 0;
   return a;
 }
 
-void describe_hdf5(FileDescription& out) {
-  const std::string where = out.file.string();
-  detail::Hid f = detail::open_hdf5_read(out.file);
-  detail::Hid root(H5Gopen2(f.get(), "/", H5P_DEFAULT));
-  if (!root) throw IoError(where + ": root group unreadable (corrupt file)");
-  out.root_attributes = detail::attribute_texts(root.get());
-  for (const std::string& path : detail::dataset_paths(f.get(), where))
-    out.arrays.push_back(describe_dataset(f.get(), path, where));
+void describe_hdf5(FileDescription& out, const StopToken& stop) {
+  const H5Reader in(out.file, stop);
+  out.root_attributes = detail::attribute_texts(in.open_object("/").get());
+  for (const std::string& path : in.datasets_under("/"))
+    out.arrays.push_back(describe_dataset(in, path));
   out.detail = std::to_string(out.arrays.size()) + " dataset(s)";
 }
 
@@ -101,7 +78,8 @@ void describe_text(FileDescription& out) {
 
 }  // namespace
 
-FileDescription describe_file(const std::filesystem::path& file, const std::string& format) {
+FileDescription describe_file(const std::filesystem::path& file, const std::string& format,
+                              const StopToken& stop) {
   FileDescription out;
   out.file = file;
   out.format = detect_point_format(file, format);
@@ -109,7 +87,7 @@ FileDescription describe_file(const std::filesystem::path& file, const std::stri
   out.bytes = std::filesystem::file_size(file, ec);
   if (ec) throw MissingInputError(file.string() + ": cannot be read (" + ec.message() + ")");
   if (out.format == "hdf5")
-    describe_hdf5(out);
+    describe_hdf5(out, stop);
   else if (out.format == "npy")
     describe_npy(out);
   else

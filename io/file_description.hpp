@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "engine/points.hpp"
+#include "engine/stop.hpp"
 
 namespace unfurl::io {
 
@@ -40,8 +41,10 @@ struct FileDescription {
   std::vector<std::string> column_names;       // CSV header if any
 };
 
-// Throws like read_points: MissingInputError, IoError, DataError.
-FileDescription describe_file(const std::filesystem::path& file, const std::string& format = "");
+// Throws like read_points: MissingInputError, IoError, DataError; HDF5 files are opened by
+// io::H5Reader (isolated metadata walk with a time limit; `stop` ends the wait).
+FileDescription describe_file(const std::filesystem::path& file, const std::string& format = "",
+                              const StopToken& stop = {});
 
 struct ColumnStats {
   double min = 0;

@@ -4,14 +4,21 @@
 // writes whole datasets of float, double, int64 or uint32 with given dimensions, creating the
 // groups on the way, plus scalar and vector attributes. close() it before committing.
 //
-// H5Reader opens a file read-only and treats it as untrusted: shapes and types are checked
-// before anything is read, a dataset that declares more data than the file could hold is
-// refused, and conversions that would change a value (out of range, a fraction into an
-// integer, NaN into an integer) fail instead of clipping. Every failure throws one of the
-// exceptions in engine/error.hpp naming the file and the dataset:
+// H5Reader is the one way unfurl opens a file it did not just write (points, inspect, edge
+// lists, partial distances, saved graphs, maps). It treats the file as untrusted: a forked
+// child walks all metadata first, under a time limit (io/detail/hdf5_sandbox.hpp), so that a
+// crash or an endless loop inside the library becomes an error; shapes and types are checked
+// before anything is read; a dataset that declares more data than the file could hold, or
+// whose storage is missing (unwritten chunks, a virtual dataset's missing source, an external
+// raw file or external link to a missing file) is refused rather than read as fill values;
+// and conversions that would change a value (out of range, a fraction into an integer, NaN
+// into an integer) fail instead of clipping. Every failure throws one of the exceptions in
+// engine/error.hpp naming the file and the dataset:
 //   MissingInputError  the file, a dataset or an attribute does not exist
-//   IoError            the file is not HDF5, or is corrupt or truncated
-//   DataError          a dataset or attribute has the wrong shape or element type
+//   IoError            the file is not HDF5, is corrupt or truncated, or storage it refers
+//                      to (another file) is missing
+//   DataError          a dataset or attribute has the wrong shape or element type, or its
+//                      data was never written
 // Paths of datasets and groups are absolute ("/landmarks/rows"); "/" is the root group.
 #pragma once
 
@@ -22,6 +29,7 @@
 #include <string>
 #include <vector>
 
+#include "engine/stop.hpp"
 #include "io/detail/hdf5.hpp"
 
 namespace unfurl::io {
@@ -32,8 +40,21 @@ enum class H5Kind { integer, floating, string, other };
 struct H5DatasetInfo {
   std::vector<std::size_t> dims;  // empty for a scalar dataset
   H5Kind kind = H5Kind::other;
-  std::size_t element_bytes = 0;  // size of one stored element
-  std::size_t elements() const;   // product of dims (1 for a scalar)
+  std::size_t element_bytes = 0;   // size of one stored element
+  std::string type_name;           // "float64", "int32", "string", "compound", ...
+  bool plain_numeric = false;      // a type the reader converts (detail::is_plain_numeric_type)
+  std::string storage;             // "contiguous", "chunked", "compact", "virtual", "external"
+  std::vector<std::size_t> chunk;  // chunk shape when chunked
+  std::vector<detail::FilterInfo> filters;  // in pipeline order
+  std::size_t elements() const;             // product of dims (1 for a scalar)
+};
+
+// A dataset that passed every guard of H5Reader::open_data, ready for H5Dread (whole or by
+// hyperslabs of `space`).
+struct H5OpenDataset {
+  std::string where;  // "file:/path" for messages
+  H5DatasetInfo info;
+  detail::Hid set, type, space, dcpl;
 };
 
 struct H5WriteOptions {
@@ -84,27 +105,42 @@ class H5Writer {
 
 class H5Reader {
  public:
-  // Opens read-only. MissingInputError when the file does not exist, IoError when it is not
-  // a readable HDF5 file.
-  explicit H5Reader(std::filesystem::path path);
+  // Opens read-only after the isolated metadata walk. MissingInputError when the file does
+  // not exist, IoError when it is not a readable HDF5 file or the walk crashed or did not
+  // finish in time; InterruptedError when `stop` is requested while waiting for the walk.
+  explicit H5Reader(std::filesystem::path path, StopToken stop = {});
   H5Reader(const H5Reader&) = delete;
   H5Reader& operator=(const H5Reader&) = delete;
 
-  bool has(const std::string& object) const;  // a group or dataset exists at that path
+  // A group or dataset exists at that path. IoError when a link on the way is an external
+  // link to a missing file (or to a file that fails the isolated check).
+  bool has(const std::string& object) const;
   bool has_dataset(const std::string& dataset) const;
   bool has_group(const std::string& group) const;
 
+  // Type, shape and storage of a dataset; DataError for a null dataspace.
   H5DatasetInfo info(const std::string& dataset) const;
   // info() plus a check of the number of dimensions (DataError when it differs).
   H5DatasetInfo require_rank(const std::string& dataset, std::size_t rank) const;
+
+  // Opens a numeric dataset for reading after the guards: a plain numeric type, a shape
+  // whose byte count does not overflow and that the file (and the files it refers to) could
+  // hold, decodable filters, a sane chunk shape, and storage that exists (see the file
+  // comment). The one gate before any H5Dread of untrusted data.
+  H5OpenDataset open_data(const std::string& dataset) const;
 
   // Reads a whole numeric dataset converted to T (float, double, std::int64_t,
   // std::uint32_t). Integer T requires integer storage.
   template <class T>
   std::vector<T> read(const std::string& dataset) const;
 
-  // Every dataset below a group, recursively, as full paths sorted by name.
+  // Every dataset below a group reachable by hard links, each object once (under its first
+  // name), as full paths sorted by name; soft and external links are not followed.
   std::vector<std::string> datasets_under(const std::string& group) const;
+
+  // A group or dataset opened for detail-level code (attribute rendering); IoError if it
+  // cannot be opened.
+  detail::Hid open_object(const std::string& object) const;
 
   std::vector<std::string> attribute_names(const std::string& object) const;  // sorted
   bool has_attribute(const std::string& object, const std::string& name) const;
@@ -123,8 +159,10 @@ class H5Reader {
  private:
   std::string where(const std::string& object) const;
   detail::Hid open_dataset(const std::string& dataset) const;
+  H5OpenDataset open_parts(const std::string& dataset) const;  // no guards beyond the header
   detail::Hid open_attribute(const std::string& object, const std::string& name) const;
   std::filesystem::path path_;
+  StopToken stop_;
   std::uintmax_t file_bytes_ = 0;
   detail::Hid file_;
 };

@@ -5,6 +5,7 @@
 
 #include "engine/error.hpp"
 #include "io/detail/hdf5_sandbox.hpp"
+#include "io/detail/hdf5_storage.hpp"
 #include "io/detail/hdf5_types.hpp"
 #include "io/hdf5_file.hpp"
 
@@ -12,12 +13,6 @@ namespace unfurl::io {
 namespace {
 
 using detail::Hid;
-
-// A crafted file can declare a dataset far larger than itself; refuse to allocate for one
-// whose data could not fit even at the best ratio the deflate format can reach (1032:1,
-// RFC 1951 length codes), plus slack for small files.
-constexpr std::uintmax_t max_inflation = 1032;
-constexpr std::uintmax_t slack_bytes = std::uintmax_t{1} << 20;
 
 H5Kind kind_of(hid_t type) {
   switch (H5Tget_class(type)) {
@@ -29,19 +24,6 @@ H5Kind kind_of(hid_t type) {
       return H5Kind::string;
     default:
       return H5Kind::other;
-  }
-}
-
-const char* kind_name(H5Kind k) {
-  switch (k) {
-    case H5Kind::integer:
-      return "integer";
-    case H5Kind::floating:
-      return "floating point";
-    case H5Kind::string:
-      return "string";
-    default:
-      return "non-numeric";
   }
 }
 
@@ -62,14 +44,6 @@ H5T_conv_ret_t refuse_lossy(H5T_conv_except_t what, hid_t, hid_t, void*, void*, 
   return H5T_CONV_ABORT;
 }
 
-std::vector<std::size_t> dims_of(hid_t space) {
-  const int rank = H5Sget_simple_extent_ndims(space);
-  if (rank < 0) return {};
-  std::vector<hsize_t> h(static_cast<std::size_t>(rank));
-  if (rank > 0) H5Sget_simple_extent_dims(space, h.data(), nullptr);
-  return std::vector<std::size_t>(h.begin(), h.end());
-}
-
 std::string join_dims(const std::vector<std::size_t>& dims) {
   if (dims.empty()) return "a scalar";
   std::string s;
@@ -79,7 +53,8 @@ std::string join_dims(const std::vector<std::size_t>& dims) {
 
 }  // namespace
 
-H5Reader::H5Reader(std::filesystem::path path) : path_(std::move(path)) {
+H5Reader::H5Reader(std::filesystem::path path, StopToken stop)
+    : path_(std::move(path)), stop_(stop) {
   detail::quiet_hdf5_errors();
   std::error_code ec;
   if (!std::filesystem::exists(path_, ec))
@@ -88,11 +63,15 @@ H5Reader::H5Reader(std::filesystem::path path) : path_(std::move(path)) {
     throw MissingInputError(path_.string() + ": not a regular file");
   file_bytes_ = std::filesystem::file_size(path_, ec);
   if (ec) throw MissingInputError(path_.string() + ": cannot read file size: " + ec.message());
-  detail::check_hdf5_in_child(path_);
+  const htri_t signature = H5Fis_hdf5(path_.c_str());
+  if (signature < 0) throw MissingInputError(path_.string() + ": cannot be opened for reading");
+  if (signature == 0) throw IoError(path_.string() + ": not an HDF5 file (no HDF5 signature)");
+  detail::check_hdf5_in_child(path_, stop_);
   Hid fapl(H5Pcreate(H5P_FILE_ACCESS));
+  // Lock when the filesystem supports it, read anyway when it does not.
   if (fapl) H5Pset_file_locking(fapl.get(), 1, 1);
   file_ = Hid(H5Fopen(path_.c_str(), H5F_ACC_RDONLY, fapl.get()));
-  if (!file_) throw IoError(path_.string() + ": not a readable HDF5 file (corrupt or truncated?)");
+  if (!file_) throw IoError(path_.string() + ": HDF5 file cannot be opened (truncated or corrupt)");
 }
 
 std::string H5Reader::where(const std::string& object) const {
@@ -101,6 +80,7 @@ std::string H5Reader::where(const std::string& object) const {
 
 bool H5Reader::has(const std::string& object) const {
   if (object == "/") return true;
+  if (object.empty() || object.front() != '/') return false;
   // H5Lexists fails on a missing intermediate group, so test each prefix in turn.
   std::size_t start = 1;
   while (start <= object.size()) {
@@ -109,6 +89,7 @@ bool H5Reader::has(const std::string& object) const {
     if (H5Lexists(file_.get(), object.substr(0, end).c_str(), H5P_DEFAULT) <= 0) return false;
     start = end + 1;
   }
+  detail::check_external_links(file_.get(), object, path_, stop_);
   return H5Oexists_by_name(file_.get(), object.c_str(), H5P_DEFAULT) > 0;
 }
 
@@ -129,7 +110,13 @@ bool H5Reader::has_group(const std::string& group) const {
 
 Hid H5Reader::open_dataset(const std::string& dataset) const {
   if (!has(dataset)) throw MissingInputError(where(dataset) + ": no such dataset");
-  Hid set(H5Dopen2(file_.get(), dataset.c_str(), H5P_DEFAULT));
+  // Relative names of external raw files and virtual sources are looked up beside this file
+  // (HDF5's "${ORIGIN}"), as check_storage looks for them, not in the working folder.
+  Hid dapl(H5Pcreate(H5P_DATASET_ACCESS));
+  if (!dapl || H5Pset_efile_prefix(dapl.get(), "${ORIGIN}") < 0 ||
+      H5Pset_virtual_prefix(dapl.get(), "${ORIGIN}") < 0)
+    throw IoError(where(dataset) + ": cannot set up dataset access");
+  Hid set(H5Dopen2(file_.get(), dataset.c_str(), dapl.get()));
   if (!set) {
     if (object_type(file_.get(), dataset) == H5I_GROUP)
       throw DataError(where(dataset) + ": is a group, expected a dataset");
@@ -139,17 +126,73 @@ Hid H5Reader::open_dataset(const std::string& dataset) const {
 }
 
 H5DatasetInfo H5Reader::info(const std::string& dataset) const {
-  Hid set = open_dataset(dataset);
-  Hid type(H5Dget_type(set.get()));
-  Hid space(H5Dget_space(set.get()));
-  if (!type || !space) throw IoError(where(dataset) + ": cannot read type or shape");
-  if (H5Sget_simple_extent_type(space.get()) == H5S_NULL)
-    throw DataError(where(dataset) + ": dataset holds no dataspace");
-  H5DatasetInfo out;
-  out.dims = dims_of(space.get());
-  out.kind = kind_of(type.get());
-  out.element_bytes = H5Tget_size(type.get());
-  return out;
+  return open_parts(dataset).info;
+}
+
+H5OpenDataset H5Reader::open_parts(const std::string& dataset) const {
+  H5OpenDataset d;
+  d.where = where(dataset);
+  d.set = open_dataset(dataset);
+  d.type = Hid(H5Dget_type(d.set.get()));
+  d.space = Hid(H5Dget_space(d.set.get()));
+  d.dcpl = Hid(H5Dget_create_plist(d.set.get()));
+  if (!d.type || !d.space || !d.dcpl)
+    throw IoError(d.where + ": dataset header unreadable (corrupt file)");
+  if (H5Sget_simple_extent_type(d.space.get()) == H5S_NULL)
+    throw DataError(d.where + ": dataset holds no dataspace");
+  H5DatasetInfo& out = d.info;
+  for (hsize_t n : detail::dataspace_dims(d.space.get(), d.where))
+    out.dims.push_back(static_cast<std::size_t>(n));
+  out.kind = kind_of(d.type.get());
+  out.element_bytes = H5Tget_size(d.type.get());
+  out.type_name = detail::hdf5_type_name(d.type.get());
+  out.plain_numeric = detail::is_plain_numeric_type(d.type.get());
+  out.filters = detail::dataset_filters(d.dcpl.get());
+  switch (H5Pget_layout(d.dcpl.get())) {
+    case H5D_CHUNKED: {
+      out.storage = "chunked";
+      std::vector<hsize_t> chunk(std::max<std::size_t>(1, out.dims.size()));
+      const int rank = H5Pget_chunk(d.dcpl.get(), static_cast<int>(chunk.size()), chunk.data());
+      for (int i = 0; i < rank && i < static_cast<int>(chunk.size()); ++i)
+        out.chunk.push_back(static_cast<std::size_t>(chunk[static_cast<std::size_t>(i)]));
+      break;
+    }
+    case H5D_COMPACT:
+      out.storage = "compact";
+      break;
+    case H5D_VIRTUAL:
+      out.storage = "virtual";
+      break;
+    case H5D_CONTIGUOUS:
+      out.storage = H5Pget_external_count(d.dcpl.get()) > 0 ? "external" : "contiguous";
+      break;
+    default:
+      throw IoError(d.where + ": unknown storage layout (corrupt file)");
+  }
+  return d;
+}
+
+H5OpenDataset H5Reader::open_data(const std::string& dataset) const {
+  H5OpenDataset d = open_parts(dataset);
+  const H5DatasetInfo& i = d.info;
+  if (i.kind != H5Kind::integer && i.kind != H5Kind::floating)
+    throw DataError(d.where + ": holds " + i.type_name + " values, expected numbers");
+  if (!i.plain_numeric)
+    throw DataError(d.where + ": stored type " + i.type_name +
+                    " is not a whole-byte integer or an IEEE 754 float layout (damaged file?)");
+  // Guard the element count against overflow before any size arithmetic.
+  std::uintmax_t n = 1;
+  for (std::size_t dim : i.dims) {
+    if (dim != 0 && n > std::numeric_limits<std::uintmax_t>::max() / dim / 16)
+      throw IoError(d.where + ": declares an impossible size " + join_dims(i.dims));
+    n *= dim;
+  }
+  for (const detail::FilterInfo& filter : i.filters)
+    if (!filter.available)
+      throw DataError(d.where + ": compressed with filter '" + filter.name + "' (id " +
+                      std::to_string(filter.id) + ") that this HDF5 library cannot decode");
+  detail::check_storage(d, path_, file_bytes_, stop_);
+  return d;
 }
 
 H5DatasetInfo H5Reader::require_rank(const std::string& dataset, std::size_t rank) const {
@@ -162,34 +205,26 @@ H5DatasetInfo H5Reader::require_rank(const std::string& dataset, std::size_t ran
 
 template <class T>
 std::vector<T> H5Reader::read(const std::string& dataset) const {
-  const H5DatasetInfo i = info(dataset);
   constexpr bool integer_target = std::is_integral_v<T>;
-  if (i.kind != H5Kind::integer && i.kind != H5Kind::floating)
-    throw DataError(where(dataset) + ": holds " + kind_name(i.kind) + " values, expected numbers");
-  if (integer_target && i.kind != H5Kind::integer)
-    throw DataError(where(dataset) + ": holds floating point values, expected integers");
-  // Guard the element count against overflow and against more data than the file holds.
-  std::uintmax_t n = 1;
-  for (std::size_t d : i.dims) {
-    if (d != 0 && n > std::numeric_limits<std::uintmax_t>::max() / d / 16)
-      throw IoError(where(dataset) + ": declares an impossible size " + join_dims(i.dims));
-    n *= d;
+  if (integer_target) {
+    const H5DatasetInfo i = info(dataset);
+    if (i.kind == H5Kind::floating)
+      throw DataError(where(dataset) + ": holds floating point values, expected integers");
   }
-  if (n * i.element_bytes > file_bytes_ * max_inflation + slack_bytes)
-    throw IoError(where(dataset) + ": declares " + join_dims(i.dims) +
-                  " elements, more than the file can hold (corrupt file?)");
-  std::vector<T> out(static_cast<std::size_t>(n));
-  if (n == 0) return out;
-  Hid set = open_dataset(dataset);
+  const H5OpenDataset d = open_data(dataset);
+  if (integer_target && d.info.kind != H5Kind::integer)
+    throw DataError(d.where + ": holds " + d.info.type_name + " values, expected integers");
+  std::vector<T> out(d.info.elements());
+  if (out.empty()) return out;
   Hid dxpl(H5Pcreate(H5P_DATASET_XFER));
   ConversionGuard guard{integer_target, false};
   if (!dxpl || H5Pset_type_conv_cb(dxpl.get(), refuse_lossy, &guard) < 0)
-    throw IoError(where(dataset) + ": cannot set up reading");
-  if (H5Dread(set.get(), detail::H5Type<T>::memory(), H5S_ALL, H5S_ALL, dxpl.get(), out.data()) <
+    throw IoError(d.where + ": cannot set up reading");
+  if (H5Dread(d.set.get(), detail::H5Type<T>::memory(), H5S_ALL, H5S_ALL, dxpl.get(), out.data()) <
       0) {
     if (guard.refused)
-      throw DataError(where(dataset) + ": holds values that do not fit " + detail::H5Type<T>::name);
-    throw IoError(where(dataset) + ": read failed (corrupt or truncated file?)");
+      throw DataError(d.where + ": holds values that do not fit " + detail::H5Type<T>::name);
+    throw IoError(d.where + ": read failed (corrupt or truncated file?)");
   }
   return out;
 }
@@ -199,32 +234,16 @@ template std::vector<double> H5Reader::read<double>(const std::string&) const;
 template std::vector<std::int64_t> H5Reader::read<std::int64_t>(const std::string&) const;
 template std::vector<std::uint32_t> H5Reader::read<std::uint32_t>(const std::string&) const;
 
-namespace {
-struct VisitState {
-  std::string prefix;
-  hid_t file;
-  std::vector<std::string>* out;
-};
-
-herr_t collect_dataset(hid_t, const char* name, const H5L_info_t* info, void* data) {
-  auto* s = static_cast<VisitState*>(data);
-  if (info->type != H5L_TYPE_HARD) return 0;  // soft and external links are not followed
-  const std::string full = s->prefix + name;
-  if (object_type(s->file, full) == H5I_DATASET) s->out->push_back(full);
-  return 0;
-}
-}  // namespace
-
 std::vector<std::string> H5Reader::datasets_under(const std::string& group) const {
-  std::vector<std::string> out;
-  if (!has_group(group)) return out;
-  Hid g(H5Gopen2(file_.get(), group.c_str(), H5P_DEFAULT));
-  if (!g) throw IoError(where(group) + ": cannot open group");
-  VisitState state{group == "/" ? "/" : group + "/", file_.get(), &out};
-  if (H5Lvisit(g.get(), H5_INDEX_NAME, H5_ITER_INC, collect_dataset, &state) < 0)
-    throw IoError(where(group) + ": cannot list the group (corrupt file?)");
-  std::sort(out.begin(), out.end());
-  return out;
+  if (!has_group(group)) return {};
+  return detail::visit_datasets(file_.get(), group, path_.string());
+}
+
+Hid H5Reader::open_object(const std::string& object) const {
+  if (!has(object)) throw MissingInputError(where(object) + ": no such group or dataset");
+  Hid o(H5Oopen(file_.get(), object.c_str(), H5P_DEFAULT));
+  if (!o) throw IoError(where(object) + ": object header unreadable (corrupt file)");
+  return o;
 }
 
 namespace {

@@ -66,8 +66,9 @@ Matrix read_csv(const std::filesystem::path& path, const StopToken& stop) {
   return m;
 }
 
-Matrix read_hdf5(const std::filesystem::path& path, const std::string& dataset) {
-  H5Reader in(path);
+Matrix read_hdf5(const std::filesystem::path& path, const std::string& dataset,
+                 const StopToken& stop) {
+  H5Reader in(path, stop);
   const auto info = in.require_rank(dataset, 2);
   return {info.dims[0], info.dims[1], in.read<float>(dataset)};
 }
@@ -90,7 +91,7 @@ PartialDistances read_partial_distances(const std::filesystem::path& path,
   Matrix m;
   switch (detail::resolve_format(o.format, path)) {
     case GraphInputFormat::hdf5:
-      m = read_hdf5(path, o.dataset);
+      m = read_hdf5(path, o.dataset, o.stop);
       break;
     case GraphInputFormat::npy: {
       auto npy = detail::read_npy_matrix(path);

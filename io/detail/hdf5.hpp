@@ -8,6 +8,7 @@
 
 #include <string>
 #include <utility>
+#include <vector>
 
 namespace unfurl::io::detail {
 
@@ -44,5 +45,29 @@ class Hid {
 
 // Call once before any HDF5 use (idempotent): silences the library's stderr error stacks.
 void quiet_hdf5_errors();
+
+// Absolute paths of every dataset reachable by hard links from `group` ("/" or "/a/b"), each
+// object once under its first name, sorted. IoError naming `where` when the listing fails.
+std::vector<std::string> visit_datasets(hid_t file, const std::string& group,
+                                        const std::string& where);
+
+// "float32", "int16", "uint8", "string", "compound", ...
+std::string hdf5_type_name(hid_t type);
+// A numeric type HDF5 converts safely: integers of 1, 2, 4 or 8 whole bytes, or the IEEE 754
+// half, single or double layout, either byte order. Damaged files can declare other layouts
+// (a float of 24,328 bytes), on which HDF5 1.10's conversion writes out of bounds.
+bool is_plain_numeric_type(hid_t type);
+
+// Dimensions of a simple dataspace (empty for scalar or null); IoError naming `where` when
+// unreadable.
+std::vector<hsize_t> dataspace_dims(hid_t space, const std::string& where);
+
+// Filters of a dataset creation property list, by name ("deflate", "shuffle", ...).
+struct FilterInfo {
+  int id = 0;
+  std::string name;
+  bool available = false;  // this HDF5 library can decode it
+};
+std::vector<FilterInfo> dataset_filters(hid_t dcpl);
 
 }  // namespace unfurl::io::detail

@@ -3,8 +3,6 @@
 #include <cstdio>
 #include <string>
 
-#include "io/detail/hdf5_catalog.hpp"
-
 namespace unfurl::io::detail {
 
 namespace {

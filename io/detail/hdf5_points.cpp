@@ -1,13 +1,14 @@
-// HDF5 point reader: a 2-D numeric dataset, rows = points, read by blocks of whole chunk rows
-// (a hyperslab per block) straight into the PointSet buffer; HDF5 converts every numeric type
-// to native float through the memory type.
+// HDF5 point reader: a 2-D numeric dataset, rows = points, opened through io::H5Reader (the
+// one guarded HDF5 path) and read by blocks of whole chunk rows (a hyperslab per block)
+// straight into the PointSet buffer; HDF5 converts every numeric type to native float
+// through the memory type.
 #include <algorithm>
 #include <cmath>
 #include <cstring>
 
 #include "engine/error.hpp"
-#include "io/detail/hdf5_catalog.hpp"
 #include "io/detail/point_formats.hpp"
+#include "io/hdf5_file.hpp"
 
 namespace unfurl::io::detail {
 
@@ -35,66 +36,59 @@ H5T_conv_ret_t on_conversion_exception(H5T_conv_except_t kind, hid_t src, hid_t,
   return H5T_CONV_ABORT;
 }
 
-bool link_path_exists(hid_t file, const std::string& path) {
-  // H5Lexists fails (rather than returning false) on a missing middle group: test each prefix.
-  std::size_t pos = 0;
-  while (true) {
-    pos = path.find('/', pos + 1);
-    const std::string prefix = path.substr(0, pos);
-    if (!prefix.empty() && prefix != "/" && H5Lexists(file, prefix.c_str(), H5P_DEFAULT) <= 0)
-      return false;
-    if (pos == std::string::npos) return true;
-  }
+// "/a, /b" or "none" for messages.
+std::string join_paths(const std::vector<std::string>& paths) {
+  if (paths.empty()) return "none";
+  std::string out;
+  for (const auto& p : paths) out += (out.empty() ? "" : ", ") + printable(p, 200);
+  return out;
 }
 
-std::string choose_dataset(hid_t file, const std::string& requested, const std::string& name) {
+// Datasets that can be points: 2-D, plain numeric, at least one row and column. With
+// include_empty, also 2-D numeric datasets with no rows or no columns (so that a file whose
+// only points are empty is reported as empty data, not as a file without points).
+std::vector<std::string> point_dataset_paths(const H5Reader& in, bool include_empty = false) {
+  std::vector<std::string> found;
+  for (const std::string& path : in.datasets_under("/")) {
+    try {
+      const H5DatasetInfo i = in.info(path);
+      if (i.plain_numeric && i.dims.size() == 2 &&
+          (include_empty || (i.dims[0] > 0 && i.dims[1] > 0)))
+        found.push_back(path);
+    } catch (const Error&) {
+      // A damaged dataset is no candidate; naming it explicitly reports the damage.
+    }
+  }
+  return found;
+}
+
+std::string choose_dataset(const H5Reader& in, const std::string& requested,
+                           const std::string& name) {
   if (!requested.empty()) {
     const std::string path = requested.front() == '/' ? requested : "/" + requested;
-    if (!link_path_exists(file, path))
+    if (!in.has(path))
+      throw MissingInputError(name + ": no dataset " + printable(path, 200) +
+                              " (2-D numeric datasets: " + join_paths(point_dataset_paths(in)) +
+                              ")");
+    if (!in.has_dataset(path))
       throw MissingInputError(
-          name + ": no dataset " + printable(path, 200) +
-          " (2-D numeric datasets: " + join_paths(point_dataset_paths(file, name)) + ")");
-    H5O_info_t info{};
-    if (H5Oget_info_by_name(file, path.c_str(), &info, H5P_DEFAULT) < 0)
-      throw IoError(name + ":" + path + ": object header unreadable (corrupt file)");
-    if (info.type != H5O_TYPE_DATASET)
-      throw MissingInputError(name + ": " + path + " is not a dataset (2-D numeric datasets: " +
-                              join_paths(point_dataset_paths(file, name)) + ")");
+          name + ": " + printable(path, 200) +
+          " is not a dataset (2-D numeric datasets: " + join_paths(point_dataset_paths(in)) + ")");
     return path;
   }
-  const auto candidates = point_dataset_paths(file, name);
+  const auto candidates = point_dataset_paths(in);
   const auto empty =
-      candidates.empty() ? point_dataset_paths(file, name, true) : std::vector<std::string>{};
+      candidates.empty() ? point_dataset_paths(in, true) : std::vector<std::string>{};
   if (empty.size() == 1) return empty.front();  // its shape check reports the empty data
   if (!empty.empty())
     throw DataError(name + ": every 2-D numeric dataset is empty (" + join_paths(empty) + ")");
   if (candidates.empty())
     throw MissingInputError(name + ": holds no 2-D numeric dataset (datasets: " +
-                            join_paths(dataset_paths(file, name)) + ")");
+                            join_paths(in.datasets_under("/")) + ")");
   if (candidates.size() > 1)
     throw OptionError("--dataset: " + name + " holds " + std::to_string(candidates.size()) +
                       " 2-D numeric datasets (" + join_paths(candidates) + "); name one");
   return candidates.front();
-}
-
-// The chunk shape, checked as HDF5 checks it when it creates a dataset (every chunk dimension
-// positive and within a fixed maximum dimension, a chunk under 4 GiB): a damaged file can
-// declare any chunk shape, and HDF5 1.10 reads past its buffers on some of them.
-hsize_t checked_chunk_rows(hid_t space, hid_t dcpl, hid_t type, const std::string& where) {
-  hsize_t dims[2] = {0, 0}, maxdims[2] = {0, 0}, chunk[2] = {0, 0};
-  const bool ok =
-      H5Sget_simple_extent_dims(space, dims, maxdims) == 2 && H5Pget_chunk(dcpl, 2, chunk) == 2;
-  double bytes = static_cast<double>(H5Tget_size(type));
-  bool fits = ok;
-  for (int i = 0; i < 2 && fits; ++i) {
-    fits = chunk[i] > 0 && maxdims[i] >= dims[i] &&
-           (maxdims[i] == H5S_UNLIMITED || chunk[i] <= maxdims[i]);
-    bytes *= static_cast<double>(chunk[i]);
-  }
-  if (!fits || bytes >= 4294967296.0)
-    throw IoError(where + ": chunk shape " + std::to_string(chunk[0]) + " x " +
-                  std::to_string(chunk[1]) + " does not fit the dataset (corrupt file)");
-  return chunk[0];
 }
 
 }  // namespace
@@ -102,65 +96,32 @@ hsize_t checked_chunk_rows(hid_t space, hid_t dcpl, hid_t type, const std::strin
 void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions& options,
                       PointReadResult& result) {
   const std::string name = file.string();
-  Hid f = open_hdf5_read(file);
-  result.dataset = choose_dataset(f.get(), options.dataset, name);
+  const H5Reader in(file, options.stop);
+  result.dataset = choose_dataset(in, options.dataset, name);
   const std::string where = name + ":" + result.dataset;
-
-  Hid d(H5Dopen2(f.get(), result.dataset.c_str(), H5P_DEFAULT));
-  if (!d) throw IoError(where + ": dataset cannot be opened (corrupt file)");
-  Hid type(H5Dget_type(d.get()));
-  Hid space(H5Dget_space(d.get()));
-  Hid dcpl(H5Dget_create_plist(d.get()));
-  if (!type || !space || !dcpl) throw IoError(where + ": dataset header unreadable (corrupt file)");
-  result.source_type = hdf5_type_name(type.get());
-  if (!is_numeric_type(type.get()))
+  // Shape first, so that an empty or 3-D dataset is reported as such; then every guard of
+  // the one HDF5 reader (type, declared size, filters, missing storage).
+  const H5DatasetInfo info = in.info(result.dataset);
+  result.source_type = info.type_name;
+  if (info.kind != H5Kind::integer && info.kind != H5Kind::floating)
     throw DataError(where + ": holds " + result.source_type + " values; points need numbers");
-  if (!is_plain_numeric_type(type.get()))
-    throw DataError(where + ": stored type " + result.source_type +
-                    " is not a whole-byte integer or an IEEE 754 float layout (damaged file?)");
-  const auto dims = dataspace_dims(space.get(), where);
+  const auto& dims = info.dims;
   if (dims.size() != 2)
     throw DataError(where + ": is " + std::to_string(dims.size()) +
                     "-D; points need a 2-D dataset (rows x columns)");
-  bool bounded_ratio = true;  // only deflate, shuffle and checksums: see below
-  for (const FilterInfo& filter : dataset_filters(dcpl.get())) {
-    if (!filter.available)
-      throw DataError(where + ": compressed with filter '" + filter.name + "' (id " +
-                      std::to_string(filter.id) + ") that this HDF5 library cannot decode");
-    bounded_ratio =
-        bounded_ratio && (filter.id == H5Z_FILTER_DEFLATE || filter.id == H5Z_FILTER_SHUFFLE ||
-                          filter.id == H5Z_FILTER_FLETCHER32);
-  }
-
-  result.file_rows = static_cast<std::size_t>(dims[0]);
-  const auto cols = static_cast<std::size_t>(dims[1]);
+  result.file_rows = dims[0];
+  const std::size_t cols = dims[1];
   if (result.file_rows == 0 || cols == 0)
     throw DataError(where + ": has " + std::to_string(dims[0]) + " rows and " +
                     std::to_string(dims[1]) + " columns; points need at least one of each");
-  // A damaged header can claim any shape. Contiguous data must all be stored in the file;
-  // chunked data at least 1/1100 of it: deflate compresses by at most 1032:1 (zlib's
-  // documented limit, from memory), and a dataset whose chunks were mostly never written
-  // holds fill values, not points. Other filters (scale-offset, szip, ...) have no such
-  // bound; there only the memory check of allocate_points guards.
-  const double claimed = static_cast<double>(dims[0]) * static_cast<double>(dims[1]) *
-                         static_cast<double>(H5Tget_size(type.get()));
-  const auto stored = static_cast<double>(H5Dget_storage_size(d.get()));
-  const H5D_layout_t layout = H5Pget_layout(dcpl.get());
-  const double least = layout == H5D_CONTIGUOUS                 ? claimed
-                       : layout == H5D_CHUNKED && bounded_ratio ? claimed / 1100.0
-                                                                : 0.0;
-  if (stored < least && !(layout == H5D_CONTIGUOUS && stored == 0))
-    throw IoError(where + ": shape " + std::to_string(dims[0]) + " x " + std::to_string(dims[1]) +
-                  " needs more data than the file stores (" +
-                  std::to_string(static_cast<std::uint64_t>(stored)) +
-                  " bytes; corrupt file, or chunks never written)");
+  const H5OpenDataset data = in.open_data(result.dataset);
+  const Hid& d = data.set;
+  const Hid& space = data.space;
   const RowWindow w = resolve_rows(options.rows, result.file_rows, where);
   result.points = allocate_points(w.size(), cols, where);
 
   // Blocks end on chunk-row boundaries so that every chunk is decoded once.
-  hsize_t chunk_rows = 1;
-  if (H5Pget_layout(dcpl.get()) == H5D_CHUNKED)
-    chunk_rows = checked_chunk_rows(space.get(), dcpl.get(), type.get(), where);
+  const hsize_t chunk_rows = data.info.chunk.empty() ? 1 : data.info.chunk.front();
   const auto row_bytes = static_cast<hsize_t>(cols * sizeof(float));
   hsize_t block = std::max<hsize_t>(1, kBlockBytes / row_bytes);
   block = std::max<hsize_t>(chunk_rows, block / chunk_rows * chunk_rows);

@@ -1,22 +1,27 @@
 // Internal: HDF5 1.10 can crash (not fail) on a damaged or crafted file: it follows corrupt
-// global-heap and B-tree addresses that carry no checksum. Before a file is opened for real,
-// a forked child walks all of its metadata (every object, type, shape, attribute value and
-// chunk index); when the child dies of a signal the file is reported as damaged instead of
-// taking the whole program down. Library errors in the child are ignored here: the real
+// global-heap and B-tree addresses that carry no checksum, and some damage sends it into an
+// endless loop that no signal handler can break. Before a file is opened for real, a forked
+// child does to its metadata what the parent will do (lists the datasets, renders every
+// attribute, reads every type, shape, filter pipeline and chunk index); when the child dies
+// of a signal or runs out of time the file is reported as damaged instead of taking the
+// whole program down or hanging it. Library errors in the child are ignored here: the real
 // read meets them again and reports them with their proper message.
 #pragma once
 
 #include <filesystem>
 
+#include "engine/stop.hpp"
+
 namespace unfurl::io::detail {
 
 // Throws IoError naming the file when walking its metadata crashes the HDF5 library.
 // Also throws IoError when the walk has not finished within the timeout (a damaged file can
-// send the library into an endless loop).
-void check_hdf5_in_child(const std::filesystem::path& file);
+// send the library into an endless loop), and InterruptedError when `stop` is requested
+// while waiting (the child is killed).
+void check_hdf5_in_child(const std::filesystem::path& file, const StopToken& stop = {});
 
-// The time allowed for the walk; 30 s by default, far above the milliseconds a sound file
-// takes. Tests of damaged files lower it.
+// The time allowed for the walk: 10 s by default (or UNFURL_HDF5_CHECK_SECONDS), far above
+// the milliseconds a sound file takes. Tests of damaged files lower it.
 void set_hdf5_check_timeout(double seconds);
 
 }  // namespace unfurl::io::detail

@@ -115,6 +115,25 @@ TEST_CASE("scan stays exact when the data sit far from the origin", "[neighbours
   check_equal(exact_knn(data, data, 5, Search::scan, true, 16), brute_knn(data, data, 5, true));
 }
 
+TEST_CASE("points whose squared distances overflow float32 are refused, not searched",
+          "[neighbours]") {
+  // FLT_MAX is about 3.4e38 (IEEE 754 binary32), so a spread of 1e28 squares to infinity;
+  // found by tests/apps/damaged_files_test.py as a crash in the graph build.
+  auto pts = random_points(40, 3, 3, false);
+  pts.row(7)[0] = -1.0e28f;
+  for (const Search s : {Search::tree, Search::scan}) {
+    GraphOptions o;
+    o.k = 5;
+    o.search = s;
+    CHECK_THROWS_AS(build_neighbour_graph(pts, o), unfurl::DataError);
+    CHECK_THROWS_AS(exact_knn(pts, pts, 5, s, true, 16), unfurl::DataError);
+  }
+  pts.row(7)[0] = -1.0e18f;  // squares to 1e36: still searched
+  GraphOptions o;
+  o.k = 5;
+  CHECK(build_neighbour_graph(pts, o).graph.nodes() == 40);
+}
+
 TEST_CASE("kNN graph is the union or mutual symmetrisation of the brute-force lists",
           "[neighbours]") {
   const auto pts = random_points(400, 3, 3, false);
