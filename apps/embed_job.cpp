@@ -138,7 +138,9 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (!given_graph && (pre.scale != Scale::none || pre.metric != Metric::euclidean || pre.pca)) {
     pre.validate(in.points.rows, in.points.cols);
     const PreprocessModel model = fit_preprocess(in.points, pre);
+    std::vector<std::uint64_t> row_keys = std::move(in.points.row_keys);
     in.points = apply_preprocess(model, in.points);
+    in.points.row_keys = std::move(row_keys);  // duplicates still compare the rows as read
     say(g, fmt::format("preprocess: scale {}, metric {}{}", scale_name(model.scale),
                        metric_name(model.metric),
                        model.components ? fmt::format(", {} principal components keeping {:.1f}% "
@@ -182,6 +184,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (!a.linear)
     for (auto& extra : graph_arrays(result)) map.extras.push_back(std::move(extra));
   std::vector<double> nonfinite(in.dropped_rows.begin(), in.dropped_rows.end());
+  add_input_centres(in.centres, map.extras);
   map.extras.push_back({"/input/dropped_nonfinite_rows",
                         nonfinite,
                         {nonfinite.size()},

@@ -57,7 +57,10 @@ void handle_nonfinite(PointReadResult& result, std::size_t first_row, bool drop,
       result.dropped_rows.push_back(static_cast<std::int64_t>(first_row + i));
       continue;
     }
-    if (kept != i) std::copy(row, row + p.cols, p.row(kept));
+    if (kept != i) {
+      std::copy(row, row + p.cols, p.row(kept));
+      if (!p.row_keys.empty()) p.row_keys[kept] = p.row_keys[i];
+    }
     result.rows.push_back(static_cast<std::int64_t>(first_row + i));
     ++kept;
   }
@@ -74,6 +77,7 @@ void handle_nonfinite(PointReadResult& result, std::size_t first_row, bool drop,
   result.nonfinite_values = bad_values;
   p.rows = kept;
   p.values.resize(kept * p.cols);
+  if (!p.row_keys.empty()) p.row_keys.resize(kept);
 }
 
 }  // namespace
@@ -102,6 +106,9 @@ void PointReadOptions::validate() const {
     throw OptionError("--rows: '" + to_string(*rows) + "' is empty (A must be less than B)");
   if (!dataset.empty() && !format.empty() && format != "hdf5")
     throw OptionError("--dataset: only HDF5 files hold datasets, not " + format + " files");
+  if (centres &&
+      std::any_of(centres->begin(), centres->end(), [](double c) { return !std::isfinite(c); }))
+    throw DataError("/input/centres: holds a value that is not finite");
 }
 
 std::string detect_point_format(const std::filesystem::path& file, const std::string& requested) {
@@ -196,11 +203,75 @@ std::string printable(std::string_view text, std::size_t limit) {
   return out;
 }
 
-float narrow_to_float(double value, const std::string& where) {
+PointNarrowing::PointNarrowing(PointSet& points,
+                               const std::optional<std::vector<double>>& fixed_centres,
+                               std::string where)
+    : points_(points),
+      cols_(points.cols),
+      fixed_(fixed_centres.has_value()),
+      columns_(points.cols),
+      keys_(points.rows, 0xcbf29ce484222325ull),  // FNV-1a offset basis (FNV spec)
+      where_(std::move(where)) {
+  if (!fixed_) return;
+  if (fixed_centres->size() != cols_)
+    throw DataError(where_ + ": has " + std::to_string(cols_) + " columns, the map's " +
+                    "/input/centres records " + std::to_string(fixed_centres->size()));
+  for (std::size_t j = 0; j < cols_; ++j) {
+    columns_[j].has_centre = true;
+    columns_[j].centre = (*fixed_centres)[j];
+    columns_[j].min = std::numeric_limits<double>::infinity();
+    columns_[j].max = -std::numeric_limits<double>::infinity();
+  }
+}
+
+void PointNarrowing::grow(std::size_t rows) {
+  points_.rows = rows;
+  points_.values.resize(rows * cols_);
+  keys_.resize(rows, 0xcbf29ce484222325ull);
+}
+
+float PointNarrowing::narrow(double centred, std::size_t file_row, std::size_t col) const {
   constexpr double max = std::numeric_limits<float>::max();
-  if (std::isfinite(value) && (value > max || value < -max))
-    throw DataError(where + ": value " + std::to_string(value) + " lies outside the float32 range");
-  return static_cast<float>(value);
+  if (std::isfinite(centred) && (centred > max || centred < -max))
+    throw DataError(where_ + ": row " + std::to_string(file_row) + " column " +
+                    std::to_string(col) + " (0-based) lies " + std::to_string(centred) +
+                    " from its column's centre, outside the float32 range");
+  return static_cast<float>(centred);
+}
+
+void PointNarrowing::finish(PointReadResult& result) {
+  std::vector<double> shift(cols_, 0.0);
+  result.centres.assign(cols_, 0.0);
+  for (std::size_t j = 0; j < cols_; ++j) {
+    const Column& c = columns_[j];
+    if (!fixed_ && c.count > 0) shift[j] = c.sum / static_cast<double>(c.count);
+    result.centres[j] = c.centre + shift[j];
+  }
+  if (std::any_of(shift.begin(), shift.end(), [](double s) { return s != 0.0; }))
+    for (std::size_t i = 0; i < points_.rows; ++i) {
+      float* row = points_.row(i);
+      for (std::size_t j = 0; j < cols_; ++j)
+        row[j] = narrow(static_cast<double>(row[j]) - shift[j], i, j);
+    }
+  // A column whose values differ by less than one float32 step at its largest centred value
+  // reads as constant: its differences are lost even after centring.
+  std::string lost;
+  for (std::size_t j = 0; j < cols_; ++j) {
+    const Column& c = columns_[j];
+    if (c.count == 0 || !(c.max > c.min)) continue;
+    const auto largest = static_cast<float>(
+        std::max(std::fabs(c.max - result.centres[j]), std::fabs(c.min - result.centres[j])));
+    const float step = std::nextafter(largest, std::numeric_limits<float>::infinity()) - largest;
+    if (c.max - c.min < static_cast<double>(step)) {
+      lost += (lost.empty() ? "" : ", ") + std::to_string(j);
+      if (j < result.column_names.size()) lost += " ('" + printable(result.column_names[j]) + "')";
+    }
+  }
+  if (!lost.empty())
+    result.warnings.push_back(where_ + ": column(s) " + lost +
+                              " (0-based) vary by less than float32 resolution even after "
+                              "centring; their differences are lost");
+  points_.row_keys = std::move(keys_);
 }
 
 }  // namespace detail

@@ -201,12 +201,17 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
   const RowWindow w = resolve_rows(options.rows, rows, where);
   result.points = allocate_points(w.size(), cols, where);
 
+  PointNarrowing narrowing(result.points, options.centres, where);
   if (h.kind == 'f' && h.item == sizeof(float) && !h.swap && !h.fortran) {
-    // The stored bytes are already the PointSet layout: read them in place.
+    // The stored bytes are already the PointSet layout: read them in place, then centre.
     in.seekg(static_cast<std::streamoff>(h.data_offset + std::uint64_t{w.begin} * cols * h.item));
     const auto bytes = static_cast<std::streamsize>(result.points.values.size() * sizeof(float));
     in.read(reinterpret_cast<char*>(result.points.values.data()), bytes);
     if (in.gcount() != bytes) throw IoError(where + ": read failed part way (truncated file?)");
+    for (std::size_t i = 0; i < w.size(); ++i)
+      for (std::size_t j = 0; j < cols; ++j)
+        narrowing.put(i, j, result.points.row(i)[j], w.begin + i);
+    narrowing.finish(result);
     return;
   }
   // Runs of contiguous file values: a row (C order) or a column's slice (Fortran order).
@@ -214,7 +219,6 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
   const std::size_t runs = h.fortran ? cols : 1;
   std::vector<unsigned char> buffer(std::min<std::size_t>(run * h.item, std::size_t{4} << 20));
   const std::size_t per_read = buffer.size() / h.item;
-  constexpr double float_max = std::numeric_limits<float>::max();
   for (std::size_t j = 0; j < runs; ++j) {
     const std::uint64_t first =
         h.fortran ? std::uint64_t{j} * rows + w.begin : std::uint64_t{w.begin} * cols;
@@ -229,16 +233,12 @@ void read_npy_points(const std::filesystem::path& file, const PointReadOptions& 
         const std::size_t at = done + k;
         const std::size_t row = h.fortran ? at : at / cols;
         const std::size_t col = h.fortran ? j : at % cols;
-        const double v = load_value(h, buffer.data() + k * h.item);
-        if (h.kind == 'f' && h.item == 8 && std::isfinite(v) && std::fabs(v) > float_max)
-          throw DataError(where + ": row " + std::to_string(w.begin + row) + " column " +
-                          std::to_string(col) + " holds " + std::to_string(v) +
-                          ", outside the float32 range");
-        result.points.row(row)[col] = static_cast<float>(v);
+        narrowing.put(row, col, load_value(h, buffer.data() + k * h.item), w.begin + row);
       }
       done += n;
     }
   }
+  narrowing.finish(result);
 }
 
 }  // namespace unfurl::io::detail

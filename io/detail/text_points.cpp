@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <charconv>
 #include <cmath>
+#include <cstdlib>
 #include <fstream>
 #include <limits>
 #include <string_view>
@@ -53,20 +54,22 @@ void split(std::string_view line, char delimiter, std::vector<std::string_view>&
   }
 }
 
-bool parse_number(std::string_view s, double& value) {
+enum class Number { ok, not_number, too_large };
+
+Number parse_number(std::string_view s, double& value) {
   s = unquote(s);
   if (!s.empty() && s.front() == '+') s.remove_prefix(1);
-  if (s.empty()) return false;
+  if (s.empty()) return Number::not_number;
   const auto [end, ec] = std::from_chars(s.data(), s.data() + s.size(), value);
+  if (end != s.data() + s.size()) return Number::not_number;
   if (ec == std::errc::result_out_of_range) {
-    // Underflow reads as zero; overflow is flagged by the caller's range check.
-    value = (s.find_first_of("eE") != std::string_view::npos &&
-             s.find("e-") == std::string_view::npos && s.find("E-") == std::string_view::npos)
-                ? std::numeric_limits<double>::max()
-                : 0.0;
-    return end == s.data() + s.size();
+    // from_chars leaves the value alone; strtod tells overflow (HUGE_VAL, an error) from
+    // underflow (the nearest subnormal or zero, a value like any other).
+    const std::string copy(s);
+    value = std::strtod(copy.c_str(), nullptr);
+    return std::isinf(value) ? Number::too_large : Number::ok;
   }
-  return ec == std::errc() && end == s.data() + s.size();
+  return ec == std::errc() ? Number::ok : Number::not_number;
 }
 
 char sniff_delimiter(std::string_view line) {
@@ -106,8 +109,9 @@ TextLayout scan_text_layout(const std::filesystem::path& file, const std::string
       split(line, layout.delimiter, fields);
       layout.columns = fields.size();
       double ignored = 0;
-      if (std::any_of(fields.begin(), fields.end(),
-                      [&](std::string_view f) { return !parse_number(f, ignored); })) {
+      if (std::any_of(fields.begin(), fields.end(), [&](std::string_view f) {
+            return parse_number(f, ignored) == Number::not_number;
+          })) {
         for (std::string_view f : fields) layout.column_names.emplace_back(unquote(f));
         continue;
       }
@@ -131,16 +135,15 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
   const std::size_t end = options.rows && options.rows->end
                               ? *options.rows->end
                               : std::numeric_limits<std::size_t>::max();
-  std::vector<float> values;
   std::error_code ec;
   const auto bytes = std::filesystem::file_size(file, ec);
-  if (!ec && !options.rows) values.reserve(static_cast<std::size_t>(bytes / 8));
+  if (!ec && !options.rows) result.points.values.reserve(static_cast<std::size_t>(bytes / 8));
+  std::optional<PointNarrowing> narrowing;  // once the column count is known
 
   std::string line;
   std::vector<std::string_view> fields;
   std::size_t line_no = 0, data_rows = 0, cols = 0;
   char delimiter = format == "tsv" ? '\t' : 0;
-  constexpr double float_max = std::numeric_limits<float>::max();
   while (std::getline(in, line)) {
     if (++line_no % 65536 == 0) options.stop.check("reading points");
     if (line_no == 1) strip_bom(line);
@@ -151,7 +154,7 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
       cols = fields.size();
       double ignored = 0;
       const bool header = std::any_of(fields.begin(), fields.end(), [&](std::string_view f) {
-        return !parse_number(f, ignored);
+        return parse_number(f, ignored) == Number::not_number;
       });
       if (header) {
         for (std::string_view f : fields) result.column_names.emplace_back(unquote(f));
@@ -164,16 +167,27 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
                       " were expected (ragged rows)");
     const std::size_t row = data_rows++;
     if (row < begin || row >= end) continue;
+    if (!narrowing) {
+      result.points.cols = cols;
+      narrowing.emplace(result.points, options.centres, name);
+    }
+    const std::size_t kept = result.points.rows;
+    narrowing->grow(kept + 1);
     for (std::size_t j = 0; j < cols; ++j) {
       double v = 0;
-      if (!parse_number(fields[j], v))
-        throw DataError(name + " line " + std::to_string(line_no) + ", column " +
-                        std::to_string(j + 1) + ": '" + printable(fields[j]) + "' is not a number");
-      if (std::isfinite(v) && std::fabs(v) > float_max)
+      const Number parsed = parse_number(fields[j], v);
+      if (parsed != Number::ok)
         throw DataError(name + " line " + std::to_string(line_no) + ", column " +
                         std::to_string(j + 1) + ": '" + printable(fields[j]) +
-                        "' lies outside the float32 range");
-      values.push_back(static_cast<float>(v));
+                        (parsed == Number::too_large ? "' lies outside the float64 range"
+                                                     : "' is not a number"));
+      try {
+        narrowing->put(kept, j, v, row);
+      } catch (const DataError&) {
+        throw DataError(name + " line " + std::to_string(line_no) + ", column " +
+                        std::to_string(j + 1) + ": '" + printable(fields[j]) +
+                        "' lies outside the float32 range (after subtracting the column centre)");
+      }
     }
   }
   if (in.bad())
@@ -184,12 +198,10 @@ void read_text_points(const std::filesystem::path& file, const PointReadOptions&
         name + ": holds no data rows" +
         (result.column_names.empty() ? std::string() : std::string(" (only a header)")));
   const RowWindow w = resolve_rows(options.rows, data_rows, name);
-  result.points.rows = w.size();
-  result.points.cols = cols;
-  result.points.values = std::move(values);
-  if (result.points.values.size() != w.size() * cols)
-    throw InternalError(name + ": text reader kept " + std::to_string(result.points.values.size()) +
-                        " values for " + std::to_string(w.size()) + " rows");
+  if (!narrowing || result.points.rows != w.size())
+    throw InternalError(name + ": text reader kept " + std::to_string(result.points.rows) +
+                        " rows for " + std::to_string(w.size()));
+  narrowing->finish(result);
 }
 
 }  // namespace unfurl::io::detail
