@@ -117,17 +117,10 @@ std::string detect_point_format(const std::filesystem::path& file, const std::st
   if (std::filesystem::is_directory(file, ec))
     throw MissingInputError(file.string() + ": is a folder, not a point file");
   if (!requested.empty()) return requested;
-  std::array<char, 8> magic{};
-  std::ifstream in(file, std::ios::binary);
-  if (!in) throw MissingInputError(file.string() + ": cannot be opened for reading");
-  in.read(magic.data(), magic.size());
-  const auto got = static_cast<std::size_t>(in.gcount());
-  // Signatures: HDF5 file format specification, "Format Signature"; NPY format
-  // (numpy.lib.format, NEP 1): "\x93NUMPY".
-  static constexpr char hdf5_magic[] = "\x89HDF\r\n\x1a\n";
-  static constexpr char npy_magic[] = "\x93NUMPY";
-  if (got >= 8 && std::equal(magic.begin(), magic.end(), hdf5_magic)) return "hdf5";
-  if (got >= 6 && std::equal(magic.begin(), magic.begin() + 6, npy_magic)) return "npy";
+  if (std::ifstream probe(file, std::ios::binary); !probe)
+    throw MissingInputError(file.string() + ": cannot be opened for reading");
+  if (std::string by_content = detail::format_by_signature(file); !by_content.empty())
+    return by_content;
   const std::string ext = lower_extension(file);
   if (ext == ".h5" || ext == ".hdf5" || ext == ".hdf" || ext == ".he5") return "hdf5";
   if (ext == ".npy") return "npy";
@@ -159,6 +152,20 @@ PointReadResult read_points(const std::filesystem::path& file, const PointReadOp
 }
 
 namespace detail {
+
+std::string format_by_signature(const std::filesystem::path& file) {
+  std::array<char, 8> magic{};
+  std::ifstream in(file, std::ios::binary);
+  in.read(magic.data(), magic.size());
+  const auto got = static_cast<std::size_t>(in.gcount());
+  // Signatures: HDF5 file format specification, "Format Signature"; NPY format
+  // (numpy.lib.format, NEP 1): "\x93NUMPY".
+  static constexpr char hdf5_magic[] = "\x89HDF\r\n\x1a\n";
+  static constexpr char npy_magic[] = "\x93NUMPY";
+  if (got >= 8 && std::equal(magic.begin(), magic.end(), hdf5_magic)) return "hdf5";
+  if (got >= 6 && std::equal(magic.begin(), magic.begin() + 6, npy_magic)) return "npy";
+  return "";
+}
 
 RowWindow resolve_rows(const std::optional<RowRange>& range, std::size_t file_rows,
                        const std::string& where) {
@@ -194,13 +201,6 @@ PointSet allocate_points(std::size_t rows, std::size_t cols, const std::string& 
     throw ResourceError(where + ": " + std::to_string(rows) + " x " + std::to_string(cols) +
                         " float32 values do not fit in memory (try --rows)");
   }
-}
-
-std::string printable(std::string_view text, std::size_t limit) {
-  std::string out;
-  for (char c : text.substr(0, limit)) out += (c >= 0x20 && c < 0x7f) ? c : '?';
-  if (text.size() > limit) out += "...";
-  return out;
 }
 
 PointNarrowing::PointNarrowing(PointSet& points,

@@ -15,9 +15,15 @@
 #include <string_view>
 #include <vector>
 
+#include "io/detail/npy_array.hpp"
+#include "io/detail/text_lines.hpp"
 #include "io/points_reader.hpp"
 
 namespace unfurl::io::detail {
+
+// "hdf5" or "npy" when the file starts with that format's signature, else "" (also when
+// the file cannot be read: its reader then says why).
+std::string format_by_signature(const std::filesystem::path& file);
 
 // A row range checked against the rows a file holds: [begin, end), begin < end.
 struct RowWindow {
@@ -94,21 +100,6 @@ class PointNarrowing {
   std::string where_;
 };
 
-// The header of an NPY file (numpy.lib.format, NEP 1), checked to describe plain numbers.
-struct NpyHeader {
-  unsigned major = 0, minor = 0;  // format version
-  char kind = 0;                  // 'f', 'i', 'u'
-  std::size_t item = 0;           // bytes per value
-  bool swap = false;              // file byte order differs from this machine's
-  bool fortran = false;           // column-major data
-  std::vector<std::size_t> shape;
-  std::uint64_t data_offset = 0;  // first data byte
-  std::string descr;              // as written, e.g. "<f8"
-  std::string type_name() const;  // "float64", "uint8", ...
-};
-// Throws IoError (truncated, no signature) or DataError (unsupported dtype or version).
-NpyHeader read_npy_header(std::istream& in, std::uint64_t file_size, const std::string& where);
-
 // What the first lines of a text point file say, and how many data lines follow.
 struct TextLayout {
   char delimiter = ',';                   // ' ' means runs of spaces or tabs
@@ -117,10 +108,6 @@ struct TextLayout {
   std::size_t data_rows = 0;              // content lines after the header
 };
 TextLayout scan_text_layout(const std::filesystem::path& file, const std::string& format);
-
-// File text quoted in a message: at most `limit` bytes, anything but printable ASCII as '?',
-// so that a damaged file cannot break the one-line message.
-std::string printable(std::string_view text, std::size_t limit = 40);
 
 void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions& options,
                       PointReadResult& result);

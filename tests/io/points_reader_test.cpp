@@ -432,6 +432,57 @@ TEST_CASE("NPY 1-D is one column; bad NPY inputs are errors", "[io][points]") {
                     Contains("row 2 column 1") && Contains("float32 range"));
 }
 
+namespace {
+
+// An NPY version 1.0 file with `dict` as its header text, padded as numpy pads it.
+std::string npy_with_header(std::string dict, const std::string& data) {
+  dict.append(63 - (10 + dict.size()) % 64, ' ');
+  dict += '\n';
+  const auto len = static_cast<unsigned char>(dict.size());
+  return std::string("\x93NUMPY\x01\x00", 8) + static_cast<char>(len) + '\0' + dict + data;
+}
+
+}  // namespace
+
+TEST_CASE("Damaged text and NPY are refused by name", "[io][points]") {
+  TempDir dir;
+  // A decimal number beyond float64 (400 digits, no exponent) once read as 0.
+  write_bytes(dir / "long.csv", "1,2\n3," + std::string(400, '9') + "\n");
+  CHECK_THROWS_KIND(read_points(dir / "long.csv"), DataError,
+                    Contains("long.csv line 2, column 2") && Contains("float64 range"));
+  write_bytes(dir / "tiny.csv", "1,2\n3,1e-400\n");  // underflow: zero, as numpy reads it
+  CHECK(as_read(read_points(dir / "tiny.csv"), 1, 1, 0.0));
+  write_bytes(dir / "nul.csv", std::string("1,2\n3,\0 4\n", 11));
+  CHECK_THROWS_KIND(read_points(dir / "nul.csv"), DataError,
+                    Contains("nul.csv: line 2") && Contains("NUL byte"));
+  write_bytes(dir / "cr.csv", "1,2\r3,4\r5,6\r");
+  CHECK_THROWS_KIND(read_points(dir / "cr.csv"), DataError,
+                    Contains("cr.csv: line 1") && Contains("carriage return"));
+  PointReadOptions as_npy;
+  as_npy.format = "npy";
+  CHECK_THROWS_KIND(read_points(dir / "cr.csv", as_npy), DataError, Contains("not an NPY file"));
+
+  const std::string data = npy_bytes<double>(3, 2, false, false);
+  write_npy(dir / "tail.npy", "<f8", {3, 2}, false, data + "extra");
+  CHECK_THROWS_KIND(read_points(dir / "tail.npy"), DataError,
+                    Contains("tail.npy") && Contains("5 bytes of trailing data"));
+  const std::string good = "{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2), }";
+  write_bytes(dir / "good.npy", npy_with_header(good, data));
+  check_values(read_points(dir / "good.npy"), 0, 3, 2, true, false);
+  for (const std::string& dict :
+       {std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2), 'x': 1}"),
+        std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2)"),
+        std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, two)}"),
+        std::string("{'descr': '<f8', 'shape': (3, 2)}"),
+        std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2)} junk"),
+        std::string("{'descr': '<f8', 'descr': '<f4', 'fortran_order': False, 'shape': (3, 2)}")}) {
+    CAPTURE(dict);
+    write_bytes(dir / "bad.npy", npy_with_header(dict, data));
+    CHECK_THROWS_KIND(read_points(dir / "bad.npy"), DataError,
+                      Contains("bad.npy: malformed NPY header"));
+  }
+}
+
 TEST_CASE("The format comes from the magic bytes first, then the extension", "[io][points]") {
   TempDir dir;
   const auto values = table<float>(6, 2);

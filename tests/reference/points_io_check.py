@@ -173,6 +173,18 @@ def main():
             compare(tmp, f"numpy savetxt delimiter {delimiter!r}", path,
                     np.loadtxt(path, delimiter=None if delimiter == " " else delimiter, skiprows=1))
 
+        # Number forms numpy's loadtxt (Python's float()) also parses: a sign, exponents,
+        # subnormals, an underflow to zero, surrounding blanks, 17 digits on a 1e6 offset.
+        forms = os.path.join(tmp, "forms.csv")
+        with open(forms, "w") as out:
+            out.write("x;y;z\n")
+            out.write("+1.5; 1E3 ;1000000.1234567891\n")
+            out.write("-0;4.9e-324;1000000.1234567899\n")
+            out.write("1e-400;-2.5e+2;999999.99999999988\n")
+            out.write(".5;5.;1000000.0000000001\n")
+        compare(tmp, "number forms as numpy parses them", forms,
+                np.loadtxt(forms, delimiter=";", skiprows=1))
+
         # Open data: scikit-learn's bundled digits set (1,797 x 64), converted by
         # datasets-scripts/digits_to_hdf5.py and compared with load_digits itself.
         from sklearn.datasets import load_digits
@@ -210,6 +222,20 @@ def main():
         expect_failure(tmp, "random bytes .h5", [os.path.join(tmp, "noise.h5")], 74, "noise.h5")
         expect_failure(tmp, "truncated NPY", [os.path.join(tmp, "cut.npy")], 74, "truncated")
         expect_failure(tmp, "ragged CSV", [os.path.join(tmp, "ragged.csv")], 65, "line 3")
+        # Refused by name, each with exit 65 (bad data): numpy's float() reads the 400-digit
+        # number as inf; a NUL byte, CR-only line ends, bytes after the NPY array.
+        long_csv = os.path.join(tmp, "long.csv")
+        open(long_csv, "w").write("1,2\n3," + "9" * 400 + "\n")
+        check(np.isinf(np.loadtxt(long_csv, delimiter=",")[1, 1]), "numpy reads 400 nines as inf")
+        expect_failure(tmp, "400-digit number", [long_csv], 65, "line 2, column 2")
+        open(os.path.join(tmp, "nul.csv"), "wb").write(b"1,2\n3,\x004\n")
+        expect_failure(tmp, "NUL byte", [os.path.join(tmp, "nul.csv")], 65, "NUL byte")
+        open(os.path.join(tmp, "cr.csv"), "wb").write(b"1,2\r3,4\r")
+        expect_failure(tmp, "CR-only line ends", [os.path.join(tmp, "cr.csv")], 65, "carriage return")
+        open(os.path.join(tmp, "tail.npy"), "wb").write(whole + b"\0" * 8)
+        expect_failure(tmp, "NPY trailing data", [os.path.join(tmp, "tail.npy")], 65, "trailing data")
+        open(os.path.join(tmp, "fake.npy"), "w").write("1,2\n3,4\n")
+        expect_failure(tmp, "not an NPY file", [os.path.join(tmp, "fake.npy")], 65, "not an NPY file")
 
     total = "points_io_check"
     if failures:
