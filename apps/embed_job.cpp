@@ -132,6 +132,9 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
     throw OptionError("--linear, --scale, --metric and --pre-pca need points, not --input " +
                       a.input_kind);
   io::MapContents map;
+  // Points not from a reader (demo) were not centred: record zeros, so that `score` reads
+  // them back as they were used.
+  if (!given_graph && in.centres.empty()) in.centres.assign(in.points.cols, 0.0);
 
   // Preprocessing: the neighbour search and the scores see the transformed points.
   const PreprocessOptions pre = to_preprocess_options(a);

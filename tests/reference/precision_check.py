@@ -109,6 +109,20 @@ def main():
             t_score = json.load(f)["quality"]["neighbourhoods"][0]["trustworthiness"]
         check("score reads the points at full precision (T as embed)", abs(t_score - t_embed) < 1e-6,
               f"embed {t_embed:.6f}, score {t_score:.6f}")
+        # `demo` embeds its points uncentred and records zero centres; with the cosine metric
+        # (not translation-invariant) `score` must read the points back uncentred too
+        # (without the record it saw T = 0.957 against embed's 0.991).
+        demo = os.path.join(folder, "demo")
+        unfurl("demo", "--scenario", "s-curve", "--points", "600", "--out", demo,
+               "--metric", "cosine", "--quiet")
+        with open(os.path.join(demo, "s-curve-report.json")) as f:
+            t_demo = json.load(f)["quality"]["neighbourhoods"][0]["trustworthiness"]
+        unfurl("score", os.path.join(demo, "s-curve-map.h5"), "--points",
+               os.path.join(demo, "s-curve.h5"), "--json", score_json)
+        with open(score_json) as f:
+            t_score = json.load(f)["quality"]["neighbourhoods"][0]["trustworthiness"]
+        check("score of a demo map (cosine) sees the points as demo did",
+              abs(t_score - t_demo) < 1e-6, f"demo {t_demo:.6f}, score {t_score:.6f}")
         # Epoch seconds: an offset of 1.7e9 s, where float32 keeps one value per 128 s.
         epoch = points / 50 + 1.7e9
         embed_and_check(folder, "epoch_npy", epoch, truth, "epoch.npy")
