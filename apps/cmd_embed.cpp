@@ -23,7 +23,9 @@ JobInput read_points_input(const GlobalOptions& g, const EmbedArgs& a) {
                   a.input.file, r.dataset.empty() ? "" : ":" + r.dataset, r.read_seconds));
   if (!r.dropped_rows.empty())
     say(g, fmt::format("points: {} rows with non-finite values dropped", r.dropped_rows.size()));
+  for (const auto& w : r.warnings) say(g, "warning: points: " + w);
   JobInput in;
+  in.centres = std::move(r.centres);
   in.identity = point_input_identity(a.input.file, r);
   in.points = std::move(r.points);
   in.rows = std::move(r.rows);

@@ -36,6 +36,7 @@ void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
   const GraphOptions options = to_graph_options(a.graph);
   const io::PointReadResult in = io::read_points(a.input.file, to_read_options(a.input));
   say(g, fmt::format("points: {} rows x {} columns", in.points.rows, in.points.cols));
+  for (const auto& w : in.warnings) say(g, "warning: points: " + w);
 
   const GraphResult built = build_neighbour_graph(in.points, options, stop_token());
   print_graph(g, built.summary);

@@ -123,7 +123,7 @@ void add_inspect_command(CLI::App& app, GlobalOptions& g) {
     // Text shows the description before reading, so it is there when the points are not.
     if (!args->json) print_description(g, description);
     const io::PointReadResult result = io::read_points(args->input.file, options);
-    const auto stats = io::column_stats(result.points);
+    const auto stats = io::column_stats(result.points, result.centres);
     if (args->json)
       say(g, to_json(description, result, stats).dump(2));
     else

@@ -108,13 +108,19 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   AssessOptions options = to_assess_options(a.score, g.seed);
   options.dimension_k = a.dimension_k;
 
-  const io::PointReadResult in = io::read_points(a.points.file, to_read_options(a.points));
+  std::optional<io::MapContents> ours;
+  if (a.map_dataset.empty() && is_unfurl_map(a.map)) ours = io::read_map(a.map, true);
+  io::PointReadOptions read_options = to_read_options(a.points);
+  // The points as `embed` saw them: minus the centres the map records.
+  if (ours) read_options.centres = input_centres_from_arrays(ours->extras);
+  const io::PointReadResult in = io::read_points(a.points.file, read_options);
+  for (const auto& w : in.warnings) say(g, "warning: points: " + w);
   PointSet input;
   PointSet map;
   std::optional<DistanceRows> geodesic;
   std::vector<double> spectrum;
-  if (a.map_dataset.empty() && is_unfurl_map(a.map)) {
-    io::MapContents m = io::read_map(a.map, true);
+  if (ours) {
+    io::MapContents& m = *ours;
     check_points_identity(g, a, m.attributes, point_input_identity(a.points.file, in));
     // Map rows name input rows; find each among the rows just read.
     std::vector<std::int64_t> position(in.file_rows, -1);

@@ -157,13 +157,18 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   const AssessOptions assess = to_assess_options(a.score, g.seed);
   const bool given_graph = in.graph.has_value();
   io::MapContents map;
+  // Points not from a reader (demo) were not centred: record zeros, so that `score` reads
+  // them back as they were used.
+  if (!given_graph && in.centres.empty()) in.centres.assign(in.points.cols, 0.0);
 
   // Preprocessing: the neighbour search and the scores see the transformed points.
   const PreprocessOptions pre = to_preprocess_options(a);
   if (!given_graph && (pre.scale != Scale::none || pre.metric != Metric::euclidean || pre.pca)) {
     pre.validate(in.points.rows, in.points.cols);
     const PreprocessModel model = fit_preprocess(in.points, pre);
+    std::vector<std::uint64_t> row_keys = std::move(in.points.row_keys);
     in.points = apply_preprocess(model, in.points);
+    in.points.row_keys = std::move(row_keys);  // duplicates still compare the rows as read
     say(g, fmt::format("preprocess: scale {}, metric {}{}", scale_name(model.scale),
                        metric_name(model.metric),
                        model.components ? fmt::format(", {} principal components keeping {:.1f}% "
@@ -207,6 +212,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (!a.linear)
     for (auto& extra : graph_arrays(result)) map.extras.push_back(std::move(extra));
   std::vector<double> nonfinite(in.dropped_rows.begin(), in.dropped_rows.end());
+  add_input_centres(in.centres, map.extras);
   map.extras.push_back({"/input/dropped_nonfinite_rows",
                         nonfinite,
                         {nonfinite.size()},

@@ -40,6 +40,7 @@ struct JobInput {
   std::optional<NeighbourGraph> graph;     // a given graph: nodes are input rows
   std::vector<std::int64_t> rows;          // input row of each point or node
   std::vector<std::int64_t> dropped_rows;  // rows dropped before the job (non-finite)
+  std::vector<double> centres;             // column centres the reader subtracted (or empty)
   nlohmann::json identity;                 // the input's identity for the map's attributes
 };
 

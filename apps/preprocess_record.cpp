@@ -60,4 +60,21 @@ std::optional<PreprocessModel> preprocess_from_arrays(const std::vector<io::MapA
   return m;
 }
 
+void add_input_centres(const std::vector<double>& centres, std::vector<io::MapArray>& out) {
+  if (centres.empty()) return;
+  out.push_back({"/input/centres",
+                 centres,
+                 {centres.size()},
+                 {{"meaning",
+                   "per-column values subtracted from the input (in float64) before narrowing to "
+                   "float32; later uses of the input subtract the same"}}});
+}
+
+std::optional<std::vector<double>> input_centres_from_arrays(
+    const std::vector<io::MapArray>& arrays) {
+  for (const auto& a : arrays)
+    if (a.path == "/input/centres") return a.values;
+  return std::nullopt;
+}
+
 }  // namespace unfurl::app

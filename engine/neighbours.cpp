@@ -276,6 +276,10 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
                            std::to_string(dup.groups_with_copies) +
                            " groups); merged into one node each");
   }
+  if (dup.equal_after_narrowing > 0)
+    s.warnings.push_back(std::to_string(dup.equal_after_narrowing) +
+                         " rows equal an earlier row in float32 but differ in the input; kept "
+                         "as nodes of their own at distance 0");
   summarise(result.graph, s);
   if (s.isolated_nodes > 0)
     s.warnings.push_back(std::to_string(s.isolated_nodes) + " of " + std::to_string(s.nodes) +

@@ -18,6 +18,9 @@ struct PointSet {
   std::size_t rows = 0;
   std::size_t cols = 0;
   std::vector<float> values;  // rows * cols, row-major
+  // Empty, or one key per row of the row's values before narrowing to float32 (readers set
+  // it): rows whose keys differ are distinct data even when their float32 values are equal.
+  std::vector<std::uint64_t> row_keys;
 
   PointSet() = default;
   PointSet(std::size_t n, std::size_t d) : rows(n), cols(d), values(n * d, 0.0f) {}

@@ -1,3 +1,5 @@
+#include <unistd.h>
+
 #include <cmath>
 #include <limits>
 #include <string>
@@ -14,6 +16,20 @@ namespace {
 // Ids stay below 2^31 - 1 so that a node count fits the engine's 32-bit ids with room.
 constexpr double max_id = 2147483646.0;
 
+// Memory the engine needs per node and per edge of a given graph, whatever the options: CSR
+// offsets (8 bytes), node order, component and landmark bookkeeping, one float32 geodesic
+// value per landmark for the fewest landmarks (about 12): 64 bytes a node; the CSR of both
+// directions and the edge list read: 32 bytes an edge. Common practice, no source: a floor,
+// meant to refuse the impossible, not to predict the peak.
+constexpr double kBytesPerNode = 64.0;
+constexpr double kBytesPerEdge = 32.0;
+
+std::string gigabytes(double bytes) {
+  char buf[32];
+  std::snprintf(buf, sizeof buf, "%.1f GB", bytes / 1e9);
+  return buf;
+}
+
 std::string number_text(double v) {
   char buf[32];
   std::snprintf(buf, sizeof buf, "%.17g", v);
@@ -24,7 +40,8 @@ std::string number_text(double v) {
 // the line or edge for messages.
 class EdgeCollector {
  public:
-  EdgeCollector(const EdgeListOptions& o, EdgeList& out) : options_(o), out_(out) {}
+  EdgeCollector(const EdgeListOptions& o, EdgeList& out, std::string source)
+      : options_(o), out_(out), source_(std::move(source)) {}
 
   void add(double i, double j, double len, const std::string& where) {
     const NodeId a = id(i, "i", where), b = id(j, "j", where);
@@ -47,7 +64,20 @@ class EdgeCollector {
     any_ = true;
   }
 
-  void finish() { out_.nodes = options_.nodes ? options_.nodes : (any_ ? largest_ + 1 : 0); }
+  // The node count comes from the largest id: one stray id of 2^31 means two billion nodes.
+  // Refuse before the engine allocates per-node arrays that cannot fit.
+  void finish() {
+    out_.nodes = options_.nodes ? options_.nodes : (any_ ? largest_ + 1 : 0);
+    const double need = static_cast<double>(out_.nodes) * kBytesPerNode +
+                        static_cast<double>(out_.from.size()) * kBytesPerEdge;
+    const long pages = sysconf(_SC_PHYS_PAGES), page_size = sysconf(_SC_PAGE_SIZE);
+    const double have = static_cast<double>(pages) * static_cast<double>(page_size);
+    if (pages > 0 && page_size > 0 && need > have)
+      throw ResourceError(
+          source_ + ": node ids up to " + std::to_string(out_.nodes - 1) + " make a graph of " +
+          std::to_string(out_.nodes) + " nodes, which needs about " + gigabytes(need) +
+          " to embed, more than this machine's " + gigabytes(have) + "; renumber the ids 0..n-1");
+  }
 
  private:
   NodeId id(double v, const char* which, const std::string& where) const {
@@ -66,25 +96,30 @@ class EdgeCollector {
 
   const EdgeListOptions& options_;
   EdgeList& out_;
+  std::string source_;
   std::size_t largest_ = 0;
   bool any_ = false;
 };
 
 EdgeList read_csv(const std::filesystem::path& path, const EdgeListOptions& o) {
   EdgeList out;
-  EdgeCollector edges(o, out);
+  EdgeCollector edges(o, out, path.string());
   detail::LineReader lines(path);
   std::vector<std::string_view> fields;
   std::string_view line;
   bool first = true;
+  char delimiter = 0;
+  double ignored = 0;
   while (lines.next(line)) {
     if ((lines.line_number() & 0xfffff) == 0) o.stop.check("reading an edge list");
     if (detail::skippable(line)) continue;
-    detail::split_fields(line, fields);
+    if (delimiter == 0) delimiter = detail::sniff_delimiter(line);
+    detail::split_fields(line, delimiter, fields);
     const std::string where = path.string() + ": line " + std::to_string(lines.line_number());
     if (first) {
       first = false;
-      if (!fields.empty() && !detail::parse_double(fields[0])) {
+      if (!fields.empty() &&
+          detail::parse_number(fields[0], ignored) == detail::Number::not_number) {
         if (fields.size() != 3)
           throw DataError(where + ": header has " + std::to_string(fields.size()) +
                           " fields, expected 3 (i, j, length)");
@@ -96,11 +131,13 @@ EdgeList read_csv(const std::filesystem::path& path, const EdgeListOptions& o) {
                       std::to_string(fields.size()));
     double v[3];
     for (int k = 0; k < 3; ++k) {
-      const auto parsed = detail::parse_double(fields[static_cast<std::size_t>(k)]);
-      if (!parsed)
+      const std::string_view field = fields[static_cast<std::size_t>(k)];
+      const detail::Number parsed = detail::parse_number(field, v[k]);
+      if (parsed != detail::Number::ok)
         throw DataError(where + ": field " + std::to_string(k + 1) + " '" +
-                        std::string(fields[static_cast<std::size_t>(k)]) + "' is not a number");
-      v[k] = *parsed;
+                        detail::printable(field) +
+                        (parsed == detail::Number::too_large ? "' lies outside the float64 range"
+                                                             : "' is not a number"));
     }
     edges.add(v[0], v[1], v[2], where);
   }
@@ -139,7 +176,7 @@ EdgeList read_hdf5(const std::filesystem::path& path, const EdgeListOptions& o) 
                       " entries; they must match");
   }
   EdgeList out;
-  EdgeCollector edges(o, out);
+  EdgeCollector edges(o, out, path.string());
   const std::string source =
       path.string() + ": " + (o.table_dataset.empty() ? o.i_dataset : o.table_dataset) + ": edge ";
   for (std::size_t k = 0; k < i.size(); ++k) {
@@ -166,9 +203,15 @@ void EdgeListOptions::validate() const {
 
 EdgeList read_edge_list(const std::filesystem::path& path, const EdgeListOptions& options) {
   options.validate();
-  return detail::resolve_format(options.format, path) == GraphInputFormat::hdf5
-             ? read_hdf5(path, options)
-             : read_csv(path, options);
+  switch (detail::resolve_format(options.format, path)) {
+    case GraphInputFormat::hdf5:
+      return read_hdf5(path, options);
+    case GraphInputFormat::npy:
+      throw DataError(path.string() +
+                      ": holds an NPY array; edge lists are read from CSV text or HDF5");
+    default:
+      return read_csv(path, options);
+  }
 }
 
 }  // namespace unfurl::io

@@ -95,15 +95,17 @@ FileDescription describe_file(const std::filesystem::path& file, const std::stri
   return out;
 }
 
-std::vector<ColumnStats> column_stats(const PointSet& points) {
+std::vector<ColumnStats> column_stats(const PointSet& points, const std::vector<double>& centres) {
   std::vector<ColumnStats> stats(points.cols);
   if (points.rows == 0) return stats;
   std::vector<double> sums(points.cols, 0.0);
-  for (std::size_t j = 0; j < points.cols; ++j) stats[j].min = stats[j].max = points.row(0)[j];
+  auto value = [&](std::size_t i, std::size_t j) {
+    return static_cast<double>(points.row(i)[j]) + (centres.empty() ? 0.0 : centres[j]);
+  };
+  for (std::size_t j = 0; j < points.cols; ++j) stats[j].min = stats[j].max = value(0, j);
   for (std::size_t i = 0; i < points.rows; ++i) {
-    const float* row = points.row(i);
     for (std::size_t j = 0; j < points.cols; ++j) {
-      const double v = row[j];
+      const double v = value(i, j);
       if (v < stats[j].min) stats[j].min = v;
       if (v > stats[j].max) stats[j].max = v;
       sums[j] += v;

@@ -53,6 +53,9 @@ struct ColumnStats {
 };
 
 // One entry per column of `points` (which read_points left free of NaN/inf).
-std::vector<ColumnStats> column_stats(const PointSet& points);
+// `centres`: the column centres read_points subtracted (PointReadResult::centres), added back
+// so that the figures are those of the values as read; empty: none.
+std::vector<ColumnStats> column_stats(const PointSet& points,
+                                      const std::vector<double>& centres = {});
 
 }  // namespace unfurl::io

@@ -3,9 +3,12 @@
 // and the line, edge or matrix entry at fault.
 //
 // Edge list: one undirected edge per line or entry, (i, j, length).
-//   CSV: three fields per line, separated by commas or by blanks; lines starting with '#' and
-//   blank lines are skipped; one header line (first field not a number) is allowed before
-//   the first edge. Node ids are 0-based integers (written as "12" or "12.0").
+//   CSV: three fields per line, read by the delimited-text reader of the point sets
+//   (io/detail/text_lines.hpp: delimiter sniffed from the first content line, '#' comments,
+//   blank lines, byte order mark, number parsing and refusals alike); one header line
+//   (first field not a number) is allowed before the first edge. Node ids are 0-based
+//   integers (written as "12" or "12.0"). The node count (largest id + 1) is checked against
+//   this machine's memory before anything is allocated for it (ResourceError: renumber).
 //   HDF5: three 1-D datasets of E entries (default /edges/i, /edges/j, /edges/length), or
 //   one E x 3 dataset (table_dataset); integer or floating-point storage.
 //   Checked: lengths finite and >= 0; ids integral, >= 0, below the node count (when given)
@@ -14,7 +17,8 @@
 //   error (a point cannot be away from itself). Repeated edges are passed on as they are.
 //
 // Partial distance matrix: N x N, from HDF5 (dataset), CSV (N lines of N fields) or NPY
-// (float32/float64, C order). Missing entries are NaN (in CSV also an empty field) or a
+// (the point sets' NPY reader, io/detail/npy_array.hpp: any float or integer type, either
+// byte order, C or Fortran order). Missing entries are NaN (in CSV also an empty field) or a
 // given sentinel value; they come back as NaN. Checked: square; entries finite and >= 0
 // unless missing; diagonal 0 (a missing diagonal entry is taken as 0); symmetric within a
 // relative tolerance (a pair present on one side only is asymmetric). Pairs within the
@@ -33,7 +37,8 @@
 namespace unfurl::io {
 
 enum class GraphInputFormat {
-  automatic,  // by extension: .h5 .hdf5 .he5 -> hdf5, .npy -> npy, anything else -> csv
+  automatic,  // by the file's signature (HDF5, NPY), else by extension: .h5 .hdf5 .he5 ->
+              // hdf5, .npy -> npy, anything else -> csv
   csv,
   hdf5,
   npy,  // distance matrices only

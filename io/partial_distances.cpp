@@ -4,7 +4,7 @@
 
 #include "engine/error.hpp"
 #include "io/detail/graph_input_format.hpp"
-#include "io/detail/npy_matrix.hpp"
+#include "io/detail/npy_array.hpp"
 #include "io/detail/text_lines.hpp"
 #include "io/graph_input.hpp"
 #include "io/hdf5_file.hpp"
@@ -24,6 +24,13 @@ std::string entry(std::size_t i, std::size_t j) {
   return "entry (" + std::to_string(i) + ", " + std::to_string(j) + ")";
 }
 
+// Distances are float32; a finite value beyond its range is an error, never clipped.
+float to_float(double v, const std::string& where) {
+  if (std::isfinite(v) && std::abs(v) > std::numeric_limits<float>::max())
+    throw DataError(where + ": " + std::to_string(v) + " does not fit float32");
+  return static_cast<float>(v);
+}
+
 struct Matrix {
   std::size_t rows = 0, cols = 0;
   std::vector<float> values;
@@ -34,10 +41,12 @@ Matrix read_csv(const std::filesystem::path& path, const StopToken& stop) {
   detail::LineReader lines(path);
   std::vector<std::string_view> fields;
   std::string_view line;
+  char delimiter = 0;
   while (lines.next(line)) {
     if ((lines.line_number() & 0xff) == 0) stop.check("reading a distance matrix");
     if (detail::skippable(line)) continue;
-    detail::split_fields(line, fields);
+    if (delimiter == 0) delimiter = detail::sniff_delimiter(line);
+    detail::split_fields(line, delimiter, fields);
     const std::string where = path.string() + ": line " + std::to_string(lines.line_number());
     if (m.rows == 0) {
       m.cols = fields.size();
@@ -50,19 +59,35 @@ Matrix read_csv(const std::filesystem::path& path, const StopToken& stop) {
         m.values.push_back(nan_value);  // an empty field is a missing entry
         continue;
       }
-      const auto v = detail::parse_double(fields[c]);
-      if (!v)
-        throw DataError(where + ": field " + std::to_string(c + 1) + " '" + std::string(fields[c]) +
-                        "' is not a number");
-      if (std::isfinite(*v) && std::abs(*v) > std::numeric_limits<float>::max())
-        throw DataError(where + ": field " + std::to_string(c + 1) + " does not fit float32");
-      m.values.push_back(static_cast<float>(*v));
+      double v = 0;
+      const detail::Number parsed = detail::parse_number(fields[c], v);
+      if (parsed != detail::Number::ok)
+        throw DataError(where + ": field " + std::to_string(c + 1) + " '" +
+                        detail::printable(fields[c]) +
+                        (parsed == detail::Number::too_large ? "' lies outside the float64 range"
+                                                             : "' is not a number"));
+      m.values.push_back(to_float(v, where + ": field " + std::to_string(c + 1)));
     }
     ++m.rows;
     if (m.rows > m.cols)
       throw DataError(where + ": more rows than the " + std::to_string(m.cols) +
                       " columns; the matrix must be square");
   }
+  return m;
+}
+
+Matrix read_npy(const std::filesystem::path& path, const StopToken& stop) {
+  const std::string name = path.string();
+  detail::NpyArray a = detail::open_npy(path, name);
+  if (a.header.shape.size() != 2)
+    throw DataError(name + ": NPY array is 1-D; a distance matrix is N x N");
+  if (a.rows != a.cols)
+    throw DataError(name + ": distance matrix is " + std::to_string(a.rows) + " x " +
+                    std::to_string(a.cols) + ", not square");
+  Matrix m{a.rows, a.cols, std::vector<float>(a.rows * a.cols)};
+  detail::read_npy_rows(a, 0, a.rows, stop, name, [&](std::size_t i, std::size_t j, double v) {
+    m.values[i * m.cols + j] = to_float(v, name + ": " + entry(i, j));
+  });
   return m;
 }
 
@@ -93,11 +118,9 @@ PartialDistances read_partial_distances(const std::filesystem::path& path,
     case GraphInputFormat::hdf5:
       m = read_hdf5(path, o.dataset, o.stop);
       break;
-    case GraphInputFormat::npy: {
-      auto npy = detail::read_npy_matrix(path);
-      m = {npy.rows, npy.cols, std::move(npy.values)};
+    case GraphInputFormat::npy:
+      m = read_npy(path, o.stop);
       break;
-    }
     default:
       m = read_csv(path, o.stop);
   }

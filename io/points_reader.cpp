@@ -57,7 +57,10 @@ void handle_nonfinite(PointReadResult& result, std::size_t first_row, bool drop,
       result.dropped_rows.push_back(static_cast<std::int64_t>(first_row + i));
       continue;
     }
-    if (kept != i) std::copy(row, row + p.cols, p.row(kept));
+    if (kept != i) {
+      std::copy(row, row + p.cols, p.row(kept));
+      if (!p.row_keys.empty()) p.row_keys[kept] = p.row_keys[i];
+    }
     result.rows.push_back(static_cast<std::int64_t>(first_row + i));
     ++kept;
   }
@@ -74,6 +77,7 @@ void handle_nonfinite(PointReadResult& result, std::size_t first_row, bool drop,
   result.nonfinite_values = bad_values;
   p.rows = kept;
   p.values.resize(kept * p.cols);
+  if (!p.row_keys.empty()) p.row_keys.resize(kept);
 }
 
 }  // namespace
@@ -102,6 +106,9 @@ void PointReadOptions::validate() const {
     throw OptionError("--rows: '" + to_string(*rows) + "' is empty (A must be less than B)");
   if (!dataset.empty() && !format.empty() && format != "hdf5")
     throw OptionError("--dataset: only HDF5 files hold datasets, not " + format + " files");
+  if (centres &&
+      std::any_of(centres->begin(), centres->end(), [](double c) { return !std::isfinite(c); }))
+    throw DataError("/input/centres: holds a value that is not finite");
 }
 
 std::string detect_point_format(const std::filesystem::path& file, const std::string& requested) {
@@ -110,17 +117,10 @@ std::string detect_point_format(const std::filesystem::path& file, const std::st
   if (std::filesystem::is_directory(file, ec))
     throw MissingInputError(file.string() + ": is a folder, not a point file");
   if (!requested.empty()) return requested;
-  std::array<char, 8> magic{};
-  std::ifstream in(file, std::ios::binary);
-  if (!in) throw MissingInputError(file.string() + ": cannot be opened for reading");
-  in.read(magic.data(), magic.size());
-  const auto got = static_cast<std::size_t>(in.gcount());
-  // Signatures: HDF5 file format specification, "Format Signature"; NPY format
-  // (numpy.lib.format, NEP 1): "\x93NUMPY".
-  static constexpr char hdf5_magic[] = "\x89HDF\r\n\x1a\n";
-  static constexpr char npy_magic[] = "\x93NUMPY";
-  if (got >= 8 && std::equal(magic.begin(), magic.end(), hdf5_magic)) return "hdf5";
-  if (got >= 6 && std::equal(magic.begin(), magic.begin() + 6, npy_magic)) return "npy";
+  if (std::ifstream probe(file, std::ios::binary); !probe)
+    throw MissingInputError(file.string() + ": cannot be opened for reading");
+  if (std::string by_content = detail::format_by_signature(file); !by_content.empty())
+    return by_content;
   const std::string ext = lower_extension(file);
   if (ext == ".h5" || ext == ".hdf5" || ext == ".hdf" || ext == ".he5") return "hdf5";
   if (ext == ".npy") return "npy";
@@ -152,6 +152,20 @@ PointReadResult read_points(const std::filesystem::path& file, const PointReadOp
 }
 
 namespace detail {
+
+std::string format_by_signature(const std::filesystem::path& file) {
+  std::array<char, 8> magic{};
+  std::ifstream in(file, std::ios::binary);
+  in.read(magic.data(), magic.size());
+  const auto got = static_cast<std::size_t>(in.gcount());
+  // Signatures: HDF5 file format specification, "Format Signature"; NPY format
+  // (numpy.lib.format, NEP 1): "\x93NUMPY".
+  static constexpr char hdf5_magic[] = "\x89HDF\r\n\x1a\n";
+  static constexpr char npy_magic[] = "\x93NUMPY";
+  if (got >= 8 && std::equal(magic.begin(), magic.end(), hdf5_magic)) return "hdf5";
+  if (got >= 6 && std::equal(magic.begin(), magic.begin() + 6, npy_magic)) return "npy";
+  return "";
+}
 
 RowWindow resolve_rows(const std::optional<RowRange>& range, std::size_t file_rows,
                        const std::string& where) {
@@ -189,18 +203,75 @@ PointSet allocate_points(std::size_t rows, std::size_t cols, const std::string& 
   }
 }
 
-std::string printable(std::string_view text, std::size_t limit) {
-  std::string out;
-  for (char c : text.substr(0, limit)) out += (c >= 0x20 && c < 0x7f) ? c : '?';
-  if (text.size() > limit) out += "...";
-  return out;
+PointNarrowing::PointNarrowing(PointSet& points,
+                               const std::optional<std::vector<double>>& fixed_centres,
+                               std::string where)
+    : points_(points),
+      cols_(points.cols),
+      fixed_(fixed_centres.has_value()),
+      columns_(points.cols),
+      keys_(points.rows, 0xcbf29ce484222325ull),  // FNV-1a offset basis (FNV spec)
+      where_(std::move(where)) {
+  if (!fixed_) return;
+  if (fixed_centres->size() != cols_)
+    throw DataError(where_ + ": has " + std::to_string(cols_) + " columns, the map's " +
+                    "/input/centres records " + std::to_string(fixed_centres->size()));
+  for (std::size_t j = 0; j < cols_; ++j) {
+    columns_[j].has_centre = true;
+    columns_[j].centre = (*fixed_centres)[j];
+    columns_[j].min = std::numeric_limits<double>::infinity();
+    columns_[j].max = -std::numeric_limits<double>::infinity();
+  }
 }
 
-float narrow_to_float(double value, const std::string& where) {
+void PointNarrowing::grow(std::size_t rows) {
+  points_.rows = rows;
+  points_.values.resize(rows * cols_);
+  keys_.resize(rows, 0xcbf29ce484222325ull);
+}
+
+float PointNarrowing::narrow(double centred, std::size_t file_row, std::size_t col) const {
   constexpr double max = std::numeric_limits<float>::max();
-  if (std::isfinite(value) && (value > max || value < -max))
-    throw DataError(where + ": value " + std::to_string(value) + " lies outside the float32 range");
-  return static_cast<float>(value);
+  if (std::isfinite(centred) && (centred > max || centred < -max))
+    throw DataError(where_ + ": row " + std::to_string(file_row) + " column " +
+                    std::to_string(col) + " (0-based) lies " + std::to_string(centred) +
+                    " from its column's centre, outside the float32 range");
+  return static_cast<float>(centred);
+}
+
+void PointNarrowing::finish(PointReadResult& result) {
+  std::vector<double> shift(cols_, 0.0);
+  result.centres.assign(cols_, 0.0);
+  for (std::size_t j = 0; j < cols_; ++j) {
+    const Column& c = columns_[j];
+    if (!fixed_ && c.count > 0) shift[j] = c.sum / static_cast<double>(c.count);
+    result.centres[j] = c.centre + shift[j];
+  }
+  if (std::any_of(shift.begin(), shift.end(), [](double s) { return s != 0.0; }))
+    for (std::size_t i = 0; i < points_.rows; ++i) {
+      float* row = points_.row(i);
+      for (std::size_t j = 0; j < cols_; ++j)
+        row[j] = narrow(static_cast<double>(row[j]) - shift[j], i, j);
+    }
+  // A column whose values differ by less than one float32 step at its largest centred value
+  // reads as constant: its differences are lost even after centring.
+  std::string lost;
+  for (std::size_t j = 0; j < cols_; ++j) {
+    const Column& c = columns_[j];
+    if (c.count == 0 || !(c.max > c.min)) continue;
+    const auto largest = static_cast<float>(
+        std::max(std::fabs(c.max - result.centres[j]), std::fabs(c.min - result.centres[j])));
+    const float step = std::nextafter(largest, std::numeric_limits<float>::infinity()) - largest;
+    if (c.max - c.min < static_cast<double>(step)) {
+      lost += (lost.empty() ? "" : ", ") + std::to_string(j);
+      if (j < result.column_names.size()) lost += " ('" + printable(result.column_names[j]) + "')";
+    }
+  }
+  if (!lost.empty())
+    result.warnings.push_back(where_ + ": column(s) " + lost +
+                              " (0-based) vary by less than float32 resolution even after "
+                              "centring; their differences are lost");
+  points_.row_keys = std::move(keys_);
 }
 
 }  // namespace detail

@@ -6,8 +6,12 @@
 //   are not rows); --rows A:B is half-open, like the row indices in PointReadResult::rows.
 // - CSV line and column numbers in messages are 1-based, as text editors and spreadsheets
 //   show them.
-// - Every value is converted to float32; a finite value outside the float32 range is an
-//   error, never silently clipped.
+// - Every value is read in double, its column's centre is subtracted, and only then is it
+//   narrowed to float32 (io/detail/point_formats.hpp, PointNarrowing): offsets such as 1e6 m
+//   or 1.7e9 s keep their digits. The centres are part of the result (a map records them as
+//   /input/centres). A centred value outside the float32 range is an error, never clipped.
+// - Every kept row carries a 64-bit key of its values as read (PointSet::row_keys), so that
+//   rows equal only after narrowing are never merged as duplicates.
 // - A 1-D NPY array is read as N rows of one column; HDF5 datasets must be 2-D (their 1-D
 //   datasets are usually labels, and the default dataset is the only 2-D numeric one).
 // - Files are untrusted: shapes and types are checked before any data is read, and damaged
@@ -45,6 +49,8 @@ struct PointReadOptions {
   bool drop_nonfinite = false;   // drop rows holding NaN/inf instead of failing
   std::string format;            // "", "hdf5", "csv", "tsv", "npy"; empty: magic bytes/extension
   StopToken stop;                // polled between blocks of rows (InterruptedError)
+  // Subtract these column centres (a map's /input/centres) instead of the rows' own mean.
+  std::optional<std::vector<double>> centres;
 
   // Throws OptionError naming the field ("--format: ...", "--rows: ...").
   void validate() const;
@@ -60,6 +66,8 @@ struct PointReadResult {
   std::string source_type;                 // stored type: "float64", "int16", "text", ...
   std::vector<std::string> column_names;   // CSV header if any
   std::size_t file_rows = 0;               // rows the file holds (before --rows and drops)
+  std::vector<double> centres;             // per column, subtracted in double before narrowing
+  std::vector<std::string> warnings;       // e.g. columns that lose their spread in float32
   double read_seconds = 0;                 // wall time of the read
 };
 

@@ -40,6 +40,8 @@ DuplicateGroups find_duplicates(const PointSet& points, StopToken stop) {
   std::vector<std::size_t> first(n);
   for (std::size_t i = 0; i < n; ++i) first[i] = i;
   std::vector<std::size_t> firsts;  // distinct rows met so far in the current run
+  const bool keyed = points.row_keys.size() == n;
+  std::size_t equal_after_narrowing = 0;
   for (std::size_t b = 0; b < n;) {
     std::size_t e = b + 1;
     while (e < n && keys[e].first == keys[b].first) ++e;
@@ -47,17 +49,23 @@ DuplicateGroups find_duplicates(const PointSet& points, StopToken stop) {
     firsts.assign(1, keys[b].second);
     for (std::size_t i = b + 1; i < e; ++i) {
       const std::size_t r = keys[i].second;
+      bool equal_floats = false;
       const auto match = std::find_if(firsts.begin(), firsts.end(), [&](std::size_t s) {
-        return same_row(points.row(r), points.row(s), d);
+        if (!same_row(points.row(r), points.row(s), d)) return false;
+        equal_floats = true;
+        return !keyed || points.row_keys[r] == points.row_keys[s];
       });
-      if (match != firsts.end())
+      if (match != firsts.end()) {
         first[r] = *match;
-      else
+      } else {
         firsts.push_back(r);
+        if (equal_floats) ++equal_after_narrowing;
+      }
     }
     b = e;
   }
   DuplicateGroups g;
+  g.equal_after_narrowing = equal_after_narrowing;
   g.node_of_point.resize(n);
   std::vector<std::size_t> copies;
   for (std::size_t i = 0; i < n; ++i) {

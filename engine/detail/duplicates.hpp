@@ -1,4 +1,5 @@
-// Exact duplicate rows (equal in every coordinate; -0 equals +0). Internal to the graph stage.
+// Exact duplicate rows (equal in every coordinate; -0 equals +0, and equal row keys when the
+// points carry them: rows that differ as read are never merged). Internal to the graph stage.
 #pragma once
 
 #include <cstddef>
@@ -14,6 +15,7 @@ struct DuplicateGroups {
   std::vector<std::size_t> point_of_node;  // group -> its first (smallest) row
   std::size_t groups_with_copies = 0;      // groups of two or more rows
   std::size_t extra_rows = 0;              // rows beyond the first of each group
+  std::size_t equal_after_narrowing = 0;   // rows equal to an earlier row only in float32
 };
 
 DuplicateGroups find_duplicates(const PointSet& points, StopToken stop);

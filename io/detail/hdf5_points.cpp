@@ -131,6 +131,9 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
   if (!dxpl || H5Pset_type_conv_cb(dxpl.get(), on_conversion_exception, &conversion) < 0)
     throw IoError(where + ": cannot set up the HDF5 transfer");
 
+  // Read in double so that the shared narrowing step centres before rounding to float32.
+  PointNarrowing narrowing(result.points, options.centres, where);
+  std::vector<double> values;
   for (hsize_t r = w.begin; r < w.end;) {
     options.stop.check("reading points");
     const hsize_t stop = std::min<hsize_t>(w.end, (r / block + 1) * block);
@@ -141,16 +144,21 @@ void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions&
         H5Sselect_hyperslab(space.get(), H5S_SELECT_SET, start, nullptr, count, nullptr) < 0)
       throw IoError(where + ": cannot select rows " + std::to_string(r) + ":" +
                     std::to_string(stop));
-    float* out = result.points.row(static_cast<std::size_t>(r - w.begin));
-    if (H5Dread(d.get(), H5T_NATIVE_FLOAT, mem.get(), space.get(), dxpl.get(), out) < 0) {
+    values.resize(static_cast<std::size_t>(count[0]) * cols);
+    if (H5Dread(d.get(), H5T_NATIVE_DOUBLE, mem.get(), space.get(), dxpl.get(), values.data()) <
+        0) {
       if (conversion.out_of_range)
         throw DataError(where + ": rows " + std::to_string(r) + ":" + std::to_string(stop) +
                         " hold a value outside the float32 range");
       throw IoError(where + ": reading rows " + std::to_string(r) + ":" + std::to_string(stop) +
                     " failed (truncated or corrupt file)");
     }
+    for (std::size_t i = 0; i < count[0]; ++i)
+      for (std::size_t j = 0; j < cols; ++j)
+        narrowing.put(r - w.begin + i, j, values[i * cols + j], r + i);
     r = stop;
   }
+  narrowing.finish(result);
 }
 
 }  // namespace unfurl::io::detail

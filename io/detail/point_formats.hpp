@@ -3,8 +3,11 @@
 // for the rows of options.rows; read_points then handles non-finite rows and row indices.
 #pragma once
 
+#include <algorithm>
+#include <cmath>
 #include <cstddef>
 #include <cstdint>
+#include <cstring>
 #include <filesystem>
 #include <istream>
 #include <optional>
@@ -12,9 +15,15 @@
 #include <string_view>
 #include <vector>
 
+#include "io/detail/npy_array.hpp"
+#include "io/detail/text_lines.hpp"
 #include "io/points_reader.hpp"
 
 namespace unfurl::io::detail {
+
+// "hdf5" or "npy" when the file starts with that format's signature, else "" (also when
+// the file cannot be read: its reader then says why).
+std::string format_by_signature(const std::filesystem::path& file);
 
 // A row range checked against the rows a file holds: [begin, end), begin < end.
 struct RowWindow {
@@ -31,24 +40,65 @@ RowWindow resolve_rows(const std::optional<RowRange>& range, std::size_t file_ro
 // allocation fails (a crafted header can claim any shape).
 PointSet allocate_points(std::size_t rows, std::size_t cols, const std::string& where);
 
-// Float32 from a stored double; throws DataError naming `where` when a finite value lies
-// outside the float32 range (NaN and inf pass through for the non-finite check).
-float narrow_to_float(double value, const std::string& where);
+// The one conversion step of every point reader: values as read (in double) become
+// float32 points minus per-column centres, so that an offset (1e6 m, 1.7e9 s) does not eat
+// the float32 mantissa. One pass: each column's provisional centre is its first finite
+// value; the exact mean of the differences is accumulated in double and shifted out at the
+// end, so the recorded centre is provisional + mean. With fixed centres (a map's record),
+// those are subtracted instead. Every row also gets a 64-bit key of its values as read, so
+// that rows equal only after narrowing are not taken for duplicates.
+// Values of a row must arrive in increasing column order (any row order).
+class PointNarrowing {
+ public:
+  PointNarrowing(PointSet& points, const std::optional<std::vector<double>>& fixed_centres,
+                 std::string where);
+  // Stores `value` (row and column of points, 0-based) minus its column's centre.
+  // `file_row` names the value in the out-of-range message.
+  void put(std::size_t row, std::size_t col, double value, std::size_t file_row) {
+    const double centred = value - provisional(col, value);
+    points_.values[row * cols_ + col] = narrow(centred, file_row, col);
+    if (std::isfinite(value)) {
+      Column& c = columns_[col];
+      c.sum += centred;
+      ++c.count;
+      c.min = std::min(c.min, value);
+      c.max = std::max(c.max, value);
+    }
+    const double key_value = value + 0.0;  // -0 and +0 key alike
+    std::uint64_t bits = 0;
+    std::memcpy(&bits, &key_value, sizeof bits);
+    keys_[row] = (keys_[row] ^ bits) * 0x100000001b3ull;  // FNV-1a step (FNV spec)
+  }
+  // Makes room for `rows` rows in all (for readers that do not know the count up front).
+  void grow(std::size_t rows);
+  // Shifts by the mean difference; fills result.centres, result.warnings and
+  // result.points.row_keys (the points must be the ones given to the constructor).
+  void finish(PointReadResult& result);
 
-// The header of an NPY file (numpy.lib.format, NEP 1), checked to describe plain numbers.
-struct NpyHeader {
-  unsigned major = 0, minor = 0;  // format version
-  char kind = 0;                  // 'f', 'i', 'u'
-  std::size_t item = 0;           // bytes per value
-  bool swap = false;              // file byte order differs from this machine's
-  bool fortran = false;           // column-major data
-  std::vector<std::size_t> shape;
-  std::uint64_t data_offset = 0;  // first data byte
-  std::string descr;              // as written, e.g. "<f8"
-  std::string type_name() const;  // "float64", "uint8", ...
+ private:
+  struct Column {
+    bool has_centre = false;
+    double centre = 0, sum = 0, min = 0, max = 0;
+    std::size_t count = 0;
+  };
+  double provisional(std::size_t col, double value) {
+    Column& c = columns_[col];
+    if (!c.has_centre && std::isfinite(value)) {
+      c.has_centre = true;
+      c.centre = value;
+      c.min = c.max = value;
+    }
+    return c.centre;
+  }
+  float narrow(double centred, std::size_t file_row, std::size_t col) const;
+
+  PointSet& points_;
+  std::size_t cols_;
+  bool fixed_;
+  std::vector<Column> columns_;
+  std::vector<std::uint64_t> keys_;
+  std::string where_;
 };
-// Throws IoError (truncated, no signature) or DataError (unsupported dtype or version).
-NpyHeader read_npy_header(std::istream& in, std::uint64_t file_size, const std::string& where);
 
 // What the first lines of a text point file say, and how many data lines follow.
 struct TextLayout {
@@ -58,10 +108,6 @@ struct TextLayout {
   std::size_t data_rows = 0;              // content lines after the header
 };
 TextLayout scan_text_layout(const std::filesystem::path& file, const std::string& format);
-
-// File text quoted in a message: at most `limit` bytes, anything but printable ASCII as '?',
-// so that a damaged file cannot break the one-line message.
-std::string printable(std::string_view text, std::size_t limit = 40);
 
 void read_hdf5_points(const std::filesystem::path& file, const PointReadOptions& options,
                       PointReadResult& result);

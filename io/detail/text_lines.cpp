@@ -1,9 +1,11 @@
 #include "io/detail/text_lines.hpp"
 
+#include <algorithm>
 #include <cerrno>
 #include <charconv>
+#include <cmath>
+#include <cstdlib>
 #include <cstring>
-#include <limits>
 
 #include "engine/error.hpp"
 
@@ -34,6 +36,19 @@ bool LineReader::refill() {
   return got > 0;
 }
 
+void LineReader::check(std::string_view& line) {
+  if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+  // A UTF-8 byte order mark (as some spreadsheet programs write) is not part of the text.
+  if (number_ == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);
+  if (std::memchr(line.data(), '\0', line.size()))
+    throw DataError(path_.string() + ": line " + std::to_string(number_) +
+                    " holds a NUL byte (binary data, not text)");
+  if (std::memchr(line.data(), '\r', line.size()))
+    throw DataError(path_.string() + ": line " + std::to_string(number_) +
+                    " holds a carriage return inside the line (CR-only line ends?); lines must "
+                    "end in \\n or \\r\\n");
+}
+
 bool LineReader::next(std::string_view& line) {
   carry_.clear();
   for (;;) {
@@ -53,7 +68,7 @@ bool LineReader::next(std::string_view& line) {
         carry_.append(start, len);
         line = carry_;
       }
-      if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+      check(line);
       return true;
     }
     carry_.append(start, end_ - begin_);
@@ -61,7 +76,7 @@ bool LineReader::next(std::string_view& line) {
   }
   ++number_;
   line = carry_;
-  if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+  check(line);
   return true;
 }
 
@@ -71,48 +86,67 @@ std::string_view trim(std::string_view s) {
   return s;
 }
 
+std::string printable(std::string_view text, std::size_t limit) {
+  std::string out;
+  for (char c : text.substr(0, limit)) out += (c >= 0x20 && c < 0x7f) ? c : '?';
+  if (text.size() > limit) out += "...";
+  return out;
+}
+
 bool skippable(std::string_view line) {
   const std::string_view t = trim(line);
   return t.empty() || t.front() == '#';
 }
 
-void split_fields(std::string_view line, std::vector<std::string_view>& fields) {
+char sniff_delimiter(std::string_view line) {
+  const std::pair<char, long> counts[] = {{'\t', std::count(line.begin(), line.end(), '\t')},
+                                          {',', std::count(line.begin(), line.end(), ',')},
+                                          {';', std::count(line.begin(), line.end(), ';')}};
+  const auto best = std::max_element(
+      counts, counts + 3, [](const auto& a, const auto& b) { return a.second < b.second; });
+  return best->second > 0 ? best->first : kBlankRuns;
+}
+
+void split_fields(std::string_view line, char delimiter, std::vector<std::string_view>& fields) {
   fields.clear();
-  if (line.find(',') != std::string_view::npos) {
-    std::size_t start = 0;
-    for (;;) {
-      const std::size_t comma = line.find(',', start);
-      fields.push_back(trim(line.substr(start, comma - start)));
-      if (comma == std::string_view::npos) break;
-      start = comma + 1;
+  if (delimiter == kBlankRuns) {
+    std::size_t i = 0;
+    while (true) {
+      while (i < line.size() && (line[i] == ' ' || line[i] == '\t')) ++i;
+      if (i >= line.size()) return;
+      const std::size_t start = i;
+      while (i < line.size() && line[i] != ' ' && line[i] != '\t') ++i;
+      fields.push_back(line.substr(start, i - start));
     }
-    return;
   }
-  std::size_t i = 0;
-  while (i < line.size()) {
-    while (i < line.size() && (line[i] == ' ' || line[i] == '\t')) ++i;
-    const std::size_t start = i;
-    while (i < line.size() && line[i] != ' ' && line[i] != '\t') ++i;
-    if (i > start) fields.push_back(line.substr(start, i - start));
+  std::size_t start = 0;
+  while (true) {
+    const std::size_t at = line.find(delimiter, start);
+    fields.push_back(trim(line.substr(start, at == std::string_view::npos ? at : at - start)));
+    if (at == std::string_view::npos) return;
+    start = at + 1;
   }
 }
 
-std::optional<double> parse_double(std::string_view field) {
-  if (field.empty()) return std::nullopt;
-  if (field.front() == '+') field.remove_prefix(1);  // from_chars refuses a leading '+'
-  double v = 0.0;
-  const auto r = std::from_chars(field.data(), field.data() + field.size(), v);
-  if (r.ec == std::errc::result_out_of_range) {
-    // Too large for a double: an infinity of the right sign (then refused by the caller);
-    // too small: zero.
-    const bool negative = field.front() == '-';
-    const std::size_t e = field.find_first_of("eE");
-    const bool huge = e == std::string_view::npos || e + 1 >= field.size() || field[e + 1] != '-';
-    const double inf = std::numeric_limits<double>::infinity();
-    return huge ? (negative ? -inf : inf) : 0.0;
+std::string_view unquote(std::string_view s) {
+  if (s.size() >= 2 && s.front() == '"' && s.back() == '"') return s.substr(1, s.size() - 2);
+  return s;
+}
+
+Number parse_number(std::string_view s, double& value) {
+  s = unquote(s);
+  if (!s.empty() && s.front() == '+') s.remove_prefix(1);  // from_chars refuses a '+'
+  if (s.empty()) return Number::not_number;
+  const auto [end, ec] = std::from_chars(s.data(), s.data() + s.size(), value);
+  if (end != s.data() + s.size()) return Number::not_number;
+  if (ec == std::errc::result_out_of_range) {
+    // from_chars leaves the value alone; strtod tells overflow (HUGE_VAL, an error) from
+    // underflow (the nearest subnormal or zero, a value like any other).
+    const std::string copy(s);
+    value = std::strtod(copy.c_str(), nullptr);
+    return std::isinf(value) ? Number::too_large : Number::ok;
   }
-  if (r.ec != std::errc() || r.ptr != field.data() + field.size()) return std::nullopt;
-  return v;
+  return ec == std::errc() ? Number::ok : Number::not_number;
 }
 
 }  // namespace unfurl::io::detail

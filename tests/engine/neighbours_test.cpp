@@ -243,6 +243,30 @@ TEST_CASE("duplicate rows are merged, counted and mapped to their first row", "[
   CHECK(kept.graph.lengths[static_cast<std::size_t>(kept.graph.offsets[base + 3])] == 1e-4f);
 }
 
+TEST_CASE("rows equal only in float32 (different row keys) are not merged", "[neighbours]") {
+  const std::size_t base = 50;
+  auto pts = random_points(base, 2, 5, false);
+  PointSet all(base + 2, 2);
+  std::copy(pts.values.begin(), pts.values.end(), all.values.begin());
+  std::copy_n(pts.row(3), 2, all.row(base));      // equal floats, another row of the file
+  std::copy_n(pts.row(4), 2, all.row(base + 1));  // equal floats, the same values as read
+  all.row_keys.resize(all.rows);
+  for (std::size_t r = 0; r < base; ++r) all.row_keys[r] = 1000 + r;
+  all.row_keys[base] = 7;
+  all.row_keys[base + 1] = all.row_keys[4];
+  GraphOptions o;
+  o.k = 4;
+  const auto g = build_neighbour_graph(all, o);
+  CHECK(g.summary.duplicate_rows == 1);
+  CHECK(g.graph.nodes() == base + 1);
+  CHECK(g.node_of_point[base + 1] == g.node_of_point[4]);
+  CHECK(g.node_of_point[base] != g.node_of_point[3]);
+  CHECK(std::any_of(g.summary.warnings.begin(), g.summary.warnings.end(),
+                    [](const std::string& w) { return w.find("differ in the input") != w.npos; }));
+  all.row_keys.clear();  // without keys the float values decide alone
+  CHECK(build_neighbour_graph(all, o).summary.duplicate_rows == 2);
+}
+
 TEST_CASE("bad options and data are refused with the field named", "[neighbours]") {
   const auto pts = random_points(20, 3, 1, false);
   GraphOptions o;

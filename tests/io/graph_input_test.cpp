@@ -37,7 +37,7 @@ std::string raw(const std::vector<T>& v) {
 
 }  // namespace
 
-TEST_CASE("edge list CSV with header, comments, blanks and both separators", "[graph_input]") {
+TEST_CASE("edge list CSV with header, comments, blanks and each delimiter", "[graph_input]") {
   unfurl::test::TempFolder dir;
   unfurl::test::write_bytes(dir / "e.csv",
                             "# buoys linked by cable\r\n"
@@ -45,7 +45,7 @@ TEST_CASE("edge list CSV with header, comments, blanks and both separators", "[g
                             "0,1,2.5\r\n"
                             "\n"
                             "  1 , 3 , 0.125\n"
-                            "3\t2\t1e-3\n"
+                            "3,2,1e-3\n"
                             "# a zero-length self loop is dropped\n"
                             "2,2,0\n"
                             "4.0,0,7");  // last line without newline; id written as 4.0
@@ -58,6 +58,16 @@ TEST_CASE("edge list CSV with header, comments, blanks and both separators", "[g
   EdgeListOptions o;
   o.nodes = 10;
   CHECK(read_edge_list(dir / "e.csv", o).nodes == 10);
+  // One delimiter per file, sniffed from the first content line as for points.
+  for (const std::string d : {";", "\t", " ", "  "}) {
+    CAPTURE(d);
+    unfurl::test::write_bytes(dir / "d.txt", "\xEF\xBB\xBF# tide gauges\n0" + d + "1" + d +
+                                                 "2.5\n1" + d + "3" + d + "0.125\n");
+    const auto t = read_edge_list(dir / "d.txt");
+    CHECK(t.from == std::vector<unfurl::NodeId>{0, 1});
+    CHECK(t.to == std::vector<unfurl::NodeId>{1, 3});
+    CHECK(t.length == std::vector<float>{2.5f, 0.125f});
+  }
 }
 
 TEST_CASE("edge list CSV crossing read blocks keeps every edge", "[graph_input]") {
@@ -246,11 +256,20 @@ TEST_CASE("partial distances from HDF5 and NPY", "[graph_input]") {
   unfurl::test::write_bytes(dir / "f.npy", npy("<f4", "False", "(2, 2)", raw(f)));
   CHECK(read_partial_distances(dir / "f.npy").values == f);
 
+  // The NPY reader of the point sets: Fortran order and integer types too.
+  const std::vector<float> t = {0, 2, 1, 0};  // (0,1) = 1 and (1,0) = 2 in Fortran order
+  unfurl::test::write_bytes(dir / "t.npy", npy("<f4", "True", "(2, 2)", raw(t)));
+  CHECK_THROWS_WITH(read_partial_distances(dir / "t.npy"),
+                    Catch::Contains("entry (0, 1) = 1 but entry (1, 0) = 2"));
+  const std::vector<std::int64_t> ints = {0, 3, 3, 0};
+  unfurl::test::write_bytes(dir / "i.npy", npy("<i8", "False", "(2, 2)", raw(ints)));
+  CHECK(read_partial_distances(dir / "i.npy").values == std::vector<float>{0, 3, 3, 0});
+
   const std::vector<std::pair<std::string, const char*>> bad = {
-      {npy("<f4", "True", "(2, 2)", raw(f)), "Fortran order"},
-      {npy("<i8", "False", "(2, 2)", std::string(32, '\0')), "'<i8' not supported"},
-      {npy("<f4", "False", "(4,)", raw(f)), "not 2-D"},
-      {npy("<f4", "False", "(2, 3)", raw(f)), "shape needs 24"},
+      {npy("<f4", "False", "(4,)", raw(f)), "is 1-D"},
+      {npy("<f4", "False", "(2, 2)", raw(f) + "junk"), "4 bytes of trailing data"},
+      {npy("<c8", "False", "(2, 2)", raw(f) + raw(f)), "'<c8' is not supported"},
+      {npy("<f4", "Maybe", "(2, 2)", raw(f)), "malformed NPY header"},
       {"not numpy at all", "not an NPY file"},
   };
   for (const auto& [bytes, message] : bad) {
@@ -259,6 +278,33 @@ TEST_CASE("partial distances from HDF5 and NPY", "[graph_input]") {
     CHECK_THROWS_AS(read_partial_distances(dir / "bad.npy"), unfurl::DataError);
     CHECK_THROWS_WITH(read_partial_distances(dir / "bad.npy"), Catch::Contains(message));
   }
+  // Fewer bytes than the shape needs: a truncated file, an I/O error as for points.
+  unfurl::test::write_bytes(dir / "cut.npy", npy("<f4", "False", "(2, 3)", raw(f)));
+  CHECK_THROWS_AS(read_partial_distances(dir / "cut.npy"), unfurl::IoError);
+  CHECK_THROWS_WITH(read_partial_distances(dir / "cut.npy"), Catch::Contains("truncated"));
+}
+
+TEST_CASE("edge lists: content decides the format; huge ids are refused before allocating",
+          "[graph_input]") {
+  unfurl::test::TempFolder dir;
+  // NPY bytes under a .csv name: the signature wins, and the message names the file.
+  const std::vector<float> f = {0, 1, 1, 0};
+  unfurl::test::write_bytes(dir / "e.csv", npy("<f4", "False", "(2, 2)", raw(f)));
+  CHECK_THROWS_AS(read_edge_list(dir / "e.csv"), unfurl::DataError);
+  CHECK_THROWS_WITH(read_edge_list(dir / "e.csv"), Catch::Contains("e.csv: holds an NPY array"));
+  // One id of 2^31 - 2 would mean two billion nodes: about 137 GB at 64 bytes a node.
+  unfurl::test::write_bytes(dir / "big.csv", "0,1,1\n1,2147483646,1\n");
+  CHECK_THROWS_AS(read_edge_list(dir / "big.csv"), unfurl::ResourceError);
+  CHECK_THROWS_WITH(read_edge_list(dir / "big.csv"),
+                    Catch::Contains("big.csv: node ids up to 2147483646") &&
+                        Catch::Contains("137.4 GB") && Catch::Contains("renumber the ids"));
+  unfurl::test::write_bytes(dir / "long.csv", "0,1," + std::string(400, '9') + "\n");
+  CHECK_THROWS_WITH(
+      read_edge_list(dir / "long.csv"),
+      Catch::Contains("long.csv: line 1: field 3") && Catch::Contains("float64 range"));
+  unfurl::test::write_bytes(dir / "nul.csv", std::string("0,1,1\n\0", 7));
+  CHECK_THROWS_WITH(read_edge_list(dir / "nul.csv"),
+                    Catch::Contains("nul.csv: line 2") && Catch::Contains("NUL byte"));
 }
 
 TEST_CASE("graph input readers stop on request", "[graph_input]") {

@@ -36,21 +36,35 @@ double value_at(std::size_t i, std::size_t j, bool is_float, bool is_unsigned) {
   return is_unsigned ? base + 20.0 : base - 50.0;
 }
 
+// The readers subtract a centre per column in double before narrowing to float32: the value
+// as read is the point plus its column's centre, within float32 rounding of values of this
+// size (at most 150 here; the values written differ by at least 0.25).
+bool as_read(const PointReadResult& r, std::size_t i, std::size_t j, double want) {
+  const double back = static_cast<double>(r.points.row(i)[j]) + r.centres.at(j);
+  return std::fabs(back - want) <= 1e-6 * (1.0 + std::fabs(want) + std::fabs(r.centres[j]));
+}
+
 void check_values(const PointReadResult& r, std::size_t first_row, std::size_t rows,
                   std::size_t cols, bool is_float, bool is_unsigned) {
   REQUIRE(r.points.rows == rows);
   REQUIRE(r.points.cols == cols);
   REQUIRE(r.points.values.size() == rows * cols);
   REQUIRE(r.rows.size() == rows);
+  REQUIRE(r.centres.size() == cols);
+  REQUIRE(r.points.row_keys.size() == rows);
   std::size_t mismatches = 0;
+  std::vector<double> mean(cols, 0.0);
   for (std::size_t i = 0; i < rows; ++i) {
     if (r.rows[i] != static_cast<std::int64_t>(first_row + i)) ++mismatches;
-    for (std::size_t j = 0; j < cols; ++j)
-      if (r.points.row(i)[j] !=
-          static_cast<float>(value_at(first_row + i, j, is_float, is_unsigned)))
-        ++mismatches;
+    for (std::size_t j = 0; j < cols; ++j) {
+      const double want = value_at(first_row + i, j, is_float, is_unsigned);
+      mean[j] += want / static_cast<double>(rows);
+      if (!as_read(r, i, j, want)) ++mismatches;
+    }
   }
   CHECK(mismatches == 0);
+  // The centres are the column means of the rows read.
+  for (std::size_t j = 0; j < cols; ++j) CHECK(r.centres[j] == Approx(mean[j]).margin(1e-9));
 }
 
 template <class T>
@@ -204,7 +218,7 @@ TEST_CASE("HDF5 values beyond float32 and non-finite values are caught", "[io][p
   CHECK(r.dropped_rows == std::vector<std::int64_t>{7, 12});
   REQUIRE(r.points.rows == 18);
   CHECK(r.rows[7] == 8);
-  CHECK(r.points.row(7)[0] == static_cast<float>(value_at(8, 0, true, false)));
+  CHECK(as_read(r, 7, 0, value_at(8, 0, true, false)));
 }
 
 namespace {
@@ -329,6 +343,53 @@ TEST_CASE("CSV bad inputs name the file, line and column", "[io][points]") {
                     Contains("--rows") && Contains("4 rows"));
 }
 
+TEST_CASE("Offsets keep their digits: centres in double, keys of the values as read",
+          "[io][points]") {
+  TempDir dir;
+  const auto file = dir / "offset.csv";
+  // float32 holds 1000000.001 and 1000000.002 as the same number (a step of 0.0625 there).
+  write_bytes(file, "1000000.001,5\n1000000.002,5\n1000000.001,5\n");
+  const auto r = read_points(file);
+  REQUIRE(r.centres.size() == 2);
+  CHECK(r.centres[0] == Approx(1000000.0013333333).epsilon(1e-15));
+  CHECK(r.centres[1] == 5.0);
+  CHECK(r.points.row(0)[0] == Approx(-0.0003333333).epsilon(1e-5));
+  CHECK(r.points.row(1)[0] == Approx(0.0006666667).epsilon(1e-5));
+  CHECK(r.points.row(0)[0] == r.points.row(2)[0]);
+  REQUIRE(r.points.row_keys.size() == 3);
+  CHECK(r.points.row_keys[0] == r.points.row_keys[2]);
+  CHECK(r.points.row_keys[0] != r.points.row_keys[1]);
+  CHECK(r.warnings.empty());
+
+  // Given centres (a map's record) are subtracted as they are; rows 0 and 1 now meet in
+  // float32 but keep different keys, and the lost column is named.
+  PointReadOptions fixed;
+  fixed.centres = std::vector<double>{0.0, 0.0};
+  const auto f = read_points(file, fixed);
+  CHECK(f.centres == std::vector<double>{0.0, 0.0});
+  CHECK(f.points.row(0)[0] == 1000000.0f);
+  CHECK(f.points.row(0)[0] == f.points.row(1)[0]);
+  CHECK(f.points.row_keys[0] != f.points.row_keys[1]);
+  REQUIRE(f.warnings.size() == 1);
+  CHECK_THAT(f.warnings[0],
+             Contains("offset.csv") && Contains("column(s) 0 ") && Contains("float32 resolution"));
+  fixed.centres = std::vector<double>{0.0};
+  CHECK_THROWS_KIND(read_points(file, fixed), DataError, Contains("/input/centres records 1"));
+
+  // A value beyond float32 is fine when its column's centre brings it back in range.
+  const auto far = dir / "far.npy";
+  std::string bytes;
+  for (const double v : {1e39, 1e39 + 1e30, 1e39 - 1e30}) {
+    char b[8];
+    std::memcpy(b, &v, 8);
+    bytes.append(b, 8);
+  }
+  write_npy(far, "<f8", {3}, false, bytes, 1);
+  const auto fr = read_points(far);
+  CHECK(fr.centres[0] == Approx(1e39).epsilon(1e-15));
+  CHECK(fr.points.row(1)[0] == Approx(1e30).epsilon(1e-6));
+}
+
 TEST_CASE("NPY round trip: each dtype, both byte orders, C and Fortran order", "[io][points]") {
   npy_round_trip<float>("f4", "float32");
   npy_round_trip<double>("f8", "float64");
@@ -369,6 +430,57 @@ TEST_CASE("NPY 1-D is one column; bad NPY inputs are errors", "[io][points]") {
   write_npy(dir / "big.npy", "<f8", {4, 2}, false, big);
   CHECK_THROWS_KIND(read_points(dir / "big.npy"), DataError,
                     Contains("row 2 column 1") && Contains("float32 range"));
+}
+
+namespace {
+
+// An NPY version 1.0 file with `dict` as its header text, padded as numpy pads it.
+std::string npy_with_header(std::string dict, const std::string& data) {
+  dict.append(63 - (10 + dict.size()) % 64, ' ');
+  dict += '\n';
+  const auto len = static_cast<unsigned char>(dict.size());
+  return std::string("\x93NUMPY\x01\x00", 8) + static_cast<char>(len) + '\0' + dict + data;
+}
+
+}  // namespace
+
+TEST_CASE("Damaged text and NPY are refused by name", "[io][points]") {
+  TempDir dir;
+  // A decimal number beyond float64 (400 digits, no exponent) once read as 0.
+  write_bytes(dir / "long.csv", "1,2\n3," + std::string(400, '9') + "\n");
+  CHECK_THROWS_KIND(read_points(dir / "long.csv"), DataError,
+                    Contains("long.csv line 2, column 2") && Contains("float64 range"));
+  write_bytes(dir / "tiny.csv", "1,2\n3,1e-400\n");  // underflow: zero, as numpy reads it
+  CHECK(as_read(read_points(dir / "tiny.csv"), 1, 1, 0.0));
+  write_bytes(dir / "nul.csv", std::string("1,2\n3,\0 4\n", 11));
+  CHECK_THROWS_KIND(read_points(dir / "nul.csv"), DataError,
+                    Contains("nul.csv: line 2") && Contains("NUL byte"));
+  write_bytes(dir / "cr.csv", "1,2\r3,4\r5,6\r");
+  CHECK_THROWS_KIND(read_points(dir / "cr.csv"), DataError,
+                    Contains("cr.csv: line 1") && Contains("carriage return"));
+  PointReadOptions as_npy;
+  as_npy.format = "npy";
+  CHECK_THROWS_KIND(read_points(dir / "cr.csv", as_npy), DataError, Contains("not an NPY file"));
+
+  const std::string data = npy_bytes<double>(3, 2, false, false);
+  write_npy(dir / "tail.npy", "<f8", {3, 2}, false, data + "extra");
+  CHECK_THROWS_KIND(read_points(dir / "tail.npy"), DataError,
+                    Contains("tail.npy") && Contains("5 bytes of trailing data"));
+  const std::string good = "{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2), }";
+  write_bytes(dir / "good.npy", npy_with_header(good, data));
+  check_values(read_points(dir / "good.npy"), 0, 3, 2, true, false);
+  for (const std::string& dict :
+       {std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2), 'x': 1}"),
+        std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2)"),
+        std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, two)}"),
+        std::string("{'descr': '<f8', 'shape': (3, 2)}"),
+        std::string("{'descr': '<f8', 'fortran_order': False, 'shape': (3, 2)} junk"),
+        std::string("{'descr': '<f8', 'descr': '<f4', 'fortran_order': False, 'shape': (3, 2)}")}) {
+    CAPTURE(dict);
+    write_bytes(dir / "bad.npy", npy_with_header(dict, data));
+    CHECK_THROWS_KIND(read_points(dir / "bad.npy"), DataError,
+                      Contains("bad.npy: malformed NPY header"));
+  }
 }
 
 TEST_CASE("The format comes from the magic bytes first, then the extension", "[io][points]") {

@@ -1,7 +1,8 @@
 // Reads a point file with io::read_points and dumps it for tests/reference/points_io_check.py:
 //   points_probe FILE OUT [--dataset D] [--rows A:B] [--format F] [--drop-nonfinite]
 // OUT: uint64 rows, uint64 cols (little-endian), rows*cols float32 values row-major, then
-// rows int64 input row indices. Errors: the message on stderr, the project's exit code.
+// rows int64 input row indices, cols float64 column centres (subtracted before narrowing). Errors:
+// the message on stderr, the project's exit code.
 #include <cstdint>
 #include <cstdio>
 #include <fstream>
@@ -41,6 +42,8 @@ int main(int argc, char** argv) {
               static_cast<std::streamsize>(result.points.values.size() * sizeof(float)));
     out.write(reinterpret_cast<const char*>(result.rows.data()),
               static_cast<std::streamsize>(result.rows.size() * sizeof(std::int64_t)));
+    out.write(reinterpret_cast<const char*>(result.centres.data()),
+              static_cast<std::streamsize>(result.centres.size() * sizeof(double)));
     if (!out) {
       std::cerr << "points_probe: cannot write " << argv[2] << "\n";
       return 73;
