@@ -81,7 +81,9 @@ json assessment_json(const Assessment& a) {
                       {"continuity", s.continuity},
                       {"continuity_95", {s.c_low, s.c_high}},
                       {"knn_preservation", s.knn_preservation},
+                      {"knn_preservation_95", {s.knn_low, s.knn_high}},
                       {"method", s.sampled ? "sampled" : "exact"},
+                      {"interval_method", s.interval_method},
                       {"sample_size", s.sample_size}});
   json j = {{"neighbourhoods", scores}, {"axis_share", a.axis_share}, {"seconds", a.seconds}};
   if (a.residual)
@@ -102,8 +104,10 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
   std::vector<io::MapArray> out;
   for (const auto& s : a.neighbourhoods.by_k) {
     const std::string base = "/quality/k" + std::to_string(s.k) + "/";
-    const json attrs = {
-        {"k", s.k}, {"method", s.sampled ? "sampled" : "exact"}, {"sample_size", s.sample_size}};
+    const json attrs = {{"k", s.k},
+                        {"method", s.sampled ? "sampled" : "exact"},
+                        {"sample_size", s.sample_size},
+                        {"interval_method", s.interval_method}};
     auto scalar = [&](const std::string& name, double v, json extra = json::object()) {
       json at = attrs;
       at.update(extra);
@@ -111,7 +115,7 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
     };
     scalar("trustworthiness", s.trustworthiness, {{"interval_95", {s.t_low, s.t_high}}});
     scalar("continuity", s.continuity, {{"interval_95", {s.c_low, s.c_high}}});
-    scalar("knn_preservation", s.knn_preservation);
+    scalar("knn_preservation", s.knn_preservation, {{"interval_95", {s.knn_low, s.knn_high}}});
     std::vector<double> rows(s.scored_points.begin(), s.scored_points.end());
     out.push_back({base + "scored_rows",
                    rows,
@@ -215,8 +219,11 @@ void print_assessment(const GlobalOptions& g, const Assessment& a) {
                      "kNN kept", "method"));
   for (const auto& s : a.neighbourhoods.by_k) {
     const std::string method =
-        s.sampled ? fmt::format("sampled, n = {}, 95% T [{:.4f}, {:.4f}] C [{:.4f}, {:.4f}]",
-                                s.sample_size, s.t_low, s.t_high, s.c_low, s.c_high)
+        s.sampled ? fmt::format(
+                        "sampled, n = {}, 95% T [{:.4f}, {:.4f}] C [{:.4f}, {:.4f}] kNN "
+                        "[{:.4f}, {:.4f}] ({})",
+                        s.sample_size, s.t_low, s.t_high, s.c_low, s.c_high, s.knn_low, s.knn_high,
+                        s.interval_method)
                   : "exact";
     say(g, fmt::format("{:>6} {:>16.4f} {:>16.4f} {:>10.4f}  {}", s.k, s.trustworthiness,
                        s.continuity, s.knn_preservation, method));
