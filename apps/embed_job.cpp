@@ -126,7 +126,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   options.graph = to_graph_options(a.graph);
   options.components = to_component_options(a.graph);
   apply_map_options(a.map, g.seed, options);
-  const AssessOptions assess = to_assess_options(a.score, g.seed);
+  AssessOptions assess = to_assess_options(a.score, g.seed);
   const bool given_graph = in.graph.has_value();
   if (given_graph && (a.linear || a.scale != "none" || a.metric != "euclidean" || a.pre_pca))
     throw OptionError("--linear, --scale, --metric and --pre-pca need points, not --input " +
@@ -171,9 +171,12 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
       report["quality"] = assessment_json(scores);
       map.extras = assessment_arrays(scores);
     } else {
-      const Assessment scores =
+      // The graph stage's kNN lists already gave the intrinsic dimension (no second search).
+      if (result.dimension) assess.dimension_k = 0;
+      Assessment scores =
           assess_map(rows_of(in.points, result.rows), result.coords,
                      a.linear ? nullptr : &result.geodesic, result.spectrum, assess, stop_token());
+      if (result.dimension) scores.dimension = result.dimension;
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
       for (auto& extra : assessment_arrays(scores)) map.extras.push_back(std::move(extra));

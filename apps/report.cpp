@@ -91,11 +91,10 @@ json assessment_json(const Assessment& a) {
                               {"pairs", a.residual->pairs},
                               {"sampled", a.residual->sampled}};
   if (a.dimension)
-    j["intrinsic_dimension"] = {{"estimate", a.dimension->estimate},
-                                {"k", a.dimension->k},
-                                {"averaging", a.dimension->averaging},
-                                {"method", "Levina-Bickel maximum likelihood"},
-                                {"points_used", a.dimension->points_used}};
+    j["intrinsic_dimension"] = {
+        {"estimate", a.dimension->estimate},   {"k", a.dimension->k},
+        {"averaging", a.dimension->averaging}, {"method", "Levina-Bickel maximum likelihood"},
+        {"points", a.dimension->points},       {"points_used", a.dimension->points_used}};
   j["warnings"] = a.warnings;
   return j;
 }
@@ -143,7 +142,9 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
                    {},
                    {{"k", a.dimension->k},
                     {"method", "Levina-Bickel maximum likelihood"},
-                    {"averaging", a.dimension->averaging}}});
+                    {"averaging", a.dimension->averaging},
+                    {"points", a.dimension->points},
+                    {"points_used", a.dimension->points_used}}});
   if (!a.axis_share.empty())
     out.push_back({"/quality/axis_share",
                    a.axis_share,
@@ -236,7 +237,8 @@ void print_assessment(const GlobalOptions& g, const Assessment& a) {
                        a.residual->sampled ? "sampled, " : "", a.residual->pairs, curve));
   }
   if (a.dimension)
-    say(g, fmt::format("intrinsic dimension (Levina-Bickel, k = {}): {:.2f}", a.dimension->k,
+    say(g, fmt::format("intrinsic dimension (Levina-Bickel, k = {}, {} {} points): {:.2f}",
+                       a.dimension->k, a.dimension->points_used, a.dimension->points,
                        a.dimension->estimate));
   for (const auto& w : a.warnings) say(g, "warning: " + w);
 }

@@ -7,6 +7,7 @@
 
 #include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
+#include "engine/neighbours.hpp"
 #include "engine/quality_dimension.hpp"
 #include "engine/quality_residual.hpp"
 #include "engine/random.hpp"
@@ -371,6 +372,40 @@ TEST_CASE("Levina-Bickel skips points with duplicates", "[quality]") {
   CHECK(r.points_skipped == 1);
   CHECK(r.estimate == Approx(1.0 / (1.5 * std::log(2.0))).epsilon(1e-12));
   CHECK(r.warnings.size() == 1);
+}
+
+TEST_CASE("the intrinsic dimension is taken on distinct points", "[quality]") {
+  // A square's points, 90% of the rows repeating earlier ones: on merged points the estimate
+  // must equal Levina-Bickel on the distinct rows alone (the formula on brute-force
+  // distances, knn_distances above), and the graph stage's kNN lists must give the same
+  // number without a second search.
+  Random rng(3);
+  PointSet distinct(300, 2);
+  for (float& v : distinct.values) v = static_cast<float>(rng.uniform());
+  PointSet rows(3000, 2);
+  for (std::size_t i = 0; i < rows.rows; ++i) {
+    const std::size_t from = i < 300 ? i : rng.below(300);
+    std::copy_n(distinct.row(from), 2, rows.row(i));
+  }
+  const std::size_t k = 10;
+  const auto truth = levina_bickel(knn_distances(distinct, k), distinct.rows, k);
+  const auto merged = intrinsic_dimension(rows, k);
+  CHECK(merged.estimate == Approx(truth.estimate).epsilon(1e-12));
+  CHECK(merged.points_used == 300);
+  CHECK(merged.points == "distinct");
+  GraphOptions go;
+  go.k = k;
+  const GraphResult graph = build_neighbour_graph(rows, go);
+  REQUIRE(graph.dimension.has_value());
+  CHECK(graph.dimension->estimate == Approx(truth.estimate).epsilon(1e-12));
+  CHECK(graph.dimension->points_used == 300);
+  // Too few distinct points for k: k is lowered, with a warning; below 3 there is no estimate.
+  const auto small = intrinsic_dimension(rows, 400);
+  CHECK(small.k == 299);
+  CHECK(small.warnings.size() == 1);
+  PointSet two(10, 2);
+  for (std::size_t i = 0; i < 10; ++i) two.row(i)[0] = static_cast<float>(i % 2);
+  CHECK_THROWS_WITH(intrinsic_dimension(two, 5), Catch::Contains("3 distinct points"));
 }
 
 TEST_CASE("quality stages refuse bad input with a message naming the fault", "[quality]") {
