@@ -29,8 +29,9 @@ void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
   apply_globals(g);
   io::AtomicOutput{a.output};  // fail before any work; creates nothing
   if (!a.json.empty()) io::AtomicOutput{a.json};
-  const GraphOptions options = to_graph_options(a.graph);
+  GraphOptions options = to_graph_options(a.graph);
   const io::PointReadResult in = io::read_points(a.input.file, to_read_options(a.input));
+  adapt_graph_k(a.graph, in.points.rows, options);
   say(g, fmt::format("points: {} rows x {} columns", in.points.rows, in.points.cols));
 
   const GraphResult built = build_neighbour_graph(in.points, options, stop_token());

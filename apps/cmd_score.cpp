@@ -23,6 +23,7 @@ struct ScoreCommandArgs {
   PointInputArgs points;
   ScoreArgs score;
   std::size_t dimension_k = 10;
+  bool dimension_k_given = false;  // else min(10, N - 1)
   std::string json;
 };
 
@@ -37,7 +38,6 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   apply_globals(g);
   if (!a.json.empty()) io::AtomicOutput{a.json};  // fail before any work
   AssessOptions options = to_assess_options(a.score, g.seed);
-  options.dimension_k = a.dimension_k;
 
   const io::PointReadResult in = io::read_points(a.points.file, to_read_options(a.points));
   PointSet input;
@@ -79,6 +79,12 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     map = std::move(foreign.points);
     input = in.points;
   }
+  // The smallest input scored: 3 points (T and C need k < N/2, so k = 1 needs N >= 3).
+  if (input.rows < 3)
+    throw DataError(
+        fmt::format("{}: {} points; score needs at least 3", a.points.file, input.rows));
+  adapt_score_k(a.score, input.rows, options);
+  options.dimension_k = a.dimension_k_given ? a.dimension_k : default_dimension_k(input.rows);
   validate_score_options(options, input.rows);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
                      map.cols, input.rows, input.cols));
@@ -104,9 +110,14 @@ void add_score_command(CLI::App& app, GlobalOptions& g) {
                   "Read the map from this HDF5 dataset (an N x m array in input row order)");
   add_point_input(cmd, a->points, "");
   add_score_options(cmd, a->score);
-  cmd->add_option("--dimension-k", a->dimension_k,
-                  "Neighbours for the intrinsic dimension estimate (0: skip)")
-      ->capture_default_str();
+  cmd->add_option_function<std::size_t>(
+         "--dimension-k",
+         [a](const std::size_t& k) {
+           a->dimension_k = k;
+           a->dimension_k_given = true;
+         },
+         "Neighbours for the intrinsic dimension estimate (0: skip)")
+      ->default_str("10 (N - 1 below 11 points)");
   cmd->add_option("--json", a->json, "Also write every figure as JSON");
   cmd->callback([&g, a] { run_score(g, *a); });
 }

@@ -150,6 +150,14 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   }
 
   const std::size_t n = given_graph ? in.graph->nodes() : in.points.rows;
+  // The smallest input an embedding takes: 3 points (a landmark map needs dims + 1 of them).
+  const std::size_t smallest = std::max<std::size_t>(3, a.map.dims + 1);
+  if (n < smallest)
+    throw DataError(fmt::format("{}: {} {}; embed needs at least {} for --dims {}", a.input.file, n,
+                                given_graph ? "nodes" : "points", smallest, a.map.dims));
+  adapt_graph_k(a.graph, n, options.graph);
+  adapt_score_k(a.score, n, assess);
+  assess.dimension_k = default_dimension_k(n);
   if (options.exact && !a.linear) check_exact_memory(a, options, n);
   // Refuse bad score options now, not after the embedding has run.
   if (!a.no_score && !given_graph) validate_score_options(assess, n);

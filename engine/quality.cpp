@@ -28,6 +28,10 @@ const char* score_method_name(ScoreMethod method) {
   return "unknown";
 }
 
+std::size_t default_score_k(std::size_t n) {
+  return n < 3 ? 0 : std::min<std::size_t>(12, (n - 1) / 2);
+}
+
 void QualityOptions::validate(std::size_t n) const {
   if (ks.empty()) throw OptionError("--k: give at least one neighbourhood size");
   for (std::size_t k : ks) {

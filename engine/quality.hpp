@@ -51,6 +51,10 @@ enum class ScoreMethod {
 // "automatic", "exact" or "sampled": the names for messages, files and option values.
 const char* score_method_name(ScoreMethod method);
 
+// The default neighbourhood size for N points: min(12, (N - 1) / 2), the largest k below N/2
+// when N is small; 0 (no valid k) below 3 points.
+std::size_t default_score_k(std::size_t n);
+
 struct QualityOptions {
   std::vector<std::size_t> ks = {12};           // neighbourhood sizes; each 1 <= k < N/2
   ScoreMethod method = ScoreMethod::automatic;  // exact up to exact_limit points, then sampled
