@@ -149,7 +149,8 @@ void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
 void add_score_options(CLI::App* cmd, ScoreArgs& a) {
   cmd->add_option("--score-k", a.ks, "Neighbourhood sizes for trustworthiness and continuity")
       ->transform(whole_number(0, max_count))
-      ->capture_default_str();
+      ->each([&a](const std::string&) { a.ks_given = true; })
+      ->default_str("12 (fewer below 25 points)");
   cmd->add_option("--score-method", a.method,
                   "exact (every point), sampled, or automatic (exact up to 50,000 points)")
       ->check(CLI::IsMember({"automatic", "exact", "sampled"}))
@@ -168,6 +169,14 @@ AssessOptions to_assess_options(const ScoreArgs& a, std::uint64_t seed) {
   o.neighbourhoods.sample = a.sample;
   o.neighbourhoods.seed = seed;
   return o;
+}
+
+void adapt_graph_k(const GraphArgs& a, std::size_t points, GraphOptions& o) {
+  if (!a.k_given && !a.radius_given && points >= 2) o.k = std::min(a.k, points - 1);
+}
+
+void adapt_score_k(const ScoreArgs& a, std::size_t points, AssessOptions& o) {
+  if (!a.ks_given && points >= 3) o.neighbourhoods.ks = {default_score_k(points)};
 }
 
 void validate_score_options(const AssessOptions& o, std::size_t points) {

@@ -59,11 +59,16 @@ void apply_map_options(const MapArgs& args, std::uint64_t seed, EmbedOptions& op
 // Quality scores.
 struct ScoreArgs {
   std::vector<std::size_t> ks{12};
+  bool ks_given = false;  // --score-k on the command line (else it adapts to N)
   std::string method = "automatic";
   std::size_t sample = 2000;
 };
 void add_score_options(CLI::App* cmd, ScoreArgs& args);
 AssessOptions to_assess_options(const ScoreArgs& args, std::uint64_t seed);
+// Defaults that depend on the number of points N (README "Small inputs"), applied unless the
+// option was given: the graph's k becomes min(10, N - 1), the score k min(12, (N - 1) / 2).
+void adapt_graph_k(const GraphArgs& args, std::size_t points, GraphOptions& options);
+void adapt_score_k(const ScoreArgs& args, std::size_t points, AssessOptions& options);
 // Checks the score options against `points` points before any work is done, with the
 // command line's names (--score-k for the neighbourhood sizes). Throws OptionError.
 void validate_score_options(const AssessOptions& options, std::size_t points);

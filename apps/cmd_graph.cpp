@@ -33,8 +33,9 @@ void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
   const std::size_t graph_out = outputs.add(a.output, "-o");
   std::optional<std::size_t> json_out;
   if (!a.json.empty()) json_out = outputs.add(a.json, "--json");
-  const GraphOptions options = to_graph_options(a.graph);
+  GraphOptions options = to_graph_options(a.graph);
   const io::PointReadResult in = io::read_points(a.input.file, to_read_options(a.input));
+  adapt_graph_k(a.graph, in.points.rows, options);
   say(g, fmt::format("points: {} rows x {} columns", in.points.rows, in.points.cols));
   for (const auto& w : in.warnings) say(g, "warning: points: " + w);
 

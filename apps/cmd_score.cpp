@@ -26,6 +26,7 @@ struct ScoreCommandArgs {
   PointInputArgs points;
   ScoreArgs score;
   std::size_t dimension_k = 10;
+  bool dimension_k_given = false;  // else min(10, N - 1)
   std::string json;
   bool points_changed_ok = false;  // score even when --points is not the map's recorded input
 };
@@ -106,7 +107,6 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   std::optional<std::size_t> json_out;
   if (!a.json.empty()) json_out = outputs.add(a.json, "--json");
   AssessOptions options = to_assess_options(a.score, g.seed);
-  options.dimension_k = a.dimension_k;
 
   std::optional<io::MapContents> ours;
   if (a.map_dataset.empty() && is_unfurl_map(a.map)) ours = io::read_map(a.map, true);
@@ -157,6 +157,12 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     note(g, a.map + " is an array without a record of its input: cannot check that " +
                 a.points.file + " is the point file it was made from");
   }
+  // The smallest input scored: 3 points (T and C need k < N/2, so k = 1 needs N >= 3).
+  if (input.rows < 3)
+    throw DataError(
+        fmt::format("{}: {} points; score needs at least 3", a.points.file, input.rows));
+  adapt_score_k(a.score, input.rows, options);
+  options.dimension_k = a.dimension_k_given ? a.dimension_k : default_dimension_k(input.rows);
   validate_score_options(options, input.rows);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
                      map.cols, input.rows, input.cols));
@@ -188,7 +194,8 @@ void add_score_command(CLI::App& app, GlobalOptions& g) {
   cmd->add_option("--dimension-k", a->dimension_k,
                   "Neighbours for the intrinsic dimension estimate (0: skip)")
       ->transform(whole_number(0, max_count))
-      ->capture_default_str();
+      ->each([a](const std::string&) { a->dimension_k_given = true; })
+      ->default_str("10 (N - 1 below 11 points)");
   cmd->add_option("--json", a->json, "Also write every figure as JSON");
   cmd->add_flag("--points-changed-ok", a->points_changed_ok,
                 "Score even when --points differs from the input the map records (rows, "

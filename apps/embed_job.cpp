@@ -70,12 +70,28 @@ nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const
           {"threads", g.threads}};
 }
 
-EmbedOptions job_options(const GlobalOptions& g, const EmbedArgs& a) {
+// The engine's options for a run on n points (or nodes of a given graph): the defaults that
+// depend on the size adapt to it (README, "Small inputs"). Refuses an input below the
+// smallest an embedding takes: 3 points, and dims + 1 for a landmark map.
+EmbedOptions job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t n,
+                         const char* unit) {
+  const std::size_t smallest = std::max<std::size_t>(3, a.map.dims + 1);
+  if (n < smallest)
+    throw DataError(fmt::format("{}: {} {}; embed needs at least {} for --dims {}", a.input.file, n,
+                                unit, smallest, a.map.dims));
   EmbedOptions options;
   options.graph = to_graph_options(a.graph);
   options.components = to_component_options(a.graph);
   apply_map_options(a.map, g.seed, options);
+  adapt_graph_k(a.graph, n, options.graph);
   return options;
+}
+
+AssessOptions job_assess_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t n) {
+  AssessOptions assess = to_assess_options(a.score, g.seed);
+  adapt_score_k(a.score, n, assess);
+  assess.dimension_k = default_dimension_k(n);
+  return assess;
 }
 
 // The PCA baseline, in the same result shape as an embedding.
@@ -126,7 +142,7 @@ void add_embed_job_options(CLI::App* cmd, EmbedArgs& a) {
 
 void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t rows,
                        std::size_t cols) {
-  const EmbedOptions options = job_options(g, a);
+  const EmbedOptions options = job_options(g, a, rows, "points");
   const PreprocessOptions pre = to_preprocess_options(a);
   pre.validate(rows, cols);
   if (a.linear) {
@@ -138,7 +154,7 @@ void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t r
     options.validate(rows);
     if (options.exact) check_exact_memory(a, options, rows);
   }
-  if (!a.no_score) validate_score_options(to_assess_options(a.score, g.seed), rows);
+  if (!a.no_score) validate_score_options(job_assess_options(g, a, rows), rows);
 }
 
 JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std::string& map_label,
@@ -153,9 +169,11 @@ JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std
 nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInput in,
                              io::OutputSet& outputs, const JobOutputs& where,
                              EmbedResult* result_out) {
-  const EmbedOptions options = job_options(g, a);
-  const AssessOptions assess = to_assess_options(a.score, g.seed);
   const bool given_graph = in.graph.has_value();
+  // Preprocessing keeps the rows, so the size is known before it.
+  const std::size_t n = given_graph ? in.graph->nodes() : in.points.rows;
+  const EmbedOptions options = job_options(g, a, n, given_graph ? "nodes" : "points");
+  AssessOptions assess = job_assess_options(g, a, n);
   io::MapContents map;
   // Points not from a reader (demo) were not centred: record zeros, so that `score` reads
   // them back as they were used.
@@ -179,7 +197,6 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
     add_preprocess_arrays(model, map.extras);
   }
 
-  const std::size_t n = given_graph ? in.graph->nodes() : in.points.rows;
   if (options.exact && !a.linear) check_exact_memory(a, options, n);
   // Refuse bad score options now, not after the embedding has run.
   if (!a.no_score && !given_graph) validate_score_options(assess, n);
@@ -201,9 +218,12 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
       report["quality"] = assessment_json(scores);
       map.extras = assessment_arrays(scores);
     } else {
-      const Assessment scores =
+      // The graph stage's kNN lists already gave the intrinsic dimension (no second search).
+      if (result.dimension) assess.dimension_k = 0;
+      Assessment scores =
           assess_map(rows_of(in.points, result.rows), result.coords,
                      a.linear ? nullptr : &result.geodesic, result.spectrum, assess, stop_token());
+      if (result.dimension) scores.dimension = result.dimension;
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
       for (auto& extra : assessment_arrays(scores)) map.extras.push_back(std::move(extra));

@@ -78,7 +78,9 @@ json assessment_json(const Assessment& a) {
                       {"continuity", s.continuity},
                       {"continuity_95", {s.c_low, s.c_high}},
                       {"knn_preservation", s.knn_preservation},
+                      {"knn_preservation_95", {s.knn_low, s.knn_high}},
                       {"method", s.sampled ? "sampled" : "exact"},
+                      {"interval_method", s.interval_method},
                       {"sample_size", s.sample_size}});
   json j = {{"neighbourhoods", scores}, {"axis_share", a.axis_share}, {"seconds", a.seconds}};
   if (a.residual)
@@ -86,11 +88,10 @@ json assessment_json(const Assessment& a) {
                               {"pairs", a.residual->pairs},
                               {"sampled", a.residual->sampled}};
   if (a.dimension)
-    j["intrinsic_dimension"] = {{"estimate", a.dimension->estimate},
-                                {"k", a.dimension->k},
-                                {"averaging", a.dimension->averaging},
-                                {"method", "Levina-Bickel maximum likelihood"},
-                                {"points_used", a.dimension->points_used}};
+    j["intrinsic_dimension"] = {
+        {"estimate", a.dimension->estimate},   {"k", a.dimension->k},
+        {"averaging", a.dimension->averaging}, {"method", "Levina-Bickel maximum likelihood"},
+        {"points", a.dimension->points},       {"points_used", a.dimension->points_used}};
   j["warnings"] = a.warnings;
   return j;
 }
@@ -99,8 +100,10 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
   std::vector<io::MapArray> out;
   for (const auto& s : a.neighbourhoods.by_k) {
     const std::string base = "/quality/k" + std::to_string(s.k) + "/";
-    const json attrs = {
-        {"k", s.k}, {"method", s.sampled ? "sampled" : "exact"}, {"sample_size", s.sample_size}};
+    const json attrs = {{"k", s.k},
+                        {"method", s.sampled ? "sampled" : "exact"},
+                        {"sample_size", s.sample_size},
+                        {"interval_method", s.interval_method}};
     auto scalar = [&](const std::string& name, double v, json extra = json::object()) {
       json at = attrs;
       at.update(extra);
@@ -108,7 +111,7 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
     };
     scalar("trustworthiness", s.trustworthiness, {{"interval_95", {s.t_low, s.t_high}}});
     scalar("continuity", s.continuity, {{"interval_95", {s.c_low, s.c_high}}});
-    scalar("knn_preservation", s.knn_preservation);
+    scalar("knn_preservation", s.knn_preservation, {{"interval_95", {s.knn_low, s.knn_high}}});
     std::vector<double> rows(s.scored_points.begin(), s.scored_points.end());
     out.push_back({base + "scored_rows",
                    rows,
@@ -136,7 +139,9 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
                    {},
                    {{"k", a.dimension->k},
                     {"method", "Levina-Bickel maximum likelihood"},
-                    {"averaging", a.dimension->averaging}}});
+                    {"averaging", a.dimension->averaging},
+                    {"points", a.dimension->points},
+                    {"points_used", a.dimension->points_used}}});
   if (!a.axis_share.empty())
     out.push_back({"/quality/axis_share",
                    a.axis_share,
@@ -212,8 +217,11 @@ void print_assessment(const GlobalOptions& g, const Assessment& a) {
                      "kNN kept", "method"));
   for (const auto& s : a.neighbourhoods.by_k) {
     const std::string method =
-        s.sampled ? fmt::format("sampled, n = {}, 95% T [{:.4f}, {:.4f}] C [{:.4f}, {:.4f}]",
-                                s.sample_size, s.t_low, s.t_high, s.c_low, s.c_high)
+        s.sampled ? fmt::format(
+                        "sampled, n = {}, 95% T [{:.4f}, {:.4f}] C [{:.4f}, {:.4f}] kNN "
+                        "[{:.4f}, {:.4f}] ({})",
+                        s.sample_size, s.t_low, s.t_high, s.c_low, s.c_high, s.knn_low, s.knn_high,
+                        s.interval_method)
                   : "exact";
     say(g, fmt::format("{:>6} {:>16.4f} {:>16.4f} {:>10.4f}  {}", s.k, s.trustworthiness,
                        s.continuity, s.knn_preservation, method));
@@ -226,7 +234,8 @@ void print_assessment(const GlobalOptions& g, const Assessment& a) {
                        a.residual->sampled ? "sampled, " : "", a.residual->pairs, curve));
   }
   if (a.dimension)
-    say(g, fmt::format("intrinsic dimension (Levina-Bickel, k = {}): {:.2f}", a.dimension->k,
+    say(g, fmt::format("intrinsic dimension (Levina-Bickel, k = {}, {} {} points): {:.2f}",
+                       a.dimension->k, a.dimension->points_used, a.dimension->points,
                        a.dimension->estimate));
   for (const auto& w : a.warnings) say(g, "warning: " + w);
 }

@@ -44,10 +44,14 @@ Assessment assess_map(const PointSet& input, const PointSet& map, const Distance
   }
 
   if (options.dimension_k > 0) {
-    const KnnResult knn =
-        exact_knn(input, input, options.dimension_k, Search::automatic, true, 512, stop);
-    a.dimension = levina_bickel(knn.distance, input.rows, options.dimension_k);
-    for (const auto& w : a.dimension->warnings) a.warnings.push_back("dimension: " + w);
+    // On distinct points; data that give no estimate (too few distinct points, a lattice)
+    // leave a warning, not a failure after the whole embedding has run.
+    try {
+      a.dimension = intrinsic_dimension(input, options.dimension_k, stop);
+      for (const auto& w : a.dimension->warnings) a.warnings.push_back("dimension: " + w);
+    } catch (const DataError& e) {
+      a.warnings.push_back(std::string("dimension: no estimate: ") + e.what());
+    }
   }
 
   double positive = 0;

@@ -194,6 +194,7 @@ EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, St
   GraphResult gr = build_neighbour_graph(points, options.graph, stop);
   result.seconds.graph = watch.seconds();
   result.graph = gr.summary;
+  result.dimension = std::move(gr.dimension);
   append_warnings(result.warnings, "graph", gr.summary.warnings);
   // The points of the nodes (duplicates merged): for bridging and point-based node orders.
   PointSet node_points(gr.point_of_node.size(), points.cols);

@@ -53,7 +53,8 @@ struct EmbedResult {
   // Landmark geodesic rows with columns in map-row order (keep_geodesics, or needed by the
   // residual variance score); empty otherwise.
   DistanceRows geodesic;
-  std::optional<GraphSummary> graph;  // absent for a given graph
+  std::optional<GraphSummary> graph;            // absent for a given graph
+  std::optional<IntrinsicDimension> dimension;  // from the graph stage's kNN lists, if any
   ComponentSummary components;
   std::vector<BridgeEdge> bridges;  // as input points (from, to), when bridged
   LandmarkSummary landmarks;

@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <chrono>
+#include <cstdio>
 #include <limits>
 #include <numeric>
 #include <string>
@@ -35,6 +36,7 @@ void check_graph(const NeighbourGraph& graph) {
     if (graph.offsets[i + 1] < graph.offsets[i])
       throw DataError("geodesic: graph offsets decrease at node " + std::to_string(i));
   }
+  double longest = 0, total = 0;
   for (std::size_t e = 0; e < graph.targets.size(); ++e) {
     if (graph.targets[e] >= n)
       throw DataError("geodesic: graph edge " + std::to_string(e) + " points to node " +
@@ -42,6 +44,21 @@ void check_graph(const NeighbourGraph& graph) {
     if (!(graph.lengths[e] >= 0.0f) || graph.lengths[e] == std::numeric_limits<float>::infinity())
       throw DataError("geodesic: graph edge " + std::to_string(e) +
                       " has a length that is negative, infinite or NaN");
+    longest = std::max(longest, static_cast<double>(graph.lengths[e]));
+    total += graph.lengths[e];
+  }
+  // Path lengths are float32 sums. A shortest path has at most N - 1 edges and uses each
+  // edge once (every edge is stored twice), so it is at most the smaller of these bounds; past
+  // float32's largest value a sum becomes infinite and a reachable node would look unreachable.
+  const double bound = std::min(longest * static_cast<double>(n > 0 ? n - 1 : 0), total / 2);
+  if (bound > static_cast<double>(std::numeric_limits<float>::max())) {
+    char text[256];
+    std::snprintf(text, sizeof text,
+                  "geodesic: path lengths could reach %.3g (longest edge %.3g, %zu nodes), "
+                  "beyond float32's range (%.3g); scale the values down (for example --scale "
+                  "standard)",
+                  bound, longest, n, static_cast<double>(std::numeric_limits<float>::max()));
+    throw DataError(text);
   }
 }
 

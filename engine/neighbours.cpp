@@ -245,6 +245,17 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
     const auto lists =
         knn_lists(nodes, nodes, options.k, s.search_used, true, options.block_rows, stop);
     edges = knn_edges(lists, nodes.rows, options.k, options.mutual);
+    if (options.k >= 2) {
+      try {
+        // The distances as exact_knn rounds them, so a separate search gives the same value.
+        result.dimension =
+            levina_bickel_lists(nodes.rows, options.k, [&](std::size_t i, std::size_t j) {
+              return static_cast<double>(length_of(lists[i * options.k + j].squared));
+            });
+      } catch (const DataError& e) {
+        s.warnings.push_back(std::string("no intrinsic dimension estimate: ") + e.what());
+      }
+    }
   }
   NeighbourGraph merged = detail::symmetric_csr(nodes.rows, edges);
   edges = {};

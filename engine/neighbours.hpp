@@ -9,11 +9,13 @@
 #pragma once
 
 #include <cstddef>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "engine/graph.hpp"
 #include "engine/points.hpp"
+#include "engine/quality_dimension.hpp"
 #include "engine/stop.hpp"
 
 namespace unfurl {
@@ -72,6 +74,10 @@ struct GraphResult {
   NeighbourGraph graph;                    // over the nodes (unique points by default)
   std::vector<NodeId> node_of_point;       // N input rows -> node (duplicates share one)
   std::vector<std::size_t> point_of_node;  // node -> its representative (first) input row
+  // Levina-Bickel from the kNN lists just searched (distinct points, the graph's k), so the
+  // scores need no second search; absent for radius graphs, k < 2 or when the lists give no
+  // estimate (the reason is then a warning in the summary).
+  std::optional<IntrinsicDimension> dimension;
   GraphSummary summary;
 };
 

@@ -28,6 +28,10 @@ const char* score_method_name(ScoreMethod method) {
   return "unknown";
 }
 
+std::size_t default_score_k(std::size_t n) {
+  return n < 3 ? 0 : std::min<std::size_t>(12, (n - 1) / 2);
+}
+
 void QualityOptions::validate(std::size_t n) const {
   if (ks.empty()) throw OptionError("--k: give at least one neighbourhood size");
   for (std::size_t k : ks) {
@@ -129,6 +133,25 @@ void ranks_in_other_space(const detail::DistanceScanner& other, const double* qu
 }
 
 }  // namespace
+
+void detail::estimate_from_terms(NeighbourhoodScore& s, std::size_t n, std::uint64_t seed) {
+  // The bets' order comes from the sample's seed, but not from the same stream.
+  const std::uint64_t order_seed = seed ^ 0x9e3779b97f4a7c15ULL;
+  // Exact scoring has no sampling error: mean_interval gives low == high when all n are scored.
+  const auto t_est = detail::mean_interval(s.t_terms, n, order_seed);
+  const auto c_est = detail::mean_interval(s.c_terms, n, order_seed);
+  const auto knn_est = detail::mean_interval(s.knn_terms, n, order_seed);
+  s.trustworthiness = 1.0 - t_est.mean;
+  s.continuity = 1.0 - c_est.mean;
+  s.knn_preservation = knn_est.mean;
+  s.t_low = 1.0 - t_est.high;
+  s.t_high = 1.0 - t_est.low;
+  s.c_low = 1.0 - c_est.high;
+  s.c_high = 1.0 - c_est.low;
+  s.knn_low = knn_est.low;
+  s.knn_high = knn_est.high;
+  s.interval_method = s.sampled ? detail::kIntervalMethod : "exact";
+}
 
 NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
                                          const QualityOptions& options, StopToken stop) {
@@ -261,26 +284,14 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
     s.t_terms.resize(nq);
     s.c_terms.resize(nq);
     const double scale = 2.0 / (static_cast<double>(k) * (2.0 * n - 3.0 * k - 1.0));
-    double shared_mean = 0;
     for (std::size_t q = 0; q < nq; ++q) {
       s.t_terms[q] = static_cast<double>(t_sum[q * nk + kk]) * scale;
       s.c_terms[q] = static_cast<double>(c_sum[q * nk + kk]) * scale;
-      shared_mean += static_cast<double>(shared[q * nk + kk]) / static_cast<double>(k);
     }
-    // Exact scoring has no sampling error: mean_interval gives half = 0 when nq == n.
-    const auto t_est = detail::mean_interval(s.t_terms, n);
-    const auto c_est = detail::mean_interval(s.c_terms, n);
-    s.trustworthiness = 1.0 - t_est.mean;
-    s.continuity = 1.0 - c_est.mean;
-    s.knn_preservation = shared_mean / static_cast<double>(nq);
-    s.t_low = s.t_high = s.trustworthiness;
-    s.c_low = s.c_high = s.continuity;
-    if (sampled) {
-      s.t_low = std::max(0.0, s.trustworthiness - t_est.half);
-      s.t_high = std::min(1.0, s.trustworthiness + t_est.half);
-      s.c_low = std::max(0.0, s.continuity - c_est.half);
-      s.c_high = std::min(1.0, s.continuity + c_est.half);
-    }
+    s.knn_terms.resize(nq);
+    for (std::size_t q = 0; q < nq; ++q)
+      s.knn_terms[q] = static_cast<double>(shared[q * nk + kk]) / static_cast<double>(k);
+    detail::estimate_from_terms(s, n, options.seed);
     out.by_k.push_back(std::move(s));
   }
   out.queries = nq;

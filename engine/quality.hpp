@@ -17,10 +17,12 @@
 // points), and 1 - T is the mean of t_term over all N points. c_term likewise for 1 - C.
 //
 // Sampled estimate: a uniform sample without replacement of n query points (seeded), each
-// ranked exactly against all N points; T is estimated by 1 - mean(t_term) and its 95%
-// interval by the normal approximation to the sampling distribution of that mean:
-// +-1.96 s / sqrt(n) * sqrt((N - n) / (N - 1)), s the sample standard deviation of the terms and
-// the last factor the finite-population correction. The interval is clipped to [0, 1].
+// ranked exactly against all N points; T is estimated by 1 - mean(t_term), and its 95%
+// interval comes from the betting interval for a bounded mean sampled without replacement
+// (Waudby-Smith and Ramdas; see engine/detail/sampling.hpp), which uses the terms' bounds
+// [0, 1] and so keeps its coverage when a few points carry most of the error and the sample
+// happens to miss them (a normal or bootstrap interval does not). kNN preservation likewise
+// (per-point fractions in [0, 1]). Intervals have zero width only when every point is scored.
 // Results depend on the seed, never on the number of threads.
 //
 // Cost: every query point is compared with all N points in both spaces, in double (about
@@ -49,6 +51,10 @@ enum class ScoreMethod {
 // "automatic", "exact" or "sampled": the names for messages, files and option values.
 const char* score_method_name(ScoreMethod method);
 
+// The default neighbourhood size for N points: min(12, (N - 1) / 2), the largest k below N/2
+// when N is small; 0 (no valid k) below 3 points.
+std::size_t default_score_k(std::size_t n);
+
 struct QualityOptions {
   std::vector<std::size_t> ks = {12};           // neighbourhood sizes; each 1 <= k < N/2
   ScoreMethod method = ScoreMethod::automatic;  // exact up to exact_limit points, then sampled
@@ -63,16 +69,19 @@ struct QualityOptions {
 
 struct NeighbourhoodScore {
   std::size_t k = 0;
-  double trustworthiness = 0;    // T(k), or its estimate when sampled
-  double continuity = 0;         // C(k), or its estimate when sampled
-  double knn_preservation = 0;   // mean fraction of the k input neighbours among the k map ones
-  double t_low = 0, t_high = 0;  // 95% interval of T when sampled; equal to T when exact
-  double c_low = 0, c_high = 0;  // 95% interval of C when sampled; equal to C when exact
+  double trustworthiness = 0;        // T(k), or its estimate when sampled
+  double continuity = 0;             // C(k), or its estimate when sampled
+  double knn_preservation = 0;       // mean fraction of the k input neighbours among the k map ones
+  double t_low = 0, t_high = 0;      // 95% interval of T when sampled; equal to T when exact
+  double c_low = 0, c_high = 0;      // 95% interval of C when sampled; equal to C when exact
+  double knn_low = 0, knn_high = 0;  // 95% interval of kNN preservation likewise
+  std::string interval_method;       // how the intervals were made ("exact": no sampling)
   bool sampled = false;
   std::size_t sample_size = 0;               // number of query points (N when exact)
   std::vector<std::uint32_t> scored_points;  // query rows, ascending
-  std::vector<double> t_terms;  // per scored point, its term of 1 - T (see the header comment)
-  std::vector<double> c_terms;  // per scored point, its term of 1 - C
+  std::vector<double> t_terms;    // per scored point, its term of 1 - T (see the header comment)
+  std::vector<double> c_terms;    // per scored point, its term of 1 - C
+  std::vector<double> knn_terms;  // per scored point, the share of its k input neighbours kept
 };
 
 struct NeighbourhoodScores {
@@ -91,5 +100,13 @@ struct NeighbourhoodScores {
 // OptionError for bad options, InterruptedError when `stop` is requested.
 NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
                                          const QualityOptions& options, StopToken stop = {});
+
+namespace detail {
+// Fills the estimates and 95% intervals of `s` from its per-point terms (scored_points,
+// t_terms, c_terms, knn_terms and sampled set), for N = n points and the sample's seed. The
+// last step of neighbourhood_scores, shared with the coverage checks, which draw many samples
+// from the terms of one exact run (each sampled point's terms are its exact ones).
+void estimate_from_terms(NeighbourhoodScore& s, std::size_t n, std::uint64_t seed);
+}  // namespace detail
 
 }  // namespace unfurl

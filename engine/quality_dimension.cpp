@@ -1,10 +1,42 @@
 #include "engine/quality_dimension.hpp"
 
-#include <cmath>
+#include <algorithm>
 
+#include "engine/detail/duplicates.hpp"
 #include "engine/error.hpp"
+#include "engine/neighbours.hpp"
 
 namespace unfurl {
+
+std::size_t default_dimension_k(std::size_t distinct) {
+  return distinct < 3 ? 0 : std::min<std::size_t>(10, distinct - 1);
+}
+
+namespace detail {
+
+void check_dimension_row(std::size_t row, std::span<const double> t) {
+  for (std::size_t j = 0; j < t.size(); ++j)
+    if (!std::isfinite(t[j]) || t[j] < 0 || (j > 0 && t[j] < t[j - 1]))
+      throw DataError("intrinsic dimension: row " + std::to_string(row) +
+                      " of the neighbour distances is not finite, non-negative and ascending");
+}
+
+IntrinsicDimension finish_levina_bickel(IntrinsicDimension out, double inverse_sum) {
+  if (out.k < 2)
+    throw OptionError("--k: intrinsic dimension needs at least 2 neighbours, got " +
+                      std::to_string(out.k));
+  if (out.points_used == 0)
+    throw DataError("intrinsic dimension: every point has a duplicate (a zero distance)");
+  if (!(inverse_sum > 0))
+    throw DataError("intrinsic dimension: every point sees its k neighbours at one distance");
+  out.estimate = static_cast<double>(out.points_used) / inverse_sum;
+  if (out.points_skipped > 0)
+    out.warnings.push_back("intrinsic dimension: skipped " + std::to_string(out.points_skipped) +
+                           " points with a duplicate among their neighbours");
+  return out;
+}
+
+}  // namespace detail
 
 IntrinsicDimension levina_bickel(std::span<const float> knn_distances, std::size_t n,
                                  std::size_t k) {
@@ -16,35 +48,27 @@ IntrinsicDimension levina_bickel(std::span<const float> knn_distances, std::size
     throw DataError("intrinsic dimension: " + std::to_string(knn_distances.size()) +
                     " distances for " + std::to_string(n) + " points of " + std::to_string(k) +
                     " neighbours");
-  IntrinsicDimension out;
-  out.k = k;
-  // Summed in row order in double: the result does not depend on any thread count.
-  double inverse_sum = 0;
-  for (std::size_t i = 0; i < n; ++i) {
-    const float* t = knn_distances.data() + i * k;
-    for (std::size_t j = 0; j < k; ++j) {
-      if (!std::isfinite(t[j]) || t[j] < 0 || (j > 0 && t[j] < t[j - 1]))
-        throw DataError("intrinsic dimension: row " + std::to_string(i) +
-                        " of the neighbour distances is not finite, non-negative and ascending");
-    }
-    if (t[0] == 0) {
-      ++out.points_skipped;
-      continue;
-    }
-    const double log_tk = std::log(static_cast<double>(t[k - 1]));
-    double s = 0;
-    for (std::size_t j = 0; j + 1 < k; ++j) s += log_tk - std::log(static_cast<double>(t[j]));
-    inverse_sum += s / static_cast<double>(k - 1);
-    ++out.points_used;
-  }
-  if (out.points_used == 0)
-    throw DataError("intrinsic dimension: every point has a duplicate (a zero distance)");
-  if (!(inverse_sum > 0))
-    throw DataError("intrinsic dimension: every point sees its k neighbours at one distance");
-  out.estimate = static_cast<double>(out.points_used) / inverse_sum;
-  if (out.points_skipped > 0)
-    out.warnings.push_back("intrinsic dimension: skipped " + std::to_string(out.points_skipped) +
-                           " points with a duplicate among their neighbours");
+  return levina_bickel_lists(n, k, [&](std::size_t i, std::size_t j) {
+    return static_cast<double>(knn_distances[i * k + j]);
+  });
+}
+
+IntrinsicDimension intrinsic_dimension(const PointSet& points, std::size_t k, StopToken stop) {
+  const detail::DuplicateGroups dup = detail::find_duplicates(points, stop);
+  const std::size_t distinct = dup.point_of_node.size();
+  if (distinct < 3)
+    throw DataError("intrinsic dimension: needs at least 3 distinct points, the data have " +
+                    std::to_string(distinct));
+  const std::size_t used_k = std::min(k, distinct - 1);
+  PointSet merged;
+  if (dup.extra_rows > 0) merged = detail::select_rows(points, dup.point_of_node);
+  const PointSet& rows = dup.extra_rows > 0 ? merged : points;
+  const KnnResult knn = exact_knn(rows, rows, used_k, Search::automatic, true, 512, stop);
+  IntrinsicDimension out = levina_bickel(knn.distance, rows.rows, used_k);
+  if (used_k < k)
+    out.warnings.push_back("intrinsic dimension: k lowered from " + std::to_string(k) + " to " +
+                           std::to_string(used_k) + " for " + std::to_string(distinct) +
+                           " distinct points");
   return out;
 }
 

@@ -72,6 +72,28 @@ TEST_CASE("an unreachable node is an error that says how many", "[geodesic]") {
                     Catch::Contains("2 of 5 graph nodes are unreachable from node 0"));
 }
 
+TEST_CASE("path lengths beyond float32's range are refused for the range", "[geodesic]") {
+  // float32's largest value is about 3.4e38 (IEEE 754 binary32). A path of 4 edges of 1e38
+  // sums to 4e38: in float32 that is infinite, and a reachable node would look unreachable.
+  // Both bounds of the check exceed the range here: (N - 1) x longest = 4e38 and the sum of
+  // all edges = 4e38.
+  const auto huge = unfurl::test::graph_from_edges(
+      5, {{0, 1, 1e38f}, {1, 2, 1e38f}, {2, 3, 1e38f}, {3, 4, 1e38f}});
+  const std::vector<NodeId> first{0};
+  CHECK_THROWS_AS(unfurl::geodesic_rows(huge, first), unfurl::DataError);
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(huge, first), Catch::Contains("float32's range") &&
+                                                            Catch::Contains("longest edge 1e+38") &&
+                                                            !Catch::Contains("unreachable"));
+  CHECK_THROWS_WITH(unfurl::all_geodesic_rows(huge), Catch::Contains("float32's range"));
+  // One long edge among short ones: no path can exceed the sum of all edges (3e38 + 3), so
+  // the rows are computed, and they are exact prefix sums.
+  const auto one_long =
+      unfurl::test::graph_from_edges(5, {{0, 1, 3e38f}, {1, 2, 1.f}, {2, 3, 1.f}, {3, 4, 1.f}});
+  const auto rows = unfurl::geodesic_rows(one_long, first);
+  CHECK(rows.row(0)[1] == 3e38f);
+  CHECK(std::isfinite(rows.row(0)[4]));
+}
+
 TEST_CASE("bad sources and malformed graphs are data errors", "[geodesic]") {
   auto g = unfurl::test::graph_from_edges(3, {{0, 1, 1.f}, {1, 2, 1.f}});
   const std::vector<NodeId> beyond{3};

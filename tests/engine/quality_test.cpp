@@ -7,6 +7,7 @@
 
 #include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
+#include "engine/neighbours.hpp"
 #include "engine/quality_dimension.hpp"
 #include "engine/quality_residual.hpp"
 #include "engine/random.hpp"
@@ -136,31 +137,91 @@ TEST_CASE("sampled estimates cover the exact value at the stated 95% level", "[q
     for (std::size_t q = 0; q < s.scored_points.size(); ++q) {
       REQUIRE(s.t_terms[q] == e.t_terms[s.scored_points[q]]);
       REQUIRE(s.c_terms[q] == e.c_terms[s.scored_points[q]]);
+      REQUIRE(s.knn_terms[q] == e.knn_terms[s.scored_points[q]]);
     }
+    // So the estimate step alone on the exact terms of the same draw gives the same figures
+    // (what the coverage check in tests/reference/interval_check.py relies on).
+    NeighbourhoodScore b;
+    b.k = 12;
+    b.sampled = true;
+    b.scored_points = detail::sample_rows(20000, 2000, seed);
+    REQUIRE(b.scored_points == s.scored_points);
+    for (std::uint32_t row : b.scored_points) {
+      b.t_terms.push_back(e.t_terms[row]);
+      b.c_terms.push_back(e.c_terms[row]);
+      b.knn_terms.push_back(e.knn_terms[row]);
+    }
+    detail::estimate_from_terms(b, 20000, seed);
+    REQUIRE(b.t_low == s.t_low);
+    REQUIRE(b.c_high == s.c_high);
+    REQUIRE(b.knn_low == s.knn_low);
     t_inside += s.t_low <= e.trustworthiness && e.trustworthiness <= s.t_high;
     c_inside += s.c_low <= e.continuity && e.continuity <= s.c_high;
   }
   // Binomial(20, 0.95) (common practice, no source): a correct 95% interval reaches 19 of 20
   // with probability 0.74, so this bar can fail for a sound interval and another seed list;
-  // for this fixed list it is deterministic. Observed here: T 19, C 20 of 20. (The earlier
-  // N = 10,000 version with 500 queries gave T 18, C 19; fewer queries cover skewed terms
-  // less well.)
+  // for this fixed list it is deterministic. Observed with the earlier normal interval: T 19,
+  // C 20 of 20 (the N = 10,000 version with 500 queries gave T 18, C 19: fewer queries cover
+  // skewed terms less well, which tests/reference/interval_check.py now checks in earnest).
   CHECK(t_inside >= 19);
   CHECK(c_inside >= 19);
 
-  // The interval procedure itself on 2,000 seeded draws of the engine's sampler from the exact
-  // per-point terms: the coverage of a 95% interval, within 3 binomial standard deviations
-  // (sqrt(0.95 * 0.05 / 2000) = 0.49%).
+  // The interval procedure itself on 200 seeded draws of the engine's sampler from the exact
+  // per-point terms. The betting interval's coverage is at least 95% for any population in
+  // [0, 1] (Waudby-Smith and Ramdas, JRSS B 2024, from Ville's inequality): the observed share
+  // must not fall below 95% by more than 3 binomial standard deviations
+  // (sqrt(0.95 * 0.05 / 200) = 1.5%; common practice, no source).
   int covered = 0;
-  const int draws = 2000;
+  const int draws = 200;
   std::vector<double> terms(2000);
   for (int seed = 0; seed < draws; ++seed) {
     const auto rows = detail::sample_rows(20000, 2000, 1000 + seed);
     for (std::size_t q = 0; q < rows.size(); ++q) terms[q] = e.t_terms[rows[q]];
-    const auto m = detail::mean_interval(terms, 20000);
-    covered += std::abs(m.mean - (1.0 - e.trustworthiness)) <= m.half;
+    const auto m = detail::mean_interval(terms, 20000, seed);
+    REQUIRE(m.low < m.high);
+    covered += m.low <= 1.0 - e.trustworthiness && 1.0 - e.trustworthiness <= m.high;
   }
-  CHECK(covered / double(draws) == Approx(0.95).margin(0.015));
+  CHECK(covered / double(draws) >= 0.95 - 3 * 0.0154);
+}
+
+TEST_CASE("the sampled interval covers when a few points carry the error", "[quality]") {
+  // A population of 5,000 terms in [0, 1]: 10 at 0.9 (misplaced points), the rest 0 or 0.01.
+  // At n = 200 about two samples in three contain no heavy term ((1 - 10/5000)^200 = 0.67),
+  // so an interval from the sample's spread alone misses the mean in those draws. The betting
+  // interval uses the bound 1 on every term: coverage at least 95% by Ville's inequality
+  // (Waudby-Smith and Ramdas, JRSS B 2024); bar 93% as the quality issue states it.
+  std::vector<double> population(5000);
+  for (std::size_t i = 0; i < population.size(); ++i)
+    population[i] = i % 37 == 0 ? 0.9 * (i / 37 < 10) + 0.01 * (i / 37 >= 10) : 0.0;
+  double mean = 0;
+  for (double t : population) mean += t;
+  mean /= 5000;
+  for (std::size_t n : {50, 200}) {
+    int covered = 0, seen_heavy = 0;
+    std::vector<double> terms(n);
+    for (int seed = 1; seed <= 200; ++seed) {
+      const auto rows = detail::sample_rows(5000, n, seed);
+      bool heavy = false;
+      for (std::size_t q = 0; q < n; ++q) {
+        terms[q] = population[rows[q]];
+        heavy = heavy || terms[q] > 0.5;
+      }
+      seen_heavy += heavy;
+      const auto m = detail::mean_interval(terms, 5000, seed);
+      REQUIRE(m.low < m.high);  // never zero width while n < N
+      REQUIRE(m.low <= m.mean);
+      REQUIRE(m.mean <= m.high);
+      covered += m.low <= mean && mean <= m.high;
+    }
+    INFO("n = " << n << ": samples with a heavy term " << seen_heavy << " of 200");
+    CHECK(seen_heavy < 140);  // the case is the one meant: most samples see no heavy term
+    CHECK(covered >= 186);    // 93% of 200
+  }
+  // The whole population: the exact mean, zero width.
+  const auto all = detail::mean_interval(population, 5000, 1);
+  CHECK(all.low == all.mean);
+  CHECK(all.high == all.mean);
+  CHECK(all.mean == Approx(mean).epsilon(1e-12));
 }
 
 TEST_CASE("sampled scores do not depend on the thread count", "[quality]") {
@@ -311,6 +372,40 @@ TEST_CASE("Levina-Bickel skips points with duplicates", "[quality]") {
   CHECK(r.points_skipped == 1);
   CHECK(r.estimate == Approx(1.0 / (1.5 * std::log(2.0))).epsilon(1e-12));
   CHECK(r.warnings.size() == 1);
+}
+
+TEST_CASE("the intrinsic dimension is taken on distinct points", "[quality]") {
+  // A square's points, 90% of the rows repeating earlier ones: on merged points the estimate
+  // must equal Levina-Bickel on the distinct rows alone (the formula on brute-force
+  // distances, knn_distances above), and the graph stage's kNN lists must give the same
+  // number without a second search.
+  Random rng(3);
+  PointSet distinct(300, 2);
+  for (float& v : distinct.values) v = static_cast<float>(rng.uniform());
+  PointSet rows(3000, 2);
+  for (std::size_t i = 0; i < rows.rows; ++i) {
+    const std::size_t from = i < 300 ? i : rng.below(300);
+    std::copy_n(distinct.row(from), 2, rows.row(i));
+  }
+  const std::size_t k = 10;
+  const auto truth = levina_bickel(knn_distances(distinct, k), distinct.rows, k);
+  const auto merged = intrinsic_dimension(rows, k);
+  CHECK(merged.estimate == Approx(truth.estimate).epsilon(1e-12));
+  CHECK(merged.points_used == 300);
+  CHECK(merged.points == "distinct");
+  GraphOptions go;
+  go.k = k;
+  const GraphResult graph = build_neighbour_graph(rows, go);
+  REQUIRE(graph.dimension.has_value());
+  CHECK(graph.dimension->estimate == Approx(truth.estimate).epsilon(1e-12));
+  CHECK(graph.dimension->points_used == 300);
+  // Too few distinct points for k: k is lowered, with a warning; below 3 there is no estimate.
+  const auto small = intrinsic_dimension(rows, 400);
+  CHECK(small.k == 299);
+  CHECK(small.warnings.size() == 1);
+  PointSet two(10, 2);
+  for (std::size_t i = 0; i < 10; ++i) two.row(i)[0] = static_cast<float>(i % 2);
+  CHECK_THROWS_WITH(intrinsic_dimension(two, 5), Catch::Contains("3 distinct points"));
 }
 
 TEST_CASE("quality stages refuse bad input with a message naming the fault", "[quality]") {

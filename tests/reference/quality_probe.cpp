@@ -4,6 +4,7 @@
 //   pairs:  uint64 count, then count times (uint32 a, uint32 b, float64 distance)
 // Commands (JSON on stdout; errors as one line on stderr, exit code from engine/error.hpp):
 //   scores INPUT MAP K[,K...] exact|sampled|automatic SAMPLE SEED
+//   intervals INPUT MAP K SAMPLE FIRST_SEED SEEDS   (one sampled run per seed, as JSON lines)
 //   residual ROWS MAP        residual-pairs PAIRS MAP        dimension KNN K
 #include <cstdint>
 #include <cstdio>
@@ -13,6 +14,7 @@
 #include <string>
 #include <vector>
 
+#include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
 #include "engine/quality.hpp"
 #include "engine/quality_dimension.hpp"
@@ -102,9 +104,43 @@ int run(int argc, char** argv) {
            ", \"continuity\": " + num(b.continuity) +
            ", \"knn_preservation\": " + num(b.knn_preservation) + ", \"t_low\": " + num(b.t_low) +
            ", \"t_high\": " + num(b.t_high) + ", \"c_low\": " + num(b.c_low) +
-           ", \"c_high\": " + num(b.c_high) + "}";
+           ", \"c_high\": " + num(b.c_high) + ", \"knn_low\": " + num(b.knn_low) +
+           ", \"knn_high\": " + num(b.knn_high) + ", \"interval_method\": \"" + b.interval_method +
+           "\"}";
     }
     std::cout << s << "]}\n";
+    return 0;
+  }
+  if (cmd == "intervals" && argc == 8) {
+    // One exact run, then for each seed the sampled path's own draw (detail::sample_rows)
+    // and its own estimate step (detail::estimate_from_terms) on the drawn points' terms,
+    // which are their exact terms (tests/engine/quality_test.cpp checks that).
+    const PointSet input = read_points(argv[2]), map = read_points(argv[3]);
+    QualityOptions o;
+    o.ks = {std::stoul(argv[4])};
+    o.method = ScoreMethod::exact;
+    const std::size_t sample = std::stoul(argv[5]);
+    const std::uint64_t first = std::stoull(argv[6]), seeds = std::stoull(argv[7]);
+    const auto exact = neighbourhood_scores(input, map, o).by_k[0];
+    for (std::uint64_t seed = first; seed < first + seeds; ++seed) {
+      NeighbourhoodScore b;
+      b.k = exact.k;
+      b.sampled = true;
+      b.sample_size = sample;
+      b.scored_points = detail::sample_rows(input.rows, sample, seed);
+      for (std::uint32_t row : b.scored_points) {
+        b.t_terms.push_back(exact.t_terms[row]);
+        b.c_terms.push_back(exact.c_terms[row]);
+        b.knn_terms.push_back(exact.knn_terms[row]);
+      }
+      detail::estimate_from_terms(b, input.rows, seed);
+      std::cout << "{\"seed\": " << seed << ", \"t\": " << num(b.trustworthiness)
+                << ", \"t_low\": " << num(b.t_low) << ", \"t_high\": " << num(b.t_high)
+                << ", \"c\": " << num(b.continuity) << ", \"c_low\": " << num(b.c_low)
+                << ", \"c_high\": " << num(b.c_high) << ", \"knn\": " << num(b.knn_preservation)
+                << ", \"knn_low\": " << num(b.knn_low) << ", \"knn_high\": " << num(b.knn_high)
+                << "}\n";
+    }
     return 0;
   }
   if (cmd == "residual" && argc == 4) {
