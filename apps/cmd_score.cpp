@@ -31,9 +31,12 @@ struct ScoreCommandArgs {
   bool points_changed_ok = false;  // score even when --points is not the map's recorded input
 };
 
-// A remark on stderr that is not an error: the run goes on.
-void note(const GlobalOptions& g, const std::string& line) {
-  if (!g.quiet) fmt::print(stderr, "unfurl: note: {}\n", line);
+// Remarks for stderr that are not errors. They are printed once the run is known to go on,
+// so that a refusal stays the one line on stderr.
+using Notes = std::vector<std::string>;
+void print_notes(const GlobalOptions& g, const Notes& notes) {
+  if (!g.quiet)
+    for (const auto& line : notes) fmt::print(stderr, "unfurl: note: {}\n", line);
 }
 
 std::string text_of(const std::string& key, const nlohmann::json& v) {
@@ -70,14 +73,14 @@ std::string input_differences(const nlohmann::json& recorded, const nlohmann::js
 
 // Refuses (DataError) to score a map against points other than those it was made from,
 // unless --points-changed-ok; a map without such a record gets a note.
-void check_points_identity(const GlobalOptions& g, const ScoreCommandArgs& a,
+void check_points_identity(Notes& notes, const ScoreCommandArgs& a,
                            const nlohmann::json& attributes, const nlohmann::json& now) {
   const bool from_points =
       !attributes.contains("parameters") || !attributes["parameters"].is_object() ||
       attributes["parameters"].value("input_kind", std::string("points")) == "points";
   if (!from_points || !attributes.contains("input") || !attributes["input"].is_object()) {
-    note(g, a.map + " records no point file as its input: cannot check that " + a.points.file +
-                " is the one it was made from");
+    notes.push_back(a.map + " records no point file as its input: cannot check that " +
+                    a.points.file + " is the one it was made from");
     return;
   }
   const std::string differences = input_differences(attributes["input"], now);
@@ -87,9 +90,10 @@ void check_points_identity(const GlobalOptions& g, const ScoreCommandArgs& a,
         fmt::format("--points {}: not the point file {} was made from: {}; give "
                     "--points-changed-ok to score against it anyway",
                     a.points.file, a.map, differences));
-  note(g, fmt::format("--points {} differs from the input {} records ({}); scored anyway "
-                      "(--points-changed-ok)",
-                      a.points.file, a.map, differences));
+  notes.push_back(
+      fmt::format("--points {} differs from the input {} records ({}); scored anyway "
+                  "(--points-changed-ok)",
+                  a.points.file, a.map, differences));
 }
 
 bool is_unfurl_map(const std::string& file) {
@@ -119,9 +123,10 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   PointSet map;
   std::optional<DistanceRows> geodesic;
   std::vector<double> spectrum;
+  Notes notes;
   if (ours) {
     io::MapContents& m = *ours;
-    check_points_identity(g, a, m.attributes, point_input_identity(a.points.file, in));
+    check_points_identity(notes, a, m.attributes, point_input_identity(a.points.file, in));
     // Map rows name input rows; find each among the rows just read.
     std::vector<std::int64_t> position(in.file_rows, -1);
     for (std::size_t i = 0; i < in.rows.size(); ++i) position[in.rows[i]] = i;
@@ -154,8 +159,8 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
                                   foreign.points.rows, a.points.file, in.points.rows));
     map = std::move(foreign.points);
     input = in.points;
-    note(g, a.map + " is an array without a record of its input: cannot check that " +
-                a.points.file + " is the point file it was made from");
+    notes.push_back(a.map + " is an array without a record of its input: cannot check that " +
+                    a.points.file + " is the point file it was made from");
   }
   // The smallest input scored: 3 points (T and C need k < N/2, so k = 1 needs N >= 3).
   if (input.rows < 3)
@@ -164,6 +169,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   adapt_score_k(a.score, input.rows, options);
   options.dimension_k = a.dimension_k_given ? a.dimension_k : default_dimension_k(input.rows);
   validate_score_options(options, input.rows);
+  print_notes(g, notes);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
                      map.cols, input.rows, input.cols));
   const Assessment scores =

@@ -40,8 +40,9 @@ void require_finite(const PointSet& points, const char* what) {
     if (squared_span > 0.5 * std::numeric_limits<float>::max()) {
       char spread[32];
       std::snprintf(spread, sizeof spread, "%.3g", span);
-      throw DataError(std::string(what) + ": column " + std::to_string(j) + " spans " + spread +
-                      "; squared distances would overflow float32 (rescale the data)");
+      throw DataError(
+          std::string(what) + ": column " + std::to_string(j) + " spans " + spread +
+          "; squared distances would exceed float32's range (rescale the data, e.g. --scale)");
     }
   }
 }
