@@ -43,7 +43,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   PointSet input;
   PointSet map;
   std::optional<DistanceRows> geodesic;
-  std::vector<double> spectrum;
+  AxisSpectrum spectrum;
   if (a.map_dataset.empty() && is_unfurl_map(a.map)) {
     io::MapContents m = io::read_map(a.map, true);
     // Map rows name input rows; find each among the rows just read.
@@ -68,7 +68,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     }
     map = std::move(m.coords);
     geodesic = std::move(m.landmark_geodesic);
-    spectrum = std::move(m.spectrum);
+    spectrum = axis_spectrum(m.spectrum, m.spectrum_attributes);
   } else {
     io::PointReadOptions ro;
     ro.dataset = a.map_dataset;

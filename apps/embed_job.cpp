@@ -81,6 +81,9 @@ EmbedResult linear_result(const PointSet& points, std::size_t dims) {
   for (std::size_t i = 0; i < points.rows; ++i) r.rows[i] = i;
   r.spectrum = std::move(lin.spectrum);
   r.spectral.solver = "pca";
+  r.spectral.spectrum_complete = true;
+  r.spectral.largest = r.spectral.order = r.spectrum.size();
+  r.spectrum_mass = whole_spectrum_mass(r.spectrum);
   r.seconds.spectral = r.seconds.total = lin.summary.seconds;
   return r;
 }
@@ -126,7 +129,8 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   options.graph = to_graph_options(a.graph);
   options.components = to_component_options(a.graph);
   apply_map_options(a.map, g.seed, options);
-  const AssessOptions assess = to_assess_options(a.score, g.seed);
+  AssessOptions assess = to_assess_options(a.score, g.seed);
+  if (!a.no_score && assess.residual) options.residual = ResidualOptions{.seed = g.seed};
   const bool given_graph = in.graph.has_value();
   if (given_graph && (a.linear || a.scale != "none" || a.metric != "euclidean" || a.pre_pca))
     throw OptionError("--linear, --scale, --metric and --pre-pca need points, not --input " +
@@ -162,18 +166,19 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (!a.no_score) {
     if (given_graph) {
       // No points: neighbourhoods in input space are unknown; the geodesics still score.
-      const ResidualVarianceCurve curve = residual_variance(result.geodesic, result.coords);
       Assessment scores;
-      scores.residual = curve;
+      scores.residual = result.residual;
       scores.warnings.push_back(
           "trustworthiness and continuity need points; a given graph has none");
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
       map.extras = assessment_arrays(scores);
     } else {
-      const Assessment scores =
-          assess_map(rows_of(in.points, result.rows), result.coords,
-                     a.linear ? nullptr : &result.geodesic, result.spectrum, assess, stop_token());
+      if (result.residual) assess.residual = false;  // the embedding's own pairs are better
+      Assessment scores = assess_map(rows_of(in.points, result.rows), result.coords,
+                                     a.linear ? nullptr : &result.geodesic, axis_spectrum(result),
+                                     assess, stop_token());
+      if (result.residual) scores.residual = result.residual;
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
       for (auto& extra : assessment_arrays(scores)) map.extras.push_back(std::move(extra));
@@ -191,7 +196,8 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   for (std::size_t r : result.rows) map.rows.push_back(in.rows[r]);
   for (std::size_t r : result.landmark_rows) map.landmark_rows.push_back(in.rows[r]);
   map.landmark_coords = result.landmark_coords;
-  map.spectrum = result.spectrum;
+  map.spectrum = axis_spectrum(result).top;
+  map.spectrum_attributes = spectrum_json(result);
   if (a.map.keep_geodesics && !a.linear) map.landmark_geodesic = std::move(result.geodesic);
   report["parameters"] = parameters_json(g, a, options, result);
   report["seed"] = g.seed;
