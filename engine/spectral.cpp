@@ -264,6 +264,24 @@ void triangulate(const DistanceRows& rows, const detail::EigenPairs& pairs,
   errors.rethrow();
 }
 
+// A dense symmetric B with a block product for the spectrum estimate's probes: row i of the
+// result is column i of B times the block (B is symmetric; columns are contiguous), rows in
+// parallel, each a product in a fixed order, so nothing depends on the thread count.
+struct DenseBlockOperator {
+  const Eigen::MatrixXd& b;
+  Eigen::Index rows() const { return b.rows(); }
+  Eigen::Index cols() const { return b.cols(); }
+  void perform_op(const double* x, double* y) const { perform_block(x, y, 1); }
+  void perform_block(const double* x, double* y, std::size_t k) const {
+    const auto n = b.rows();
+    const auto width = static_cast<Eigen::Index>(k);
+    const Eigen::Map<const Eigen::MatrixXd> in(x, n, width);
+    Eigen::Map<Eigen::MatrixXd> out(y, n, width);
+#pragma omp parallel for schedule(static)
+    for (Eigen::Index i = 0; i < n; ++i) out.row(i).noalias() = b.col(i).transpose() * in;
+  }
+};
+
 detail::EigenPairs solve(const Eigen::MatrixXd& b, const SpectralOptions& o, SpectralSummary& s,
                          SpectrumMass& mass) {
   if (static_cast<std::size_t>(b.rows()) <= o.dense_limit) {
@@ -275,7 +293,8 @@ detail::EigenPairs solve(const Eigen::MatrixXd& b, const SpectralOptions& o, Spe
   s.solver = "lanczos";
   Spectra::DenseSymMatProd<double> op(b);
   detail::EigenPairs pairs = detail::iterative_top(op, o.dims, iterative_settings(o));
-  mass = estimated_mass(op, b.trace(), pairs, o, s);
+  const DenseBlockOperator block{b};
+  mass = estimated_mass(block, b.trace(), pairs, o, s);
   return pairs;
 }
 

@@ -158,7 +158,7 @@ TEST_CASE("an axis below the float32 noise floor is named, a real one is not", "
   CHECK(roll.spectrum[1] > 100 * roll.summary.noise_floor);
 }
 
-TEST_CASE("--dims beyond the positive part of the spectrum says so and sets the axis to 0",
+TEST_CASE("an axis beyond the positive part of the spectrum is named, warned about and 0",
           "[spectral]") {
   // Hand-derived: the 5-cycle's squared geodesics form the circulant with first row
   // (0, 1, 4, 4, 1); its eigenvalues are 10 and, for k = 1..4, 2 cos(2 pi k / 5) + 8 cos(4 pi

@@ -38,7 +38,7 @@ MapContents sample_map(std::size_t n, std::size_t m, std::size_t l, bool geodesi
   }
   for (std::size_t j = 0; j < l; ++j) c.spectrum.push_back(100.0 / (j + 1));
   c.spectrum_attributes = {
-      {"which", "largest"}, {"count", l}, {"positive_mass", 412.5}, {"noise_axes", {3}}};
+      {"which", "largest"}, {"count", l}, {"positive_mass", 412.5}, {"noise_axes", {3, 4}}};
   c.extras.push_back({"/quality/trustworthiness",
                       {0.97, 0.95},
                       {2},
