@@ -183,8 +183,8 @@ ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const Poin
   std::vector<Moments> rows;
   append_row_moments(geodesic, map, rows, stop);
   ResidualVarianceCurve curve = finish(merged(rows, map.cols), map.cols);
-  curve.drawn = "every pair of " + std::to_string(geodesic.rows) +
-                " given geodesic rows (landmarks) with every map row";
+  curve.drawn = "every source-to-point pair of " + std::to_string(geodesic.rows) +
+                " given geodesic rows (the landmarks' rows of a map file)";
   curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return curve;
 }
