@@ -122,7 +122,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   PointSet input;
   PointSet map;
   std::optional<DistanceRows> geodesic;
-  std::vector<double> spectrum;
+  AxisSpectrum spectrum;
   Notes notes;
   if (ours) {
     io::MapContents& m = *ours;
@@ -149,7 +149,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     }
     map = std::move(m.coords);
     geodesic = std::move(m.landmark_geodesic);
-    spectrum = std::move(m.spectrum);
+    spectrum = axis_spectrum(m.spectrum, m.spectrum_attributes);
   } else {
     io::PointReadOptions ro;
     ro.dataset = a.map_dataset;

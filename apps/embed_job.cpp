@@ -105,6 +105,9 @@ EmbedResult linear_result(const PointSet& points, std::size_t dims) {
   for (std::size_t i = 0; i < points.rows; ++i) r.rows[i] = i;
   r.spectrum = std::move(lin.spectrum);
   r.spectral.solver = "pca";
+  r.spectral.spectrum_complete = true;
+  r.spectral.largest = r.spectral.order = r.spectrum.size();
+  r.spectrum_mass = whole_spectrum_mass(r.spectrum);
   r.seconds.spectral = r.seconds.total = lin.summary.seconds;
   return r;
 }
@@ -172,8 +175,9 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   const bool given_graph = in.graph.has_value();
   // Preprocessing keeps the rows, so the size is known before it.
   const std::size_t n = given_graph ? in.graph->nodes() : in.points.rows;
-  const EmbedOptions options = job_options(g, a, n, given_graph ? "nodes" : "points");
+  EmbedOptions options = job_options(g, a, n, given_graph ? "nodes" : "points");
   AssessOptions assess = job_assess_options(g, a, n);
+  if (!a.no_score && assess.residual) options.residual = ResidualOptions{.seed = g.seed};
   io::MapContents map;
   // Points not from a reader (demo) were not centred: record zeros, so that `score` reads
   // them back as they were used.
@@ -209,9 +213,8 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (!a.no_score) {
     if (given_graph) {
       // No points: neighbourhoods in input space are unknown; the geodesics still score.
-      const ResidualVarianceCurve curve = residual_variance(result.geodesic, result.coords);
       Assessment scores;
-      scores.residual = curve;
+      scores.residual = result.residual;
       scores.warnings.push_back(
           "trustworthiness and continuity need points; a given graph has none");
       print_assessment(g, scores);
@@ -220,10 +223,12 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
     } else {
       // The graph stage's kNN lists already gave the intrinsic dimension (no second search).
       if (result.dimension) assess.dimension_k = 0;
-      Assessment scores =
-          assess_map(rows_of(in.points, result.rows), result.coords,
-                     a.linear ? nullptr : &result.geodesic, result.spectrum, assess, stop_token());
+      if (result.residual) assess.residual = false;  // the embedding's own pairs are better
+      Assessment scores = assess_map(rows_of(in.points, result.rows), result.coords,
+                                     a.linear ? nullptr : &result.geodesic, axis_spectrum(result),
+                                     assess, stop_token());
       if (result.dimension) scores.dimension = result.dimension;
+      if (result.residual) scores.residual = result.residual;
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
       for (auto& extra : assessment_arrays(scores)) map.extras.push_back(std::move(extra));
@@ -242,7 +247,8 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   for (std::size_t r : result.rows) map.rows.push_back(in.rows[r]);
   for (std::size_t r : result.landmark_rows) map.landmark_rows.push_back(in.rows[r]);
   map.landmark_coords = result.landmark_coords;
-  map.spectrum = result.spectrum;
+  map.spectrum = axis_spectrum(result).top;
+  map.spectrum_attributes = spectrum_json(result);
   if (a.map.keep_geodesics && !a.linear) map.landmark_geodesic = std::move(result.geodesic);
   report["parameters"] = without_unused(embed_run_shape(a), parameters_json(g, a, options, result));
   report["seed"] = g.seed;

@@ -2,6 +2,8 @@
 
 #include <fmt/core.h>
 
+#include <algorithm>
+
 #include "engine/error.hpp"
 
 namespace unfurl::app {
@@ -17,7 +19,65 @@ std::string join(const std::vector<std::size_t>& v, std::size_t most) {
   return out;
 }
 
+// The largest computed eigenvalues (descending) and the smallest ones (most negative first).
+std::vector<double> largest_of(const EmbedResult& r) {
+  const std::size_t count = std::min(r.spectral.largest, r.spectrum.size());
+  return {r.spectrum.begin(), r.spectrum.begin() + static_cast<std::ptrdiff_t>(count)};
+}
+
+std::vector<double> smallest_of(const EmbedResult& r) {
+  const std::size_t from =
+      r.spectral.spectrum_complete ? 0 : std::min(r.spectral.largest, r.spectrum.size());
+  return {r.spectrum.rbegin(), r.spectrum.rend() - static_cast<std::ptrdiff_t>(from)};
+}
+
+std::vector<double> first(const std::vector<double>& v, std::size_t most) {
+  return {v.begin(), v.begin() + static_cast<std::ptrdiff_t>(std::min(most, v.size()))};
+}
+
 }  // namespace
+
+json spectrum_json(const EmbedResult& r) {
+  const SpectralSummary& s = r.spectral;
+  const SpectrumMass& m = r.spectrum_mass;
+  json j = {{"which", s.spectrum_complete ? "all" : "largest"},
+            {"count", largest_of(r).size()},
+            {"order", s.order},
+            {"mass_method", m.exact ? "exact" : "estimated"},
+            {"positive_mass", m.positive},
+            {"negative_mass", m.negative},
+            {"trace", m.trace},
+            {"negative_ratio", m.ratio()},
+            {"negative_ratio_standard_error", m.ratio_error()},
+            {"noise_floor", r.spectral.noise_floor},
+            {"noise_axes", r.spectral.noise_axes}};
+  if (!m.exact) {
+    j["mass_standard_error"] = m.standard_error;
+    j["mass_source"] =
+        "trace(B) exact; trace(|B|) by stochastic Lanczos quadrature (Hutchinson 1989; Ubaru, "
+        "Chen and Saad 2017) with the computed eigenpairs deflated; standard errors over the "
+        "probes";
+    j["probes"] = m.probes;
+    j["quadrature_steps"] = m.steps;
+    j["smallest_computed"] = smallest_of(r);
+  }
+  return j;
+}
+
+AxisSpectrum axis_spectrum(const EmbedResult& r) {
+  const SpectrumMass& m = r.spectrum_mass;
+  return {largest_of(r), m.positive, m.exact, 0.5 * m.standard_error, r.spectral.noise_floor};
+}
+
+AxisSpectrum axis_spectrum(const std::vector<double>& spectrum, const json& attributes) {
+  AxisSpectrum a;
+  a.top = spectrum;
+  a.positive_mass = attributes.value("positive_mass", 0.0);
+  a.mass_exact = attributes.value("mass_method", std::string()) == "exact";
+  a.mass_error = 0.5 * attributes.value("mass_standard_error", 0.0);
+  a.noise_floor = attributes.value("noise_floor", 0.0);
+  return a;
+}
 
 json graph_json(const GraphSummary& s) {
   return {{"nodes", s.nodes},
@@ -51,16 +111,20 @@ json embed_json(const EmbedResult& r) {
                     {"pick", r.landmarks.pick == Pick::maxmin ? "maxmin" : "random"},
                     {"coverage_radius", r.landmarks.coverage_radius},
                     {"threads", r.landmarks.threads}};
-  j["spectral"] = {
+  json spectral = {
       {"solver", r.spectral.solver},
       {"converged", r.spectral.converged},
-      {"order", r.spectral.order},
-      {"positive_eigenvalues", r.spectral.positive},
-      {"negative_eigenvalues", r.spectral.negative},
-      {"negative_ratio", r.negative_ratio},
-      {"eigenvalues_top",
-       std::vector<double>(r.spectrum.begin(),
-                           r.spectrum.begin() + std::min<std::size_t>(r.spectrum.size(), 10))}};
+      {"operations", {{"eigenpairs", r.spectral.operations}, {"mass", r.spectral.operations_mass}}},
+      {"computed",
+       {{"whole_spectrum", r.spectral.spectrum_complete},
+        {"eigenvalues", r.spectrum.size()},
+        {"positive", r.spectral.positive},
+        {"negative", r.spectral.negative}}},
+      {"eigenvalues_largest", first(largest_of(r), 10)},
+      {"eigenvalues_smallest", first(smallest_of(r), 10)}};
+  spectral.update(spectrum_json(r));
+  spectral.erase("smallest_computed");
+  j["spectral"] = spectral;
   j["map"] = {{"rows", r.coords.rows}, {"dims", r.coords.cols}};
   j["seconds"] = {{"graph", r.seconds.graph},       {"components", r.seconds.components},
                   {"node_order", r.seconds.order},  {"geodesics", r.seconds.geodesics},
@@ -82,11 +146,17 @@ json assessment_json(const Assessment& a) {
                       {"method", s.sampled ? "sampled" : "exact"},
                       {"interval_method", s.interval_method},
                       {"sample_size", s.sample_size}});
-  json j = {{"neighbourhoods", scores}, {"axis_share", a.axis_share}, {"seconds", a.seconds}};
+  json j = {{"neighbourhoods", scores},
+            {"axis_share", a.axis_share},
+            {"axis_share_standard_error", a.axis_share_error},
+            {"axis_share_basis", a.axis_share_basis},
+            {"seconds", a.seconds}};
   if (a.residual)
     j["residual_variance"] = {{"by_dims", a.residual->by_dims},
+                              {"standard_error", a.residual->standard_error},
                               {"pairs", a.residual->pairs},
-                              {"sampled", a.residual->sampled}};
+                              {"sampled", a.residual->sampled},
+                              {"drawn", a.residual->drawn}};
   if (a.dimension)
     j["intrinsic_dimension"] = {
         {"estimate", a.dimension->estimate},   {"k", a.dimension->k},
@@ -132,6 +202,8 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
                    {a.residual->by_dims.size()},
                    {{"pairs", a.residual->pairs},
                     {"sampled", a.residual->sampled},
+                    {"drawn", a.residual->drawn},
+                    {"standard_error", a.residual->standard_error},
                     {"meaning", "1 - R^2 of given vs map distances using the first d axes"}}});
   if (a.dimension)
     out.push_back({"/quality/intrinsic_dimension",
@@ -146,7 +218,12 @@ std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
     out.push_back({"/quality/axis_share",
                    a.axis_share,
                    {a.axis_share.size()},
-                   {{"meaning", "eigenvalue of each axis / sum of positive eigenvalues"}}});
+                   {{"meaning",
+                     "eigenvalue of each axis / sum of the positive eigenvalues of the whole "
+                     "spectrum"},
+                    {"basis", a.axis_share_basis},
+                    {"noise_axes", a.noise_axes},
+                    {"standard_error", a.axis_share_error}}});
   return out;
 }
 
@@ -200,13 +277,23 @@ void print_embedding(const GlobalOptions& g, const EmbedResult& r) {
                        r.bridges.size()));
   say(g, fmt::format("geodesics: {} sources x {} nodes in {:.2f} s", r.landmarks.landmarks,
                      r.landmarks.nodes, r.seconds.geodesics));
+  const std::vector<double> largest = largest_of(r);
   std::string eig;
-  for (std::size_t i = 0; i < r.spectrum.size() && i < 6; ++i)
-    eig += (i ? ", " : "") + fmt::format("{:.4g}", r.spectrum[i]);
-  say(g, fmt::format("spectral: {} solver, eigenvalues {}{}; non-Euclidean ratio {:.4f} "
-                     "({:.2f} s)",
-                     r.spectral.solver, eig, r.spectrum.size() > 6 ? ", ..." : "", r.negative_ratio,
-                     r.seconds.spectral));
+  for (std::size_t i = 0; i < largest.size() && i < 6; ++i)
+    eig += (i ? ", " : "") + fmt::format("{:.4g}", largest[i]);
+  const SpectrumMass& m = r.spectrum_mass;
+  const std::string ratio =
+      m.exact ? fmt::format("{:.4f} (exact, whole spectrum)", m.ratio())
+              : fmt::format(
+                    "{:.4f} +- {:.4f} (estimated over the whole spectrum by stochastic "
+                    "Lanczos quadrature, {} probes; +- one standard error)",
+                    m.ratio(), m.ratio_error(), m.probes);
+  say(g, fmt::format("spectral: {} solver, largest eigenvalues {}{} ({} of {}); non-Euclidean "
+                     "ratio {} ({:.2f} s)",
+                     r.spectral.solver, eig, largest.size() > 6 ? ", ..." : "",
+                     r.spectral.spectrum_complete ? std::string("all")
+                                                  : std::to_string(largest.size()) + " computed",
+                     r.spectral.order, ratio, r.seconds.spectral));
   say(g, fmt::format("map: {} rows x {} dims in {:.2f} s", r.coords.rows, r.coords.cols,
                      r.seconds.total));
   for (const auto& w : r.warnings) say(g, "warning: " + w);
@@ -230,8 +317,20 @@ void print_assessment(const GlobalOptions& g, const Assessment& a) {
     std::string curve;
     for (std::size_t d = 0; d < a.residual->by_dims.size(); ++d)
       curve += fmt::format("{}{}: {:.4f}", d ? ", " : "", d + 1, a.residual->by_dims[d]);
-    say(g, fmt::format("residual variance by dims ({}{} pairs): {}",
-                       a.residual->sampled ? "sampled, " : "", a.residual->pairs, curve));
+    if (!a.residual->standard_error.empty()) {
+      curve += " (jackknife standard error";
+      for (double e : a.residual->standard_error) curve += fmt::format(" {:.2g}", e);
+      curve += ")";
+    }
+    say(g, fmt::format("residual variance by dims: {}; {} pairs: {}", curve, a.residual->pairs,
+                       a.residual->drawn));
+  }
+  if (!a.axis_share.empty()) {
+    std::string shares;
+    for (std::size_t d = 0; d < a.axis_share.size(); ++d)
+      shares += fmt::format("{}{}: {:.4f}", d ? ", " : "", d + 1, a.axis_share[d]);
+    say(g,
+        fmt::format("axis share of the positive eigenvalues ({}): {}", a.axis_share_basis, shares));
   }
   if (a.dimension)
     say(g, fmt::format("intrinsic dimension (Levina-Bickel, k = {}, {} {} points): {:.2f}",

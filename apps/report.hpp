@@ -19,6 +19,13 @@ nlohmann::json graph_json(const GraphSummary& s);
 nlohmann::json embed_json(const EmbedResult& r);
 nlohmann::json assessment_json(const Assessment& a);
 
+// Which eigenvalues were computed and the whole spectrum's masses (exact or estimated): the
+// attributes of the map's /spectrum and part of the JSON's "spectral" block.
+nlohmann::json spectrum_json(const EmbedResult& r);
+// What the scores need of the spectrum: of a run, or of a map file's /spectrum and attributes.
+AxisSpectrum axis_spectrum(const EmbedResult& r);
+AxisSpectrum axis_spectrum(const std::vector<double>& spectrum, const nlohmann::json& attributes);
+
 // The datasets under /quality (scores, curves, per-point terms) and /graph.
 std::vector<io::MapArray> assessment_arrays(const Assessment& a);
 std::vector<io::MapArray> graph_arrays(const EmbedResult& r);

@@ -16,8 +16,7 @@ void AssessOptions::validate(std::size_t points) const {
 }
 
 Assessment assess_map(const PointSet& input, const PointSet& map, const DistanceRows* geodesic,
-                      const std::vector<double>& spectrum, const AssessOptions& options,
-                      StopToken stop) {
+                      const AxisSpectrum& spectrum, const AssessOptions& options, StopToken stop) {
   const Stopwatch watch;
   if (input.rows != map.rows)
     throw DataError("the map has " + std::to_string(map.rows) + " rows but the points have " +
@@ -33,10 +32,15 @@ Assessment assess_map(const PointSet& input, const PointSet& map, const Distance
         throw InternalError("geodesic rows have " + std::to_string(geodesic->cols) +
                             " columns for a map of " + std::to_string(map.rows) + " rows");
       a.residual = residual_variance(*geodesic, map, stop);
+      a.warnings.push_back(
+          "residual variance: from the landmark rows only (landmark-to-point pairs); "
+          "landmarks sit at the edges, so it can read low");
     } else {
       const auto pairs =
           sample_pair_distances(input, options.residual_pairs, options.neighbourhoods.seed);
       a.residual = residual_variance(pairs, map, stop);
+      a.residual->drawn = std::to_string(pairs.size()) +
+                          " pairs of rows drawn uniformly at random, input-space distances";
       a.warnings.push_back(
           "residual variance: no geodesic rows, so against input-space distances of sampled "
           "pairs");
@@ -54,13 +58,31 @@ Assessment assess_map(const PointSet& input, const PointSet& map, const Distance
     }
   }
 
-  double positive = 0;
-  for (double v : spectrum)
-    if (v > 0) positive += v;
-  for (std::size_t d = 0; d < map.cols && d < spectrum.size(); ++d)
-    a.axis_share.push_back(positive > 0 && spectrum[d] > 0 ? spectrum[d] / positive : 0.0);
+  assess_axes(spectrum, map.cols, a);
   a.seconds = watch.seconds();
   return a;
+}
+
+void assess_axes(const AxisSpectrum& spectrum, std::size_t map_axes, Assessment& a) {
+  const std::vector<double>& top = spectrum.top;
+  double positive = spectrum.positive_mass;
+  a.axis_share_basis = spectrum.mass_exact ? "whole spectrum" : "estimated whole spectrum";
+  if (!(positive > 0)) {
+    positive = 0;
+    for (double v : top)
+      if (v > 0) positive += v;
+    a.axis_share_basis = "listed eigenvalues only";
+    if (!top.empty())
+      a.warnings.push_back(
+          "axis share: the map does not record the whole spectrum's positive mass, so the "
+          "shares are of the listed eigenvalues only and may read high");
+  }
+  for (std::size_t d = 0; d < map_axes && d < top.size(); ++d) {
+    const double share = positive > 0 && top[d] > 0 ? top[d] / positive : 0.0;
+    a.axis_share.push_back(share);
+    a.axis_share_error.push_back(positive > 0 ? share * spectrum.mass_error / positive : 0.0);
+    if (spectrum.noise_floor > 0 && top[d] <= spectrum.noise_floor) a.noise_axes.push_back(d + 1);
+  }
 }
 
 }  // namespace unfurl

@@ -110,9 +110,13 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
     rows_for_output = std::move(lr.rows);
   }
   result.seconds.spectral = watch.seconds();
+  if (options.residual)  // map.coords row v is node v of g
+    result.residual =
+        graph_residual_variance(g, map.coords, *options.residual, order.new_of_old, stop);
   result.spectral = map.summary;
   append_warnings(result.warnings, "spectral", map.summary.warnings);
   result.spectrum = std::move(map.spectrum);
+  result.spectrum_mass = map.mass;
   result.negative_ratio = map.negative_ratio;
   result.landmark_coords = std::move(map.landmark_coords);
 

@@ -18,6 +18,7 @@
 #include "engine/geodesic.hpp"
 #include "engine/landmarks.hpp"
 #include "engine/neighbours.hpp"
+#include "engine/quality_residual.hpp"
 #include "engine/reorder.hpp"
 #include "engine/spectral.hpp"
 #include "engine/stop.hpp"
@@ -31,6 +32,9 @@ struct EmbedOptions {
   LandmarkOptions landmarks;    // landmark count and pick rule (landmark mode)
   SpectralOptions spectral;     // map dimensions and eigen solver settings
   bool keep_geodesics = false;  // return the landmark rows, columns in map-row order
+  // When set, the residual variance curve from geodesic rows of the graph itself, from
+  // sources that represent all pairs (engine/quality_residual.hpp), not the landmark rows.
+  std::optional<ResidualOptions> residual;
   // Node order for the shortest-path stage (memory locality; results map back to input
   // order). morton and tree_leaves need points: for a given graph they fall back to bfs.
   NodeOrder order = NodeOrder::morton;
@@ -49,12 +53,14 @@ struct EmbedResult {
   std::vector<std::size_t> landmark_rows;  // input point (representative) of each landmark
   std::vector<double> landmark_coords;     // landmarks x dims
   std::vector<double> spectrum;            // eigenvalues of B, descending
-  double negative_ratio = 0;               // sum |negative| / sum positive eigenvalues
+  SpectrumMass spectrum_mass;              // whole-spectrum masses (exact or estimated)
+  double negative_ratio = 0;               // spectrum_mass.ratio()
   // Landmark geodesic rows with columns in map-row order (keep_geodesics, or needed by the
   // residual variance score); empty otherwise.
   DistanceRows geodesic;
-  std::optional<GraphSummary> graph;            // absent for a given graph
-  std::optional<IntrinsicDimension> dimension;  // from the graph stage's kNN lists, if any
+  std::optional<ResidualVarianceCurve> residual;  // with options.residual; over graph nodes
+  std::optional<GraphSummary> graph;              // absent for a given graph
+  std::optional<IntrinsicDimension> dimension;    // from the graph stage's kNN lists, if any
   ComponentSummary components;
   std::vector<BridgeEdge> bridges;  // as input points (from, to), when bridged
   LandmarkSummary landmarks;

@@ -5,7 +5,9 @@
 #include <cmath>
 
 #include "engine/detail/point_checks.hpp"
+#include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
+#include "engine/geodesic.hpp"
 #include "engine/parallel.hpp"
 #include "engine/random.hpp"
 
@@ -103,10 +105,11 @@ ResidualVarianceCurve finish(const Moments& total, std::size_t m) {
 
 }  // namespace
 
-ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const PointSet& map,
-                                        StopToken stop) {
-  const auto start = std::chrono::steady_clock::now();
-  detail::require_finite(map, "residual variance map");
+namespace {
+
+// Moments of each row's pairs (sources[r], j), j != sources[r], appended in row order.
+void append_row_moments(const DistanceRows& geodesic, const PointSet& map,
+                        std::vector<Moments>& out, StopToken stop) {
   if (geodesic.cols != map.rows)
     throw DataError("residual variance: geodesic rows have " + std::to_string(geodesic.cols) +
                     " columns but the map has " + std::to_string(map.rows) + " rows");
@@ -114,7 +117,8 @@ ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const Poin
       geodesic.values.size() != geodesic.rows * geodesic.cols)
     throw DataError("residual variance: geodesic rows are empty or inconsistent in size");
   const std::size_t m = map.cols;
-  std::vector<Moments> rows(geodesic.rows, Moments(m));
+  const std::size_t first = out.size();
+  out.resize(first + geodesic.rows, Moments(m));
   ExceptionCollector errors;
 #pragma omp parallel for schedule(dynamic)
   for (std::size_t r = 0; r < geodesic.rows; ++r) {
@@ -130,19 +134,105 @@ ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const Poin
         if (!std::isfinite(g[j]))
           throw DataError("residual variance: geodesic row " + std::to_string(r) + " column " +
                           std::to_string(j) + " is not finite");
-      rows[r] = group_moments(map, geodesic.cols,
-                              [&](std::size_t j, std::size_t& a, std::size_t& b, double& x) {
-                                a = s;
-                                b = j;
-                                x = g[j];
-                                return j != s;
-                              });
+      out[first + r] = group_moments(map, geodesic.cols,
+                                     [&](std::size_t j, std::size_t& a, std::size_t& b, double& x) {
+                                       a = s;
+                                       b = j;
+                                       x = g[j];
+                                       return j != s;
+                                     });
     });
   }
   errors.rethrow();
+}
+
+Moments merged(const std::vector<Moments>& parts, std::size_t m, std::size_t skip_first = 0,
+               std::size_t skip_last = 0) {
   Moments total(m);
-  for (const Moments& g : rows) total.merge(g);
-  ResidualVarianceCurve curve = finish(total, m);
+  for (std::size_t i = 0; i < parts.size(); ++i)
+    if (i < skip_first || i >= skip_last) total.merge(parts[i]);
+  return total;
+}
+
+// Delete-a-group jackknife (Efron and Tibshirani, An Introduction to the Bootstrap, 1993,
+// ch. 11) over up to 32 contiguous groups of source rows: the rows are the sampled units.
+std::vector<double> jackknife_error(const std::vector<Moments>& rows, std::size_t m) {
+  const std::size_t groups = std::min<std::size_t>(rows.size(), 32);
+  std::vector<double> error(m, 0.0);
+  if (groups < 2) return error;
+  std::vector<std::vector<double>> leave_out;
+  for (std::size_t g = 0; g < groups; ++g) {
+    const Moments t = merged(rows, m, g * rows.size() / groups, (g + 1) * rows.size() / groups);
+    leave_out.push_back(finish(t, m).by_dims);
+  }
+  for (std::size_t d = 0; d < m; ++d) {
+    double mean = 0.0, sum = 0.0;
+    for (const auto& v : leave_out) mean += v[d] / static_cast<double>(groups);
+    for (const auto& v : leave_out) sum += (v[d] - mean) * (v[d] - mean);
+    error[d] = std::sqrt(sum * static_cast<double>(groups - 1) / static_cast<double>(groups));
+  }
+  return error;
+}
+
+}  // namespace
+
+ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const PointSet& map,
+                                        StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::require_finite(map, "residual variance map");
+  std::vector<Moments> rows;
+  append_row_moments(geodesic, map, rows, stop);
+  ResidualVarianceCurve curve = finish(merged(rows, map.cols), map.cols);
+  curve.drawn = "every source-to-point pair of " + std::to_string(geodesic.rows) +
+                " given geodesic rows (the landmarks' rows of a map file)";
+  curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return curve;
+}
+
+std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& options,
+                                     std::span<const NodeId> draw_order, std::string& drawn) {
+  std::vector<NodeId> sources;
+  if (nodes <= options.all_pairs_limit || options.sources >= nodes) {
+    for (std::size_t v = 0; v < nodes; ++v) sources.push_back(static_cast<NodeId>(v));
+    drawn = "every pair of the " + std::to_string(nodes) + " graph nodes (all pairs up to " +
+            std::to_string(options.all_pairs_limit) + " nodes)";
+    return sources;
+  }
+  // Salted: with the same seed a random landmark draw of the same count would otherwise pick
+  // the very same nodes, and the residual variance would read the landmark rows again.
+  constexpr std::uint64_t kSalt = 0x7265736964756531;
+  for (std::uint32_t at : detail::sample_rows(nodes, options.sources, options.seed ^ kSalt))
+    sources.push_back(draw_order.empty() ? static_cast<NodeId>(at) : draw_order[at]);
+  drawn = "every graph node paired with " + std::to_string(options.sources) +
+          " source nodes drawn uniformly at random (seed " + std::to_string(options.seed) +
+          ", not the landmarks; all pairs only up to " + std::to_string(options.all_pairs_limit) +
+          " nodes)";
+  return sources;
+}
+
+ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const PointSet& coords,
+                                              const ResidualOptions& options,
+                                              std::span<const NodeId> draw_order, StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::require_finite(coords, "residual variance map");
+  if (coords.rows != graph.nodes())
+    throw InternalError("residual variance: a map of " + std::to_string(coords.rows) +
+                        " rows for a graph of " + std::to_string(graph.nodes()) + " nodes");
+  std::string drawn;
+  const std::vector<NodeId> sources = residual_sources(graph.nodes(), options, draw_order, drawn);
+  // A batch of rows at a time: memory stays at kBatch rows whatever N is; the per-row
+  // moments are merged in row order, so the batch size does not change the result.
+  constexpr std::size_t kBatch = 16;
+  std::vector<Moments> rows;
+  for (std::size_t first = 0; first < sources.size(); first += kBatch) {
+    const std::span<const NodeId> batch(sources.data() + first,
+                                        std::min(kBatch, sources.size() - first));
+    append_row_moments(geodesic_rows(graph, batch, stop), coords, rows, stop);
+  }
+  ResidualVarianceCurve curve = finish(merged(rows, coords.cols), coords.cols);
+  curve.sampled = sources.size() < graph.nodes();
+  curve.drawn = drawn;
+  if (curve.sampled) curve.standard_error = jackknife_error(rows, coords.cols);
   curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return curve;
 }
@@ -185,6 +275,7 @@ ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, con
   for (const Moments& g : parts) total.merge(g);
   ResidualVarianceCurve curve = finish(total, m);
   curve.sampled = true;
+  curve.drawn = std::to_string(pairs.size()) + " given pairs";
   curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return curve;
 }

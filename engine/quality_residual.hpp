@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "engine/distance_rows.hpp"
+#include "engine/graph.hpp"
 #include "engine/points.hpp"
 #include "engine/stop.hpp"
 
@@ -18,11 +19,39 @@ namespace unfurl {
 
 struct ResidualVarianceCurve {
   std::vector<double> by_dims;  // by_dims[d - 1]: 1 - R^2 with the first d map axes, d = 1..m
-  std::size_t pairs = 0;        // number of point pairs correlated
-  bool sampled = false;         // the pairs are a sample, not every landmark-to-point pair
-  double seconds = 0;           // wall time
+  std::vector<double> standard_error;  // by_dims' jackknife standard error (sampled sources)
+  std::size_t pairs = 0;               // number of point pairs correlated
+  bool sampled = false;                // the pairs are a sample of all pairs
+  std::string drawn;                   // how the pairs were drawn, in words
+  double seconds = 0;                  // wall time
   std::vector<std::string> warnings;
 };
+
+// The pairs of the embedding's own residual variance: every pair up to all_pairs_limit nodes,
+// beyond that every node paired with `sources` source nodes drawn uniformly without
+// replacement (seeded; never the landmarks as such, which maxmin places at the edges, where
+// the pairs read low). Measured on a 2,000-point Swiss roll, 256 random sources gave 1 - R^2
+// within 3.5% (rms over 20 draws) of the all-pairs value; the curve carries a jackknife
+// standard error over the source rows.
+struct ResidualOptions {
+  std::size_t all_pairs_limit = 2000;  // up to this many nodes: every pair
+  std::size_t sources = 256;           // beyond: sampled source rows
+  std::uint64_t seed = 1;              // of the source draw
+};
+
+// Over the rows of geodesic_rows from the sources ResidualOptions picks on `graph`; coords
+// row v is node v. draw_order as in LandmarkOptions: the seed indexes it, so a renumbering
+// of the graph does not change the nodes drawn. The rows are computed a batch at a time
+// (memory: a batch of rows, never N x N). Deterministic for any thread count.
+ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const PointSet& coords,
+                                              const ResidualOptions& options,
+                                              std::span<const NodeId> draw_order,
+                                              StopToken stop = {});
+
+// Which rows of an N-node graph the residual variance uses (graph node ids, ascending in the
+// caller's numbering), and the words for how they were drawn.
+std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& options,
+                                     std::span<const NodeId> draw_order, std::string& drawn);
 
 // Over every pair (sources[r], j), j != sources[r], of the landmark-to-all geodesic rows
 // (geodesic.cols == map.rows). Pairs between two landmarks appear once from each side.

@@ -7,8 +7,11 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <cstdio>
+#include <limits>
 #include <utility>
 
+#include "engine/detail/absolute_trace.hpp"
 #include "engine/detail/centred_operator.hpp"
 #include "engine/detail/eigen_top.hpp"
 #include "engine/error.hpp"
@@ -27,6 +30,8 @@ void SpectralOptions::validate(std::size_t order) const {
   if (max_iterations < 1) throw OptionError("spectral max_iterations: must be at least 1, got 0");
   if (!(tolerance > 0.0) || !std::isfinite(tolerance))
     throw OptionError("spectral tolerance: must be a positive number");
+  if (probes < 2) throw OptionError("spectral probes: must be at least 2 (for an error bound)");
+  if (quadrature < 1) throw OptionError("spectral quadrature: must be at least 1 step");
 }
 
 namespace {
@@ -34,7 +39,42 @@ namespace {
 using Clock = std::chrono::steady_clock;
 
 detail::IterativeSettings iterative_settings(const SpectralOptions& o) {
-  return {o.krylov, o.max_iterations, o.tolerance, o.negative_end};
+  return {o.krylov, o.max_iterations, o.tolerance, o.negative_end, o.deflate};
+}
+
+}  // namespace
+
+SpectrumMass whole_spectrum_mass(const std::vector<double>& spectrum) {
+  SpectrumMass mass;
+  mass.exact = true;
+  for (double v : spectrum) {
+    if (v > 0.0) mass.positive += v;
+    if (v < 0.0) mass.negative -= v;
+    mass.trace += v;
+  }
+  return mass;
+}
+
+namespace {
+
+// The whole spectrum's masses from trace(B) and an estimate of trace(|B|) with the computed
+// pairs deflated (see SpectrumMass).
+template <class Op>
+SpectrumMass estimated_mass(Op& op, double trace, const detail::EigenPairs& pairs,
+                            const SpectralOptions& o, SpectralSummary& s) {
+  const detail::AbsoluteTrace abs = detail::absolute_trace(op, pairs.computed, pairs.spectrum,
+                                                           o.probes, o.quadrature, o.probe_seed);
+  s.operations_mass = abs.operations;
+  SpectrumMass mass;
+  mass.trace = trace;
+  mass.standard_error = abs.standard_error;
+  mass.probes = abs.probes;
+  mass.steps = abs.steps;
+  double known_positive = 0.0, known_negative = 0.0;
+  for (double v : pairs.spectrum) (v > 0.0 ? known_positive : known_negative) += std::abs(v);
+  mass.positive = std::max(known_positive, 0.5 * (abs.value + trace));
+  mass.negative = std::max(known_negative, 0.5 * (abs.value - trace));
+  return mass;
 }
 
 struct CentredGram {
@@ -81,47 +121,90 @@ void require_finite(const DistanceRows& rows, const char* stage) {
   }
 }
 
-// Fills the spectrum diagnostics, checks there are enough positive axes, fixes the signs
-// and returns the eigenvectors scaled by sqrt(eigenvalue) (order x dims, row-major).
-std::vector<double> finish_axes(detail::EigenPairs& pairs, std::size_t dims, SpectralResult& out) {
+std::string short_number(double v) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.3g", v);
+  return text;
+}
+
+// The noise floor of the eigenvalues of B given float32 geodesics (README, "Reading a map
+// with care"). A geodesic d summed in float32 over H hops carries a rounding error of at most
+// H u d, u = 2^-24 (each partial sum is at most d and rounds by at most u times itself;
+// Higham, Accuracy and Stability of Numerical Algorithms, 2002, section 4.2). Then
+// |delta d^2| <= 2 H u d^2, every entry of B = -1/2 J S J moves by at most H u D^2 (D the
+// longest geodesic; J's centring does not grow the norm), so ||delta B||_2 <= n H u D^2, and
+// by Weyl's inequality no eigenvalue moves further:
+//   floor = n H u D^2.
+// H is not recorded by Dijkstra; it is estimated as D over the median, across rows, of each
+// row's shortest positive distance (a nearest neighbour, so the estimate overstates H).
+double noise_floor(const DistanceRows& rows, std::size_t order) {
+  double longest = 0.0;
+  std::vector<double> nearest;
+  for (std::size_t r = 0; r < rows.rows; ++r) {
+    const float* row = rows.row(r);
+    float close = std::numeric_limits<float>::infinity();
+    for (std::size_t j = 0; j < rows.cols; ++j) {
+      longest = std::max(longest, static_cast<double>(row[j]));
+      if (row[j] > 0.0f) close = std::min(close, row[j]);
+    }
+    if (std::isfinite(close)) nearest.push_back(close);
+  }
+  if (nearest.empty() || !(longest > 0.0)) return 0.0;
+  const auto middle = nearest.begin() + static_cast<std::ptrdiff_t>(nearest.size() / 2);
+  std::nth_element(nearest.begin(), middle, nearest.end());
+  const double hops = std::max(1.0, std::ceil(longest / *middle));
+  constexpr double kRounding = 0x1.0p-24;  // float32 unit roundoff
+  return static_cast<double>(order) * hops * kRounding * longest * longest;
+}
+
+// Fills the spectrum diagnostics, checks the top eigenpairs were found, names the axes at or
+// below the noise floor (an axis beyond the positive part of the spectrum is set to 0: there
+// is nothing to take the root of), fixes the signs and returns the eigenvectors scaled by
+// sqrt(eigenvalue) (order x dims, row-major).
+std::vector<double> finish_axes(detail::EigenPairs& pairs, std::size_t dims,
+                                const SpectrumMass& mass, double noise, SpectralResult& out) {
   SpectralSummary& s = out.summary;
   s.converged = pairs.converged;
   s.spectrum_complete = pairs.complete;
+  s.largest = pairs.from_top;
   s.iterations = pairs.iterations;
   s.operations = pairs.operations;
+  s.noise_floor = noise;
   s.warnings.insert(s.warnings.end(), pairs.warnings.begin(), pairs.warnings.end());
   out.spectrum = pairs.spectrum;
-  const double top = out.spectrum.empty() ? 0.0 : std::abs(out.spectrum.front());
-  const double floor = 1e-12 * top;  // below this an eigenvalue is rounding noise
-  double positive = 0.0, negative = 0.0;
   for (double v : out.spectrum) {
-    if (v > floor) {
-      positive += v;
-      ++s.positive;
-    } else if (v < -floor) {
-      negative -= v;
-      ++s.negative;
-    }
+    if (v > noise) ++s.positive;
+    if (v < -noise) ++s.negative;
   }
-  out.negative_ratio = positive > 0.0 ? negative / positive : 0.0;
-  std::size_t usable = 0;
-  while (usable < pairs.values.size() && pairs.values[usable] > floor) ++usable;
-  if (usable < dims && !pairs.converged && pairs.values.size() < dims)
+  out.mass = mass;
+  out.negative_ratio = mass.ratio();
+  if (pairs.values.size() < dims)
     throw DataError("spectral: the Lanczos solver found only " +
                     std::to_string(pairs.values.size()) + " of the top " + std::to_string(dims) +
                     " eigenpairs before giving up; raise its max_iterations or krylov size");
-  if (usable < dims)
-    throw DataError("spectral: only " + std::to_string(usable) + " of the top " +
-                    std::to_string(dims) +
-                    " eigenvalues of the centred distance matrix are positive (or found); "
-                    "ask for at most " +
-                    std::to_string(usable) + " dims");
+  if (!(pairs.values.front() > 0.0))
+    throw DataError(
+        "spectral: the centred distance matrix has no positive eigenvalue; the "
+        "geodesics give no map");
+  for (std::size_t k = 0; k < dims; ++k) {
+    const double v = pairs.values[k];
+    if (v > noise) continue;
+    s.noise_axes.push_back(k + 1);
+    s.warnings.push_back(
+        v > 0.0 ? "axis " + std::to_string(k + 1) + " carries no structure: its eigenvalue " +
+                      short_number(v) + " is at or below the noise floor " + short_number(noise) +
+                      " of float32 geodesics"
+                : "axis " + std::to_string(k + 1) +
+                      " carries no structure and is set to 0: --dims " + std::to_string(dims) +
+                      " goes beyond the positive part of the spectrum (eigenvalue " +
+                      short_number(v) + ")");
+  }
   pairs.vectors.conservativeResize(Eigen::NoChange, static_cast<Eigen::Index>(dims));
   detail::fix_signs(pairs.vectors);
   const auto order = static_cast<std::size_t>(pairs.vectors.rows());
   std::vector<double> axes(order * dims);
   for (std::size_t k = 0; k < dims; ++k) {
-    const double root = std::sqrt(pairs.values[k]);
+    const double root = std::sqrt(std::max(pairs.values[k], 0.0));
     for (std::size_t i = 0; i < order; ++i)
       axes[i * dims + k] =
           pairs.vectors(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(k)) * root;
@@ -139,10 +222,11 @@ void triangulate(const DistanceRows& rows, const detail::EigenPairs& pairs,
   std::vector<double> p(dims * l);  // dims x L
   std::vector<double> p_mean(dims, 0.0);
   for (std::size_t k = 0; k < dims; ++k) {
-    const double root = std::sqrt(pairs.values[k]);
+    const double v = pairs.values[k];  // an axis beyond the positive part stays 0
+    const double inverse_root = v > 0.0 ? 1.0 / std::sqrt(v) : 0.0;
     for (std::size_t i = 0; i < l; ++i) {
       p[k * l + i] =
-          pairs.vectors(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(k)) / root;
+          pairs.vectors(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(k)) * inverse_root;
       p_mean[k] += p[k * l + i] * column_mean[i];
     }
   }
@@ -180,14 +264,38 @@ void triangulate(const DistanceRows& rows, const detail::EigenPairs& pairs,
   errors.rethrow();
 }
 
-detail::EigenPairs solve(const Eigen::MatrixXd& b, const SpectralOptions& o, SpectralSummary& s) {
+// A dense symmetric B with a block product for the spectrum estimate's probes: row i of the
+// result is column i of B times the block (B is symmetric; columns are contiguous), rows in
+// parallel, each a product in a fixed order, so nothing depends on the thread count.
+struct DenseBlockOperator {
+  const Eigen::MatrixXd& b;
+  Eigen::Index rows() const { return b.rows(); }
+  Eigen::Index cols() const { return b.cols(); }
+  void perform_op(const double* x, double* y) const { perform_block(x, y, 1); }
+  void perform_block(const double* x, double* y, std::size_t k) const {
+    const auto n = b.rows();
+    const auto width = static_cast<Eigen::Index>(k);
+    const Eigen::Map<const Eigen::MatrixXd> in(x, n, width);
+    Eigen::Map<Eigen::MatrixXd> out(y, n, width);
+#pragma omp parallel for schedule(static)
+    for (Eigen::Index i = 0; i < n; ++i) out.row(i).noalias() = b.col(i).transpose() * in;
+  }
+};
+
+detail::EigenPairs solve(const Eigen::MatrixXd& b, const SpectralOptions& o, SpectralSummary& s,
+                         SpectrumMass& mass) {
   if (static_cast<std::size_t>(b.rows()) <= o.dense_limit) {
     s.solver = "dense";
-    return detail::dense_top(b, o.dims);
+    detail::EigenPairs pairs = detail::dense_top(b, o.dims);
+    mass = whole_spectrum_mass(pairs.spectrum);
+    return pairs;
   }
   s.solver = "lanczos";
   Spectra::DenseSymMatProd<double> op(b);
-  return detail::iterative_top(op, o.dims, iterative_settings(o));
+  detail::EigenPairs pairs = detail::iterative_top(op, o.dims, iterative_settings(o));
+  const DenseBlockOperator block{b};
+  mass = estimated_mass(block, b.trace(), pairs, o, s);
+  return pairs;
 }
 
 }  // namespace
@@ -203,8 +311,10 @@ SpectralResult landmark_mds(const DistanceRows& landmark_rows, const SpectralOpt
   out.summary.threads = omp_get_max_threads();
   const CentredGram gram = centred_gram(landmark_rows, landmark_rows.sources);
   stop.check("spectral");
-  detail::EigenPairs pairs = solve(gram.b, options, out.summary);
-  out.landmark_coords = finish_axes(pairs, options.dims, out);
+  SpectrumMass mass;
+  detail::EigenPairs pairs = solve(gram.b, options, out.summary, mass);
+  out.landmark_coords =
+      finish_axes(pairs, options.dims, mass, noise_floor(landmark_rows, landmark_rows.rows), out);
   triangulate(landmark_rows, pairs, gram.row_means, options.dims, out.coords, stop);
   out.summary.seconds = std::chrono::duration<double>(Clock::now() - start).count();
   return out;
@@ -228,14 +338,16 @@ SpectralResult exact_mds(const DistanceRows& all_rows, const SpectralOptions& op
   out.summary.points = n;
   out.summary.threads = omp_get_max_threads();
   detail::EigenPairs pairs;
+  SpectrumMass mass;
   if (n <= options.dense_limit) {
-    pairs = solve(centred_gram(all_rows, all_rows.sources).b, options, out.summary);
+    pairs = solve(centred_gram(all_rows, all_rows.sources).b, options, out.summary, mass);
   } else {
     out.summary.solver = "lanczos";
     detail::CentredSquaredOperator op(all_rows, stop);
     pairs = detail::iterative_top(op, options.dims, iterative_settings(options));
+    mass = estimated_mass(op, op.trace(), pairs, options, out.summary);
   }
-  out.landmark_coords = finish_axes(pairs, options.dims, out);
+  out.landmark_coords = finish_axes(pairs, options.dims, mass, noise_floor(all_rows, n), out);
   out.coords = PointSet(n, options.dims);
   for (std::size_t i = 0; i < out.landmark_coords.size(); ++i)
     out.coords.values[i] = static_cast<float>(out.landmark_coords[i]);
@@ -249,7 +361,7 @@ std::size_t exact_mode_bytes(std::size_t n, const SpectralOptions& options) {
   const std::size_t rows = n * n * sizeof(float);
   const std::size_t solver = n <= options.dense_limit
                                  ? 3 * n * n * sizeof(double)  // B, eigenvectors, workspace
-                                 : detail::CentredSquaredOperator::work_bytes(n) +
+                                 : detail::CentredSquaredOperator::work_bytes(n, options.probes) +
                                        2 * n * ncv * sizeof(double);  // Lanczos basis, vectors
   const std::size_t output = n * m * (sizeof(float) + sizeof(double));
   const std::size_t dijkstra =  // per thread: distance array and a heap of about 2 entries per node

@@ -6,8 +6,10 @@
 // Negative eigenvalues measure how far the geodesic distances are from Euclidean; they and
 // the eigenvalues not kept are reported, never square-rooted.
 //
-// Fewer than `dims` positive eigenvalues: DataError saying how many there are (the caller
-// can retry with that many axes); a map with silently missing axes is never returned.
+// Noise axes: an axis whose eigenvalue is at or below the noise floor of float32 geodesics
+// (summary.noise_floor; its rule in spectral.cpp and the README) is named in
+// summary.noise_axes with a warning; an axis beyond the positive part of the spectrum is set
+// to 0, named and warned about the same way. No positive eigenvalue at all: DataError.
 // Lanczos non-convergence is a warning with summary.converged = false as long as the top
 // `dims` pairs were found; if even those are missing, DataError says so.
 // Determinism: each axis' largest-magnitude landmark coordinate is positive (ties: the
@@ -15,7 +17,9 @@
 // order, so the same rows give the same bytes whatever the thread count.
 #pragma once
 
+#include <cmath>
 #include <cstddef>
+#include <cstdint>
 #include <string>
 #include <vector>
 
@@ -31,25 +35,61 @@ struct SpectralOptions {
   std::size_t krylov = 0;             // Lanczos subspace size (Spectra ncv); 0: max(2 dims + 1, 20)
   std::size_t max_iterations = 1000;  // Lanczos restarts before giving up (a warning, not an error)
   double tolerance = 1e-10;           // Lanczos relative tolerance on the eigenvalues
-  bool negative_end = true;           // Lanczos: also find the dims most negative eigenvalues
+  bool negative_end = true;           // Lanczos: also find the most negative eigenvalues
+  // Lanczos only: the whole spectrum's masses are estimated (see SpectrumMass).
+  std::size_t deflate = 8;       // eigenpairs found at each end (at least dims), deflated
+  std::size_t probes = 16;       // random sign vectors of the trace(|B|) estimate
+  std::size_t quadrature = 50;   // Lanczos steps per probe
+  std::uint64_t probe_seed = 1;  // seed of the probes (the estimate depends on it only)
 
   // Throws OptionError naming the field. `order` is the order of B: L, or N in exact mode;
   // dims must be at least 1 and below it, krylov (when set) above dims and at most order.
   void validate(std::size_t order) const;
 };
 
+// The positive and negative mass of the WHOLE spectrum of B (sums of the positive eigenvalues
+// and of |negative| ones), from which the non-Euclidean ratio and the axis shares come.
+// Exact when the dense solver computed every eigenvalue. Otherwise estimated without an
+// O(n^3) cost: trace(B) is exact (n g / 2, g the mean squared distance), trace(|B|) comes
+// from stochastic Lanczos quadrature (engine/detail/absolute_trace.hpp: Hutchinson 1989;
+// Ubaru, Chen and Saad, SIAM J. Matrix Anal. Appl. 38, 2017), and
+//   negative = (trace|B| - trace B) / 2,  positive = (trace|B| + trace B) / 2.
+// Neither is allowed below the sum of the computed eigenvalues of its sign.
+struct SpectrumMass {
+  bool exact = false;
+  double positive = 0.0;
+  double negative = 0.0;
+  double trace = 0.0;           // trace(B), always exact
+  double standard_error = 0.0;  // of the estimated trace(|B|) over the probes; 0 when exact.
+                                // positive and negative each carry half of it
+  std::size_t probes = 0;       // estimated: random sign vectors used
+  std::size_t steps = 0;        // estimated: Lanczos quadrature steps per probe
+
+  double ratio() const { return positive > 0.0 ? negative / positive : 0.0; }
+  // Standard error of ratio() propagated from that of trace(|B|):
+  // d(negative / positive) / d trace|B| = trace B / (2 positive^2).
+  double ratio_error() const {
+    return positive > 0.0 ? standard_error * std::abs(trace) / (2.0 * positive * positive) : 0.0;
+  }
+};
+
 struct SpectralSummary {
-  std::string solver;              // "dense" (Eigen, whole spectrum) or "lanczos" (Spectra)
-  bool converged = true;           // false: Lanczos stopped early; see warnings
-  bool spectrum_complete = false;  // spectrum holds every eigenvalue of B
-  std::size_t order = 0;           // order of B (landmarks, or nodes in exact mode)
-  std::size_t points = 0;          // rows of the map
-  std::size_t iterations = 0;      // Lanczos restarts
-  std::size_t operations = 0;      // Lanczos operator applications
-  std::size_t positive = 0;        // positive eigenvalues among those computed
-  std::size_t negative = 0;        // negative eigenvalues among those computed
-  double seconds = 0.0;            // wall time of the stage
-  int threads = 0;                 // OpenMP threads
+  std::string solver;                   // "dense" (Eigen, whole spectrum) or "lanczos" (Spectra)
+  bool converged = true;                // false: Lanczos stopped early; see warnings
+  bool spectrum_complete = false;       // spectrum holds every eigenvalue of B
+  std::size_t largest = 0;              // spectrum's first `largest` values are B's largest; the
+                                        // rest (Lanczos, both ends) its smallest
+  std::size_t order = 0;                // order of B (landmarks, or nodes in exact mode)
+  std::size_t points = 0;               // rows of the map
+  std::size_t iterations = 0;           // Lanczos restarts
+  std::size_t operations = 0;           // Lanczos operator applications
+  std::size_t positive = 0;             // positive eigenvalues among those computed
+  std::size_t negative = 0;             // negative eigenvalues among those computed
+  std::size_t operations_mass = 0;      // operator applications of the mass estimate
+  double noise_floor = 0.0;             // eigenvalues at or below it are float32 rounding noise
+  std::vector<std::size_t> noise_axes;  // map axes (1-based) at or below the floor
+  double seconds = 0.0;                 // wall time of the stage
+  int threads = 0;                      // OpenMP threads
   std::vector<std::string> warnings;
 };
 
@@ -57,10 +97,14 @@ struct SpectralResult {
   PointSet coords;                      // N x dims float32: the map, in node order
   std::vector<double> landmark_coords;  // L x dims (N x dims in exact mode), row-major
   std::vector<double> spectrum;         // eigenvalues of B, descending: whole when dense, else
-                                        // the top dims and (negative_end) the bottom dims
-  double negative_ratio = 0.0;          // sum |negative| / sum positive, over `spectrum`
+                                        // the top `deflate` and (negative_end) the bottom ones
+  SpectrumMass mass;                    // of the whole spectrum (exact or estimated)
+  double negative_ratio = 0.0;          // mass.ratio(): sum |negative| / sum positive, whole
   SpectralSummary summary;
 };
+
+// The masses of a spectrum known whole (exact = true).
+SpectrumMass whole_spectrum_mass(const std::vector<double>& spectrum);
 
 // Landmark MDS from the rows of pick_landmarks (sources = landmarks). Memory: the rows plus
 // L x L doubles and the N x dims output; nothing N x N. Throws DataError when the rows are

@@ -79,6 +79,8 @@ void write_map(OutputSet& outputs, std::size_t output, const MapContents& c, H5W
       out.write("/landmarks/nodes", g.sources, {l});
     }
     out.write("/spectrum", c.spectrum, {c.spectrum.size()});
+    if (!c.spectrum_attributes.empty())
+      detail::write_json_attributes(out, "/spectrum", c.spectrum_attributes);
     for (const MapArray& extra : c.extras) {
       if (extra.path.empty() || extra.path[0] != '/')
         throw InternalError(path.string() + ": extra dataset path '" + extra.path +
@@ -157,6 +159,7 @@ MapContents read_map(const fs::path& path, bool with_geodesic) {
   if (in.has("/spectrum")) {
     in.require_rank("/spectrum", 1);
     c.spectrum = in.read<double>("/spectrum");
+    c.spectrum_attributes = detail::read_json_attributes(in, "/spectrum");
   }
   for (const std::string& name : in.datasets_under("/")) {
     // A full graph saved into the map is read_graph's business, not an extra.

@@ -8,7 +8,13 @@
 //   /landmarks/geodesic  L x N float32  geodesic distances landmark -> map row (optional)
 //   /landmarks/nodes     L uint32       map row (graph node) each geodesic row starts from,
 //                                       present with /landmarks/geodesic
-//   /spectrum            float64        eigenvalues of the landmark Gram matrix, descending
+//   /spectrum            float64        computed eigenvalues of B (the landmark Gram matrix, or
+//                                       all points' in exact mode), descending; attributes say
+//                                       which: which = "all" (the whole spectrum) or "largest"
+//                                       (the largest `count` of `order`), the whole spectrum's
+//                                       masses (mass_method exact | estimated, positive_mass,
+//                                       negative_mass, negative_ratio and its standard error),
+//                                       noise_floor and noise_axes (see apps/report.cpp)
 //   /quality/*, /graph/*, other paths   extras: float64 datasets (scalars or arrays), each
 //                                       with its own attributes (k, method, sample size, ...)
 //   /graph/offsets, targets, lengths, rows, nodes/*   a full graph (io/graph_file.hpp), if
@@ -45,12 +51,13 @@ namespace unfurl::io {
 inline constexpr std::int64_t map_format_version = 1;
 
 struct MapContents {
-  PointSet coords;                                       // N x m map coordinates
-  std::vector<std::int64_t> rows;                        // N input row indices
-  std::vector<std::int64_t> landmark_rows;               // L input row indices
-  std::vector<double> landmark_coords;                   // L x m, row-major
-  std::optional<DistanceRows> landmark_geodesic;         // L x N, sources = map rows
-  std::vector<double> spectrum;                          // descending eigenvalues
+  PointSet coords;                                                // N x m map coordinates
+  std::vector<std::int64_t> rows;                                 // N input row indices
+  std::vector<std::int64_t> landmark_rows;                        // L input row indices
+  std::vector<double> landmark_coords;                            // L x m, row-major
+  std::optional<DistanceRows> landmark_geodesic;                  // L x N, sources = map rows
+  std::vector<double> spectrum;                                   // descending eigenvalues
+  nlohmann::json spectrum_attributes = nlohmann::json::object();  // on /spectrum
   std::vector<MapArray> extras;                          // quality, graph summary, per-point terms
   nlohmann::json attributes = nlohmann::json::object();  // attributes on "/"
 };

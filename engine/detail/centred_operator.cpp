@@ -41,6 +41,13 @@ bool exactly_symmetric(const DistanceRows& d) {
   return symmetric.load();
 }
 
+// Blocks of rows for a product of k vectors: fewer as k grows, so the k column-sum buffers of
+// every block stay about the size of one vector's 64 (fixed by N and k: no thread-count
+// dependence).
+std::size_t blocks_for(std::size_t blocks, std::size_t k) {
+  return std::min(blocks, std::max<std::size_t>(8, CentredSquaredOperator::kMaxBlocks / k));
+}
+
 // First row of block b of `blocks`: equal shares of the rows, or of the upper triangle's
 // entries when only the triangle is read (row i holds n - 1 - i of them).
 std::size_t block_start(std::size_t b, std::size_t blocks, std::size_t n, bool triangle) {
@@ -61,7 +68,7 @@ CentredSquaredOperator::CentredSquaredOperator(const DistanceRows& rows, StopTok
       partial_(blocks_ * rows.cols),
       own_(rows.cols) {
   const std::vector<double> ones(n_, 1.0);
-  squared_product(ones.data(), row_means_.data());
+  squared_product(ones.data(), row_means_.data(), 1);
   double total = 0.0;
   for (std::size_t i = 0; i < n_; ++i) {
     row_means_[i] /= static_cast<double>(n_);
@@ -70,38 +77,49 @@ CentredSquaredOperator::CentredSquaredOperator(const DistanceRows& rows, StopTok
   grand_mean_ = total / static_cast<double>(n_);
 }
 
-std::size_t CentredSquaredOperator::work_bytes(std::size_t n) {
-  return (std::min(kMaxBlocks, std::max<std::size_t>(n, 1)) + 2) * n * sizeof(double);
+std::size_t CentredSquaredOperator::work_bytes(std::size_t n, std::size_t vectors) {
+  const std::size_t one = std::min(kMaxBlocks, std::max<std::size_t>(n, 1));
+  const std::size_t most = std::max(one, blocks_for(one, vectors) * vectors);
+  return (most + vectors + 1) * n * sizeof(double);
 }
 
-void CentredSquaredOperator::squared_product(const double* x, double* y) const {
-  const auto blocks = static_cast<std::ptrdiff_t>(blocks_);
+void CentredSquaredOperator::squared_product(const double* x, double* y, std::size_t k) const {
+  const std::size_t count_blocks = blocks_for(blocks_, k);
+  const auto blocks = static_cast<std::ptrdiff_t>(count_blocks);
   const std::size_t n = n_;
+  const std::size_t width = n * k;  // one block's column sums for all k vectors
+  if (partial_.size() < count_blocks * width) partial_.resize(count_blocks * width);
+  if (own_.size() < width) own_.resize(width);
   ExceptionCollector errors;
 #pragma omp parallel for schedule(dynamic, 1)
   for (std::ptrdiff_t b = 0; b < blocks; ++b) {
     errors.run([&] {
       stop_.check("spectral");
-      double* column = partial_.data() + static_cast<std::size_t>(b) * n;
-      std::fill(column, column + n, 0.0);
+      double* column = partial_.data() + static_cast<std::size_t>(b) * width;
+      std::fill(column, column + width, 0.0);
       const auto block = static_cast<std::size_t>(b);
-      const std::size_t first = block_start(block, blocks_, n, triangle_);
-      const std::size_t last = block_start(block + 1, blocks_, n, triangle_);
+      const std::size_t first = block_start(block, count_blocks, n, triangle_);
+      const std::size_t last = block_start(block + 1, count_blocks, n, triangle_);
       for (std::size_t i = first; i < last; ++i) {
         // The triangle: entries j > i, which feed (S x)_i and, through the column sums, (S x)_j.
+        // Row i stays in cache while the k vectors pass over it.
         const std::size_t from = triangle_ ? i + 1 : 0;
-        sum_row(d_.row(i) + from, x + from, x[i], column + from, n - from, own_[i]);
+        for (std::size_t v = 0; v < k; ++v) {
+          const double* xv = x + v * n;
+          sum_row(d_.row(i) + from, xv + from, xv[i], column + v * n + from, n - from,
+                  own_[v * n + i]);
+        }
       }
     });
   }
   errors.rethrow();
-  const auto count = static_cast<std::ptrdiff_t>(n);
+  const auto count = static_cast<std::ptrdiff_t>(width);
 #pragma omp parallel for schedule(static)
   for (std::ptrdiff_t j = 0; j < count; ++j) {
     errors.run([&] {
       double sum = own_[static_cast<std::size_t>(j)];
-      for (std::size_t b = 0; b < blocks_; ++b)
-        sum += partial_[b * n + static_cast<std::size_t>(j)];
+      for (std::size_t b = 0; b < count_blocks; ++b)
+        sum += partial_[b * width + static_cast<std::size_t>(j)];
       y[j] = triangle_ ? sum : 0.5 * sum;  // the full pass counts each pair twice
     });
   }
@@ -109,14 +127,22 @@ void CentredSquaredOperator::squared_product(const double* x, double* y) const {
 }
 
 void CentredSquaredOperator::perform_op(const double* x, double* y) const {
-  squared_product(x, y);
-  double sum_x = 0.0, r_x = 0.0;
-  for (std::size_t i = 0; i < n_; ++i) {
-    sum_x += x[i];
-    r_x += row_means_[i] * x[i];
+  perform_block(x, y, 1);
+}
+
+void CentredSquaredOperator::perform_block(const double* x, double* y, std::size_t k) const {
+  squared_product(x, y, k);
+  for (std::size_t v = 0; v < k; ++v) {
+    const double* xv = x + v * n_;
+    double* yv = y + v * n_;
+    double sum_x = 0.0, r_x = 0.0;
+    for (std::size_t i = 0; i < n_; ++i) {
+      sum_x += xv[i];
+      r_x += row_means_[i] * xv[i];
+    }
+    for (std::size_t i = 0; i < n_; ++i)
+      yv[i] = -0.5 * (yv[i] - row_means_[i] * sum_x - r_x + grand_mean_ * sum_x);
   }
-  for (std::size_t i = 0; i < n_; ++i)
-    y[i] = -0.5 * (y[i] - row_means_[i] * sum_x - r_x + grand_mean_ * sum_x);
 }
 
 }  // namespace unfurl::detail

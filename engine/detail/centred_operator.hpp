@@ -32,13 +32,19 @@ class CentredSquaredOperator {
   Eigen::Index cols() const { return static_cast<Eigen::Index>(n_); }
   // y = B x; polls the stop token (throws InterruptedError).
   void perform_op(const double* x, double* y) const;
+  // Y = B X for k vectors (X, Y: n x k, column-major) in one pass over D: the memory traffic
+  // of one product, which dominates, is shared by all k (the spectrum estimate's probes).
+  void perform_block(const double* x, double* y, std::size_t k) const;
 
-  // Bytes held besides the rows: block buffers and means.
-  static std::size_t work_bytes(std::size_t n);
+  // trace(B) = -1/2 sum_i (S_ii - 2 r_i + g) = n g / 2, as S has a zero diagonal.
+  double trace() const { return 0.5 * static_cast<double>(n_) * grand_mean_; }
+
+  // Bytes held besides the rows: block buffers and means, for products of `vectors` vectors.
+  static std::size_t work_bytes(std::size_t n, std::size_t vectors = 1);
 
  private:
-  // y = S x (symmetrised squared distances), without centring.
-  void squared_product(const double* x, double* y) const;
+  // Y = S X (symmetrised squared distances) for k vectors, without centring.
+  void squared_product(const double* x, double* y, std::size_t k) const;
 
   const DistanceRows& d_;
   std::size_t n_;
@@ -47,8 +53,8 @@ class CentredSquaredOperator {
   StopToken stop_;
   std::vector<double> row_means_;
   double grand_mean_ = 0.0;
-  mutable std::vector<double> partial_;  // blocks_ x n_: column sums of each block of rows
-  mutable std::vector<double> own_;      // n_: the row sums
+  mutable std::vector<double> partial_;  // blocks_ x k x n_: column sums of each block of rows
+  mutable std::vector<double> own_;      // k x n_: the row sums
 };
 
 }  // namespace unfurl::detail

@@ -10,6 +10,7 @@ EigenPairs dense_top(const Eigen::MatrixXd& matrix, std::size_t m) {
   const auto n = static_cast<std::size_t>(ascending.size());
   EigenPairs out;
   out.complete = true;
+  out.from_top = n;
   out.spectrum.resize(n);
   for (std::size_t i = 0; i < n; ++i)
     out.spectrum[i] = ascending[static_cast<Eigen::Index>(n - 1 - i)];

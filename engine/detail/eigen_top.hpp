@@ -16,7 +16,10 @@ struct EigenPairs {
   std::vector<double> values;    // the kept eigenvalues, descending
   Eigen::MatrixXd vectors;       // n x values.size(), unit columns in the same order
   std::vector<double> spectrum;  // every eigenvalue computed, descending
+  Eigen::MatrixXd computed;      // iterative solver: n x spectrum.size(), the same order
   bool complete = false;         // spectrum is the whole spectrum
+  std::size_t from_top = 0;      // the first from_top of spectrum are the largest eigenvalues;
+                                 // the rest (iterative, both ends) the smallest
   bool converged = true;         // the iterative solver reported success
   std::size_t iterations = 0;    // Spectra restarts (0 for the dense solver)
   std::size_t operations = 0;    // operator applications (0 for the dense solver)
@@ -30,7 +33,9 @@ struct IterativeSettings {
   std::size_t krylov = 0;  // ncv; 0: min(n, max(2m + 1, 20))
   std::size_t max_iterations = 1000;
   double tolerance = 1e-10;
-  bool negative_end = true;  // also compute the m most negative eigenvalues
+  bool negative_end = true;  // also compute the most negative eigenvalues
+  std::size_t per_end = 0;   // pairs computed at each end (at least m): more pairs found,
+                             // less variance left for the whole-spectrum estimate
 };
 
 inline std::size_t krylov_size(std::size_t n, std::size_t m, std::size_t requested) {
@@ -49,8 +54,9 @@ EigenPairs iterative_top(Op& op, std::size_t m, const IterativeSettings& s) {
   EigenPairs out;
   // With the negative end wanted, one run finds both ends (BothEnds: nev / 2 from each end,
   // from one Krylov basis); the top m are then the first m in descending order.
-  const bool both = s.negative_end && 2 * m < n;
-  const Eigen::Index wanted = both ? 2 * nev : nev;
+  const auto end = static_cast<Eigen::Index>(std::max(m, s.per_end));
+  const bool both = s.negative_end && 2 * static_cast<std::size_t>(end) < n;
+  const Eigen::Index wanted = both ? 2 * end : nev;
   const Eigen::Index basis =
       both ? std::max(ncv, std::min<Eigen::Index>(static_cast<Eigen::Index>(n), 2 * wanted + 1))
            : ncv;
@@ -71,7 +77,19 @@ EigenPairs iterative_top(Op& op, std::size_t m, const IterativeSettings& s) {
   out.values.assign(values.data(), values.data() + kept);
   out.vectors = vectors.leftCols(kept);
   out.spectrum.assign(values.data(), values.data() + values.size());
-  std::sort(out.spectrum.begin(), out.spectrum.end(), std::greater<>());
+  out.computed = vectors;
+  out.from_top = both ? std::min<std::size_t>(static_cast<std::size_t>(end), out.spectrum.size())
+                      : out.spectrum.size();
+  if (!std::is_sorted(out.spectrum.begin(), out.spectrum.end(), std::greater<>())) {
+    std::vector<Eigen::Index> at(out.spectrum.size());
+    for (std::size_t i = 0; i < at.size(); ++i) at[i] = static_cast<Eigen::Index>(i);
+    std::stable_sort(at.begin(), at.end(),
+                     [&](Eigen::Index a, Eigen::Index b) { return values[a] > values[b]; });
+    for (std::size_t i = 0; i < at.size(); ++i) {
+      out.spectrum[i] = values[at[i]];
+      out.computed.col(static_cast<Eigen::Index>(i)) = vectors.col(at[i]);
+    }
+  }
   return out;
 }
 

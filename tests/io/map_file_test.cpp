@@ -37,6 +37,8 @@ MapContents sample_map(std::size_t n, std::size_t m, std::size_t l, bool geodesi
     c.landmark_geodesic = g;
   }
   for (std::size_t j = 0; j < l; ++j) c.spectrum.push_back(100.0 / (j + 1));
+  c.spectrum_attributes = {
+      {"which", "largest"}, {"count", l}, {"positive_mass", 412.5}, {"noise_axes", {3, 4}}};
   c.extras.push_back({"/quality/trustworthiness",
                       {0.97, 0.95},
                       {2},
@@ -60,6 +62,7 @@ void check_same(const MapContents& a, const MapContents& b, bool geodesic) {
   CHECK(a.landmark_rows == b.landmark_rows);
   CHECK(a.landmark_coords == b.landmark_coords);
   CHECK(a.spectrum == b.spectrum);
+  CHECK(a.spectrum_attributes == b.spectrum_attributes);
   REQUIRE(b.landmark_geodesic.has_value() == geodesic);
   if (geodesic) {
     CHECK(a.landmark_geodesic->rows == b.landmark_geodesic->rows);

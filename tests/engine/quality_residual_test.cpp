@@ -1,0 +1,103 @@
+// The residual variance from geodesic rows of the graph itself (engine/quality_residual.*):
+// every pair up to a size, random source rows beyond.
+#include <omp.h>
+
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <numeric>
+
+#include "engine/geodesic.hpp"
+#include "engine/neighbours.hpp"
+#include "engine/quality_residual.hpp"
+#include "engine/synthetic.hpp"
+
+namespace {
+
+struct Roll {
+  unfurl::NeighbourGraph graph;
+  unfurl::PointSet truth;
+};
+
+Roll roll(std::size_t n, std::uint64_t seed) {
+  const auto set = unfurl::swiss_roll(n, seed);
+  unfurl::GraphOptions go;
+  go.k = 10;
+  auto g = unfurl::build_neighbour_graph(set.points, go);
+  REQUIRE(g.graph.nodes() == n);  // no duplicates: node v is point v
+  return {std::move(g.graph), set.truth};
+}
+
+// 1 - R^2 over every unordered pair, written out directly with plain sums (agreeing to about
+// 1e-8 with the engine's cancellation-free pairwise moments) (Pearson's R; Tenenbaum et al.
+// 2000, note 42) from the all-pairs rows: the reference for the sampled curve.
+double all_pairs(const unfurl::DistanceRows& d, const unfurl::PointSet& map, std::size_t dims) {
+  double n = 0, sx = 0, sy = 0, sxx = 0, syy = 0, sxy = 0;
+  for (std::size_t i = 0; i < d.rows; ++i)
+    for (std::size_t j = i + 1; j < d.cols; ++j) {
+      double q = 0;
+      for (std::size_t c = 0; c < dims; ++c) {
+        const double t = double(map.row(i)[c]) - map.row(j)[c];
+        q += t * t;
+      }
+      const double x = d.row(i)[j], y = std::sqrt(q);
+      n += 1, sx += x, sy += y, sxx += x * x, syy += y * y, sxy += x * y;
+    }
+  const double cxy = sxy - sx * sy / n, cxx = sxx - sx * sx / n, cyy = syy - sy * sy / n;
+  return 1 - cxy * cxy / (cxx * cyy);
+}
+
+}  // namespace
+
+TEST_CASE("residual variance over all pairs equals the direct all-pairs formula", "[quality]") {
+  const Roll r = roll(400, 31);
+  const auto all = unfurl::all_geodesic_rows(r.graph);
+  unfurl::ResidualOptions o;  // 400 nodes: under the all-pairs limit
+  const auto curve = unfurl::graph_residual_variance(r.graph, r.truth, o, {});
+  CHECK(!curve.sampled);
+  CHECK(curve.pairs == 400u * 399u);  // each pair once from each end
+  CHECK(curve.drawn.find("every pair") != std::string::npos);
+  for (std::size_t d = 1; d <= 2; ++d)
+    CHECK(curve.by_dims[d - 1] == Approx(all_pairs(all, r.truth, d)).epsilon(1e-7));
+}
+
+TEST_CASE("random source rows estimate the all-pairs residual variance within their error",
+          "[quality]") {
+  const Roll r = roll(1500, 32);
+  const auto all = unfurl::all_geodesic_rows(r.graph);
+  unfurl::ResidualOptions o;
+  o.all_pairs_limit = 1000;  // force the sampled path
+  o.sources = 256;
+  o.seed = 7;
+  const auto curve = unfurl::graph_residual_variance(r.graph, r.truth, o, {});
+  REQUIRE(curve.sampled);
+  CHECK(curve.pairs == 256u * 1499u);
+  REQUIRE(curve.standard_error.size() == 2);
+  for (std::size_t d = 1; d <= 2; ++d) {
+    const double want = all_pairs(all, r.truth, d);
+    INFO("dims " << d << ": " << curve.by_dims[d - 1] << " vs " << want << " +- "
+                 << curve.standard_error[d - 1]);
+    CHECK(curve.standard_error[d - 1] > 0);
+    CHECK(std::abs(curve.by_dims[d - 1] - want) < 4 * curve.standard_error[d - 1]);
+  }
+  // The seed alone decides the sources: same seed, same bytes, on 1 or 2 threads.
+  const int threads = omp_get_max_threads();
+  omp_set_num_threads(1);
+  const auto one = unfurl::graph_residual_variance(r.graph, r.truth, o, {});
+  omp_set_num_threads(threads);
+  CHECK(one.by_dims == curve.by_dims);
+  CHECK(one.standard_error == curve.standard_error);
+}
+
+TEST_CASE("sampled sources follow the caller's numbering, not the graph's", "[quality]") {
+  unfurl::ResidualOptions o;
+  o.all_pairs_limit = 10;
+  o.sources = 5;
+  std::string drawn;
+  const auto plain = unfurl::residual_sources(50, o, {}, drawn);
+  std::vector<unfurl::NodeId> reversed(50);
+  for (std::size_t i = 0; i < 50; ++i) reversed[i] = static_cast<unfurl::NodeId>(49 - i);
+  const auto mapped = unfurl::residual_sources(50, o, reversed, drawn);
+  REQUIRE(plain.size() == 5);
+  for (std::size_t i = 0; i < 5; ++i) CHECK(mapped[i] == 49 - plain[i]);
+  CHECK(drawn.find("5 source nodes drawn uniformly at random") != std::string::npos);
+}
