@@ -209,6 +209,7 @@ void symmetric_candidates(const ScanData& s, std::size_t block_rows, CandidateHe
     const std::size_t b0 = block * block_rows, bn = std::min(block_rows, n - b0);
     std::vector<float> product(bn * block_rows);
     std::vector<Entry> row_bound(bn), col_bound(block_rows);
+    std::vector<float> col_limit(block_rows);
     std::vector<std::pair<std::size_t, Entry>> to_rows, to_cols;
     for (std::size_t other = block; other < blocks; ++other) {
       stop.check("graph");
@@ -225,15 +226,24 @@ void symmetric_candidates(const ScanData& s, std::size_t block_rows, CandidateHe
       }
       to_rows.clear();
       to_cols.clear();
+      // Most pairs fail both bounds on the float alone; the (value, index) order decides
+      // only the rest.
+      if (mirrored)
+        for (std::size_t c = 0; c < cn; ++c) col_limit[c] = col_bound[c].first;
       for (std::size_t r = 0; r < bn; ++r) {
         const float* p = product.data() + r * cn;
         const float nr = s.norm2[b0 + r];
+        const Entry bound_r = row_bound[r];
         for (std::size_t c = 0; c < cn; ++c) {
           const float a = nr + s.norm2[c0 + c] - 2.0f * p[c];
-          const Entry to_r{a, static_cast<NodeId>(c0 + c)};
-          if (to_r < row_bound[r] && c0 + c != b0 + r) to_rows.push_back({r, to_r});
-          const Entry to_c{a, static_cast<NodeId>(b0 + r)};
-          if (mirrored && to_c < col_bound[c]) to_cols.push_back({c, to_c});
+          if (a <= bound_r.first) {
+            const Entry to_r{a, static_cast<NodeId>(c0 + c)};
+            if (to_r < bound_r && c0 + c != b0 + r) to_rows.push_back({r, to_r});
+          }
+          if (mirrored && a <= col_limit[c]) {
+            const Entry to_c{a, static_cast<NodeId>(b0 + r)};
+            if (to_c < col_bound[c]) to_cols.push_back({c, to_c});
+          }
         }
       }
       {
@@ -270,11 +280,16 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
   std::vector<double> limit(queries.rows, 0.0);
   parallel_chunks(queries.rows, 1024, stop, "graph", [&](std::size_t b, std::size_t e) {
     std::vector<Neighbour> list;
+    std::vector<const float*> rows;
+    std::vector<double> exact;
     for (std::size_t q = b; q < e; ++q) {
       const auto heap = heaps.row(q);
+      rows.clear();
+      for (const auto& [approx, t] : heap) rows.push_back(data.row(t));
+      exact.resize(rows.size());
+      exact_squared_batch(queries.row(q), rows.data(), rows.size(), data.cols, exact.data());
       list.clear();
-      for (const auto& [approx, t] : heap)
-        list.push_back({t, exact_squared(queries.row(q), data.row(t), data.cols)});
+      for (std::size_t c = 0; c < heap.size(); ++c) list.push_back({heap[c].second, exact[c]});
       std::sort(list.begin(), list.end(), closer);
       std::copy_n(list.begin(), k, out.begin() + static_cast<std::ptrdiff_t>(q * k));
       if (heap.size() == available) continue;  // every row was a candidate
