@@ -6,6 +6,7 @@ set -euo pipefail
 packages=(
   build-essential cmake ninja-build pkg-config clang-format
   libeigen3-dev libnanoflann-dev libspectra-dev
+  libopenblas-dev
   libhdf5-dev hdf5-tools
   libcli11-dev libspdlog-dev libfmt-dev nlohmann-json3-dev
   libcairo2-dev

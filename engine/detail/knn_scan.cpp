@@ -5,24 +5,24 @@
 // bound of a float dot product, |fl(x.y) - x.y| <= gamma_d |x| |y| with gamma_d ~ d u
 // (Higham, "Accuracy and Stability of Numerical Algorithms", 2nd ed., section 3.1). A row
 // that cannot be certified is rescanned with a threshold, so the result is exact.
-#include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
 #include <mutex>
 
+#include "engine/detail/float_product.hpp"
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl::detail {
 namespace {
 
-using RowMatrix = Eigen::Matrix<float, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>;
 constexpr std::size_t kColumnBlock = 2048;  // columns per product: B x 2048 floats per thread
 constexpr double kUnitRoundoff = 0x1p-24;   // float32 unit roundoff
 
 struct ScanData {
+  std::size_t rows = 0, cols = 0;
   std::vector<double> mean;
-  RowMatrix y;               // centred data rows
+  std::vector<float> y;      // centred data rows, row-major rows x cols
   std::vector<float> norm2;  // |y|^2 per row
   double max_norm = 0.0;
 };
@@ -34,13 +34,15 @@ ScanData prepare(const PointSet& data) {
   for (std::size_t i = 0; i < n; ++i)
     for (std::size_t j = 0; j < d; ++j) s.mean[j] += data.row(i)[j];
   for (double& m : s.mean) m /= static_cast<double>(n);
-  s.y.resize(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(d));
+  s.rows = n;
+  s.cols = d;
+  s.y.resize(n * d);
   s.norm2.resize(n);
   for (std::size_t i = 0; i < n; ++i) {
     double sum = 0.0;
     for (std::size_t j = 0; j < d; ++j) {
       const float v = static_cast<float>(data.row(i)[j] - s.mean[j]);
-      s.y(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = v;
+      s.y[i * d + j] = v;
       sum += static_cast<double>(v) * v;
     }
     s.norm2[i] = static_cast<float>(sum);
@@ -58,7 +60,7 @@ double slack(const ScanData& s, std::size_t d, double norm2) {
 }
 
 struct QueryBlock {
-  RowMatrix x;
+  std::vector<float> x;  // centred query rows, row-major
   std::vector<float> norm2;
   std::vector<double> slack;  // bound on |approximate - exact| squared distance, per row
 };
@@ -66,14 +68,14 @@ struct QueryBlock {
 QueryBlock gather(const ScanData& s, const PointSet& queries, std::span<const std::size_t> rows) {
   QueryBlock b;
   const std::size_t d = queries.cols;
-  b.x.resize(static_cast<Eigen::Index>(rows.size()), static_cast<Eigen::Index>(d));
+  b.x.resize(rows.size() * d);
   b.norm2.resize(rows.size());
   b.slack.resize(rows.size());
   for (std::size_t r = 0; r < rows.size(); ++r) {
     double sum = 0.0;
     for (std::size_t j = 0; j < d; ++j) {
       const float v = static_cast<float>(queries.row(rows[r])[j] - s.mean[j]);
-      b.x(static_cast<Eigen::Index>(r), static_cast<Eigen::Index>(j)) = v;
+      b.x[r * d + j] = v;
       sum += static_cast<double>(v) * v;
     }
     b.norm2[r] = static_cast<float>(sum);
@@ -86,15 +88,13 @@ QueryBlock gather(const ScanData& s, const PointSet& queries, std::span<const st
 // column block at a time: visit(r, c0, row_of_approximations, count).
 template <class Visit>
 void for_each_column_block(const ScanData& s, const QueryBlock& b, Visit&& visit) {
-  const auto n = static_cast<std::size_t>(s.y.rows());
-  RowMatrix product;
-  std::vector<float> approx(kColumnBlock);
+  const std::size_t n = s.rows, d = s.cols;
+  const std::size_t rows = b.norm2.size();
+  std::vector<float> product(rows * kColumnBlock), approx(kColumnBlock);
   for (std::size_t c0 = 0; c0 < n; c0 += kColumnBlock) {
     const std::size_t cn = std::min(kColumnBlock, n - c0);
-    product.noalias() =
-        b.x *
-        s.y.middleRows(static_cast<Eigen::Index>(c0), static_cast<Eigen::Index>(cn)).transpose();
-    for (std::size_t r = 0; r < b.norm2.size(); ++r) {
+    product_transposed(b.x.data(), rows, s.y.data() + c0 * d, cn, d, product.data());
+    for (std::size_t r = 0; r < rows; ++r) {
       const float* p = product.data() + r * cn;
       for (std::size_t j = 0; j < cn; ++j) approx[j] = b.norm2[r] + s.norm2[c0 + j] - 2.0f * p[j];
       visit(r, c0, approx.data(), cn);
@@ -203,20 +203,18 @@ void query_candidates(const ScanData& s, const PointSet& queries, std::size_t bl
 // are skipped by index.
 void symmetric_candidates(const ScanData& s, std::size_t block_rows, CandidateHeaps& heaps,
                           StopToken stop) {
-  const auto n = static_cast<std::size_t>(s.y.rows());
+  const std::size_t n = s.rows, d = s.cols;
   const std::size_t blocks = (n + block_rows - 1) / block_rows;
   parallel_chunks(blocks, 1, stop, "graph", [&](std::size_t block, std::size_t) {
     const std::size_t b0 = block * block_rows, bn = std::min(block_rows, n - b0);
-    const auto mine = s.y.middleRows(static_cast<Eigen::Index>(b0), static_cast<Eigen::Index>(bn));
-    RowMatrix product;
+    std::vector<float> product(bn * block_rows);
     std::vector<Entry> row_bound(bn), col_bound(block_rows);
+    std::vector<float> col_limit(block_rows);
     std::vector<std::pair<std::size_t, Entry>> to_rows, to_cols;
     for (std::size_t other = block; other < blocks; ++other) {
       stop.check("graph");
       const std::size_t c0 = other * block_rows, cn = std::min(block_rows, n - c0);
-      product.noalias() =
-          mine *
-          s.y.middleRows(static_cast<Eigen::Index>(c0), static_cast<Eigen::Index>(cn)).transpose();
+      product_transposed(s.y.data() + b0 * d, bn, s.y.data() + c0 * d, cn, d, product.data());
       {
         std::lock_guard<std::mutex> hold(heaps.lock_of(b0));
         for (std::size_t r = 0; r < bn; ++r) row_bound[r] = heaps.bound(b0 + r);
@@ -228,15 +226,24 @@ void symmetric_candidates(const ScanData& s, std::size_t block_rows, CandidateHe
       }
       to_rows.clear();
       to_cols.clear();
+      // Most pairs fail both bounds on the float alone; the (value, index) order decides
+      // only the rest.
+      if (mirrored)
+        for (std::size_t c = 0; c < cn; ++c) col_limit[c] = col_bound[c].first;
       for (std::size_t r = 0; r < bn; ++r) {
         const float* p = product.data() + r * cn;
         const float nr = s.norm2[b0 + r];
+        const Entry bound_r = row_bound[r];
         for (std::size_t c = 0; c < cn; ++c) {
           const float a = nr + s.norm2[c0 + c] - 2.0f * p[c];
-          const Entry to_r{a, static_cast<NodeId>(c0 + c)};
-          if (to_r < row_bound[r] && c0 + c != b0 + r) to_rows.push_back({r, to_r});
-          const Entry to_c{a, static_cast<NodeId>(b0 + r)};
-          if (mirrored && to_c < col_bound[c]) to_cols.push_back({c, to_c});
+          if (a <= bound_r.first) {
+            const Entry to_r{a, static_cast<NodeId>(c0 + c)};
+            if (to_r < bound_r && c0 + c != b0 + r) to_rows.push_back({r, to_r});
+          }
+          if (mirrored && a <= col_limit[c]) {
+            const Entry to_c{a, static_cast<NodeId>(b0 + r)};
+            if (to_c < col_bound[c]) to_cols.push_back({c, to_c});
+          }
         }
       }
       {
@@ -273,11 +280,16 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
   std::vector<double> limit(queries.rows, 0.0);
   parallel_chunks(queries.rows, 1024, stop, "graph", [&](std::size_t b, std::size_t e) {
     std::vector<Neighbour> list;
+    std::vector<const float*> rows;
+    std::vector<double> exact;
     for (std::size_t q = b; q < e; ++q) {
       const auto heap = heaps.row(q);
+      rows.clear();
+      for (const auto& [approx, t] : heap) rows.push_back(data.row(t));
+      exact.resize(rows.size());
+      exact_squared_batch(queries.row(q), rows.data(), rows.size(), data.cols, exact.data());
       list.clear();
-      for (const auto& [approx, t] : heap)
-        list.push_back({t, exact_squared(queries.row(q), data.row(t), data.cols)});
+      for (std::size_t c = 0; c < heap.size(); ++c) list.push_back({heap[c].second, exact[c]});
       std::sort(list.begin(), list.end(), closer);
       std::copy_n(list.begin(), k, out.begin() + static_cast<std::ptrdiff_t>(q * k));
       if (heap.size() == available) continue;  // every row was a candidate

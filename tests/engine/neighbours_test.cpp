@@ -295,6 +295,25 @@ TEST_CASE("bad options and data are refused with the field named", "[neighbours]
                     "points: row 7, column 2 is not a finite number");
 }
 
+TEST_CASE("batched exact distances equal one-at-a-time ones bit for bit", "[neighbours]") {
+  // The contract of exact_squared (neighbour_search.hpp): both back ends and every caller get
+  // the same bits, so the scan's batched recomputation must match the tree's single one.
+  for (const std::size_t d : {1u, 3u, 784u}) {
+    const auto pts = random_points(12, d, 40 + d, false);
+    for (std::size_t count = 0; count <= 11; ++count) {
+      std::vector<const float*> rows;
+      for (std::size_t c = 0; c < count; ++c) rows.push_back(pts.row(c + 1));
+      std::vector<double> batch(count, -1.0);
+      detail::exact_squared_batch(pts.row(0), rows.data(), count, d, batch.data());
+      for (std::size_t c = 0; c < count; ++c) {
+        INFO("d " << d << ", count " << count << ", row " << c);
+        CHECK(batch[c] == detail::exact_squared(pts.row(0), rows[c], d));
+        CHECK(batch[c] > 0.0);
+      }
+    }
+  }
+}
+
 TEST_CASE("results do not depend on the thread count", "[neighbours]") {
   // 20,000 points x 8 neighbours: 160,000 edges, several of the CSR assembly's parallel
   // chunks (1 << 16 edges each), whose rows fill in a thread-dependent order before sorting.

@@ -38,9 +38,9 @@ def write_points(x, name):
     return path
 
 
-def probe(*args):
+def probe(*args, env=None):
     out = os.path.join(WORK, "out.bin")
-    subprocess.run([PROBE, *map(str, args), out], check=True)
+    subprocess.run([PROBE, *map(str, args), out], check=True, env=env)
     with open(out, "rb") as f:
         return f.read()
 
@@ -105,6 +105,15 @@ def main():
     compare_knn(fm, 10, f"Fashion-MNIST {len(fm)}x784", ("scan",))
     # A k-d tree in 784 dimensions visits nearly every leaf; fewer rows keep the check short.
     compare_knn(fm[:1000], 10, "Fashion-MNIST 1000x784")
+    # The scan's float products come from whichever kernels OpenBLAS picks for the processor;
+    # OPENBLAS_CORETYPE forces older ones (OpenBLAS's documented override for its DYNAMIC_ARCH
+    # builds). The certified scan must give the same bytes with every kernel set.
+    path = write_points(fm[:1500], "kernels.bin")
+    default = probe("knn", path, 10, "scan")
+    for core in ("Haswell", "Sandybridge", "Prescott"):
+        forced = probe("knn", path, 10, "scan", env=dict(os.environ, OPENBLAS_CORETYPE=core))
+        report(forced == default,
+               f"kNN Fashion-MNIST 1500x784 scan: OpenBLAS {core} kernels give the same bytes")
 
     # Radius graphs against SciPy cKDTree.query_pairs (pairs with distance <= r).
     for d, n, r in ((3, 3000, 0.25), (10, 1500, 2.4)):
