@@ -8,7 +8,8 @@
 // symmetric with a zero diagonal (checked once, in the constructor) the pass reads only the
 // upper triangle, half the memory traffic; otherwise all of D, symmetrised as above. The column
 // part is accumulated per block of rows into that block's own buffer and the buffers are added in
-// block order, with blocks fixed by N alone: the sums do not depend on the thread count.
+// block order, with blocks fixed by N and the number of vectors: the sums do not depend on the
+// thread count. Several vectors go side by side in lanes (see squared_product_lanes).
 #pragma once
 
 #include <Eigen/Core>
@@ -45,6 +46,15 @@ class CentredSquaredOperator {
  private:
   // Y = S X (symmetrised squared distances) for k vectors, without centring.
   void squared_product(const double* x, double* y, std::size_t k) const;
+  void squared_product_one(const double* x, double* y) const;
+  // k > 1: the vectors side by side in lanes (row-major copy of X), one pass over D.
+  void squared_product_lanes(const double* x, double* y, std::size_t k) const;
+  // In parallel over `blocks` blocks of rows: fill(first row, end row, the block's `width`
+  // column sums, zeroed). Blocks fixed by N and k, never by the thread count.
+  template <class Fill>
+  void over_blocks(std::size_t blocks, std::size_t width, const Fill& fill) const;
+  // Y (n x k, column-major) = the row sums plus the blocks' column sums, added in block order.
+  void add_blocks(std::size_t blocks, std::size_t lanes, std::size_t k, double* y) const;
 
   const DistanceRows& d_;
   std::size_t n_;
@@ -53,8 +63,9 @@ class CentredSquaredOperator {
   StopToken stop_;
   std::vector<double> row_means_;
   double grand_mean_ = 0.0;
-  mutable std::vector<double> partial_;  // blocks_ x k x n_: column sums of each block of rows
-  mutable std::vector<double> own_;      // k x n_: the row sums
+  mutable std::vector<double> partial_;  // blocks x n_ x lanes: column sums of each block of rows
+  mutable std::vector<double> own_;      // n_ x lanes (k > 1) or n_: the row sums
+  mutable std::vector<double> lanes_;    // n_ x lanes: X row-major, padded with zeros
 };
 
 }  // namespace unfurl::detail

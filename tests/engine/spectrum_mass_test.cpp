@@ -10,6 +10,7 @@
 #include <numeric>
 
 #include "engine/detail/absolute_trace.hpp"
+#include "engine/detail/centred_operator.hpp"
 #include "engine/geodesic.hpp"
 #include "engine/neighbours.hpp"
 #include "engine/random.hpp"
@@ -34,20 +35,24 @@ struct Whole {
   double positive = 0, negative = 0;
 };
 
-Whole whole_spectrum(const unfurl::DistanceRows& rows) {
-  const auto n = static_cast<Eigen::Index>(rows.rows);
+// B = -1/2 J S J with S_ij = (D_ij^2 + D_ji^2) / 2, built whole.
+Eigen::MatrixXd dense_b(const unfurl::DistanceRows& d) {
+  const auto n = static_cast<Eigen::Index>(d.rows);
   Eigen::MatrixXd s(n, n);
   for (Eigen::Index i = 0; i < n; ++i)
     for (Eigen::Index j = 0; j < n; ++j) {
-      const double a = rows.row(static_cast<std::size_t>(i))[j];
-      const double b = rows.row(static_cast<std::size_t>(j))[i];
+      const double a = d.row(static_cast<std::size_t>(i))[j];
+      const double b = d.row(static_cast<std::size_t>(j))[i];
       s(i, j) = 0.5 * (a * a + b * b);
     }
   const Eigen::MatrixXd centre =
       Eigen::MatrixXd::Identity(n, n) - Eigen::MatrixXd::Constant(n, n, 1.0 / double(n));
-  const Eigen::MatrixXd b = -0.5 * centre * s * centre;
+  return -0.5 * centre * s * centre;
+}
+
+Whole whole_spectrum(const unfurl::DistanceRows& rows) {
   Whole w;
-  w.values = Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd>(b).eigenvalues();
+  w.values = Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd>(dense_b(rows)).eigenvalues();
   for (double v : w.values) (v > 0 ? w.positive : w.negative) += std::abs(v);
   return w;
 }
@@ -58,6 +63,41 @@ unfurl::DistanceRows roll_geodesics(std::size_t n, std::uint64_t seed) {
   go.k = 10;
   const auto graph = unfurl::build_neighbour_graph(roll.points, go);
   return unfurl::all_geodesic_rows(graph.graph);
+}
+
+// A random n x n table of non-negative floats; symmetric with a zero diagonal (the layout
+// exact mode's all-pairs geodesics have) or, when asked, slightly asymmetric.
+unfurl::DistanceRows random_table(std::size_t n, bool symmetric, std::uint64_t seed) {
+  unfurl::DistanceRows d;
+  d.rows = d.cols = n;
+  d.sources.resize(n);
+  std::iota(d.sources.begin(), d.sources.end(), unfurl::NodeId{0});
+  d.values.assign(n * n, 0.0f);
+  unfurl::Random rng(seed);
+  auto uniform = [&] { return static_cast<double>(rng.next() >> 11) * 0x1.0p-53; };
+  for (std::size_t i = 0; i < n; ++i)
+    for (std::size_t j = i + 1; j < n; ++j) {
+      const auto v = static_cast<float>(1.0 + 9.0 * uniform());
+      d.row(i)[j] = v;
+      d.row(j)[i] = symmetric ? v : v * static_cast<float>(1.0 + 1e-3 * uniform());
+    }
+  return d;
+}
+
+Eigen::MatrixXd random_block(std::size_t n, std::size_t k, std::uint64_t seed) {
+  unfurl::Random rng(seed);
+  Eigen::MatrixXd x(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(k));
+  for (Eigen::Index c = 0; c < x.cols(); ++c)
+    for (Eigen::Index i = 0; i < x.rows(); ++i)
+      x(i, c) = static_cast<double>(rng.next() >> 11) * 0x1.0p-52 - 1.0;
+  return x;
+}
+
+Eigen::MatrixXd block_product(const unfurl::detail::CentredSquaredOperator& op,
+                              const Eigen::MatrixXd& x) {
+  Eigen::MatrixXd y(x.rows(), x.cols());
+  op.perform_block(x.data(), y.data(), static_cast<std::size_t>(x.cols()));
+  return y;
 }
 
 }  // namespace
@@ -177,4 +217,47 @@ TEST_CASE("an axis beyond the positive part of the spectrum is named, warned abo
   REQUIRE(r.summary.warnings.size() == 2);
   CHECK_THAT(r.summary.warnings[1], Catch::Contains("axis 4 carries no structure and is set to 0"));
   CHECK_THAT(r.summary.warnings[1], Catch::Contains("beyond the positive part"));
+}
+
+// The implicit exact-mode operator (engine/detail/centred_operator.*) against the dense B above
+// multiplied by Eigen, for one vector and for blocks of several, on random distance tables.
+TEST_CASE("the implicit centred operator's block product equals the dense B times X",
+          "[spectral]") {
+  for (const bool symmetric : {true, false}) {
+    for (const std::size_t n : {1u, 7u, 1000u}) {
+      const auto d = random_table(n, symmetric, 40 + n);
+      const Eigen::MatrixXd b = dense_b(d);
+      const unfurl::detail::CentredSquaredOperator op(d, {});
+      // Scale of the entries of B X: |B| |X|, bounded by n max S max |x|.
+      const double scale = static_cast<double>(n) * 100.0 + 1.0;
+      for (const std::size_t k : {1u, 3u, 16u}) {
+        INFO("n " << n << ", k " << k << (symmetric ? ", symmetric" : ", asymmetric"));
+        const Eigen::MatrixXd x = random_block(n, k, 7 * n + k);
+        const Eigen::MatrixXd want = b * x;
+        const Eigen::MatrixXd got = block_product(op, x);
+        CHECK((got - want).cwiseAbs().maxCoeff() <= 1e-12 * scale);
+        // The one-vector product (the eigen solver's) agrees with each column of the block.
+        for (Eigen::Index c = 0; c < x.cols(); ++c) {
+          Eigen::VectorXd one(x.rows());
+          op.perform_op(x.col(c).data(), one.data());
+          CHECK((one - got.col(c)).cwiseAbs().maxCoeff() <= 1e-12 * scale);
+        }
+      }
+    }
+  }
+}
+
+TEST_CASE("the implicit centred operator's block product does not depend on the thread count",
+          "[spectral]") {
+  const auto d = random_table(600, true, 9);
+  const Eigen::MatrixXd x = random_block(600, 16, 10);
+  const int threads = omp_get_max_threads();
+  omp_set_num_threads(1);
+  const unfurl::detail::CentredSquaredOperator op1(d, {});
+  const Eigen::MatrixXd one = block_product(op1, x);
+  omp_set_num_threads(2);
+  const unfurl::detail::CentredSquaredOperator op2(d, {});
+  const Eigen::MatrixXd two = block_product(op2, x);
+  omp_set_num_threads(threads);
+  CHECK((one.array() == two.array()).all());
 }
