@@ -29,28 +29,23 @@ from scipy.spatial.distance import cdist
 from sklearn.manifold import Isomap, trustworthiness
 from sklearn.neighbors import kneighbors_graph
 
-BIN = os.environ["UNFURL_BIN"]
+from reference_support import arc_length, check, failures
+from reference_support import swiss_roll as roll_float64
+from reference_support import unfurl as run_unfurl
+
 # N = 2000 as the brief asks: exact mode and scikit-learn's Isomap both hold N x N
 # matrices, which at 2000 points take a few seconds each, also under sanitizers.
 N = 2000
 K = 10
-failures = []
 
 
-def check(what, ok, detail):
-    print(("ok   " if ok else "FAIL ") + what + ": " + detail)
-    if not ok:
-        failures.append(what)
+def swiss_roll(n, seed):
+    points, t, height = roll_float64(n, seed)
+    return points.astype(np.float32), t, height
 
 
 def unfurl(*args):
-    started = time.time()
-    r = subprocess.run([BIN, *args, "--quiet"], capture_output=True, text=True, timeout=600)
-    if r.returncode != 0:
-        raise SystemExit(f"unfurl {' '.join(args)} failed ({r.returncode}): {r.stderr}")
-    print(f"     (unfurl {' '.join(os.path.basename(a) for a in args)}: "
-          f"{time.time() - started:.1f} s)")
-    return r
+    return run_unfurl(*args, "--quiet")
 
 
 def read_map(path):
@@ -62,20 +57,6 @@ def disparity(a, b):
     # scipy.spatial.procrustes: both configurations centred, scaled to unit Frobenius norm,
     # the second rotated/reflected onto the first; the disparity is the residual sum of squares.
     return procrustes(np.asarray(a, np.float64), np.asarray(b, np.float64))[2]
-
-
-def swiss_roll(n, seed):
-    # DESIGN.md section 6: t = 1.5 pi (1 + 2u), height 21 u', point (t cos t, height, t sin t).
-    rng = np.random.default_rng(seed)
-    t = 1.5 * np.pi * (1 + 2 * rng.random(n))
-    height = 21 * rng.random(n)
-    points = np.column_stack([t * np.cos(t), height, t * np.sin(t)]).astype(np.float32)
-    return points, t, height
-
-
-def arc_length(t):
-    # Analytic arc length of the spiral (t cos t, t sin t) from 0 (DESIGN.md section 6).
-    return 0.5 * (t * np.sqrt(1 + t * t) + np.arcsinh(t))
 
 
 def best_correlation(coords, truth):

@@ -17,7 +17,6 @@ Before centring (main at 1f8f95f) this script saw, for the 1e6 offset, |rank cor
 
 import json
 import os
-import subprocess
 import sys
 import tempfile
 
@@ -25,32 +24,16 @@ import h5py
 import numpy as np
 from scipy.stats import spearmanr
 
-BIN = os.environ["UNFURL_BIN"]
+from reference_support import arc_length, check, failures, unfurl
+from reference_support import swiss_roll as roll_float64
+
 N = 1500
-failures = []
-
-
-def check(what, ok, detail):
-    print(("ok   " if ok else "FAIL ") + what + ": " + detail)
-    if not ok:
-        failures.append(what)
-
-
-def unfurl(*args):
-    r = subprocess.run([BIN, *args], capture_output=True, text=True, timeout=600)
-    if r.returncode != 0:
-        raise SystemExit(f"unfurl {' '.join(args)} failed ({r.returncode}): {r.stderr}")
-    return r.stdout
 
 
 def swiss_roll(seed):
     """DESIGN.md section 6; returns the points and the analytic (arc length, height)."""
-    rng = np.random.default_rng(seed)
-    t = 1.5 * np.pi * (1 + 2 * rng.random(N))
-    height = 21 * rng.random(N)
-    points = np.column_stack([t * np.cos(t), height, t * np.sin(t)])
-    arc = 0.5 * (t * np.sqrt(1 + t * t) + np.arcsinh(t))
-    return points, np.column_stack([arc, height])
+    points, t, height = roll_float64(N, seed)
+    return points, np.column_stack([arc_length(t), height])
 
 
 def write(folder, name, data):

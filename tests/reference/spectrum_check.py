@@ -16,10 +16,8 @@ Exits non-zero when any comparison fails; prints every comparison.
 
 import json
 import os
-import subprocess
 import sys
 import tempfile
-import time
 
 import h5py
 import numpy as np
@@ -27,35 +25,16 @@ from scipy.sparse.csgraph import shortest_path
 from scipy.spatial.distance import pdist
 from sklearn.neighbors import kneighbors_graph
 
-BIN = os.environ["UNFURL_BIN"]
+from reference_support import check, failures, unfurl
+from reference_support import swiss_roll as roll_float64
+
 K = 10
 # The issue's bound: each figure within 5% (relative) of the whole-spectrum / all-pairs value.
 TOLERANCE = 0.05
-failures = []
-
-
-def check(what, ok, detail):
-    print(("ok   " if ok else "FAIL ") + what + ": " + detail)
-    if not ok:
-        failures.append(what)
-
-
-def unfurl(*args):
-    started = time.time()
-    r = subprocess.run([BIN, *args], capture_output=True, text=True, timeout=600)
-    if r.returncode != 0:
-        raise SystemExit(f"unfurl {' '.join(args)} failed ({r.returncode}): {r.stderr}")
-    print(f"     (unfurl {' '.join(os.path.basename(a) for a in args)}: "
-          f"{time.time() - started:.1f} s)")
-    return r
 
 
 def swiss_roll(n, seed):
-    # DESIGN.md section 6: t = 1.5 pi (1 + 2u), height 21 u', point (t cos t, height, t sin t).
-    rng = np.random.default_rng(seed)
-    t = 1.5 * np.pi * (1 + 2 * rng.random(n))
-    height = 21 * rng.random(n)
-    return np.column_stack([t * np.cos(t), height, t * np.sin(t)]).astype(np.float32)
+    return roll_float64(n, seed)[0].astype(np.float32)
 
 
 def geodesics(points):
