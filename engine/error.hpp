@@ -8,6 +8,7 @@
 
 #include <stdexcept>
 #include <string>
+#include <utility>
 
 namespace unfurl {
 
@@ -31,10 +32,19 @@ class Error : public std::runtime_error {
 };
 
 // An option or argument value that cannot be used (k < 1, unknown name, ...).
+// engine/ and io/ name the options-struct field at fault ("GraphOptions.k"), never a
+// command-line flag; apps/ maps the field to the flag the user typed.
 class OptionError : public Error {
  public:
-  using Error::Error;
+  using Error::Error;  // a message that names what is at fault by itself
+  OptionError(std::string field, const std::string& message)
+      : Error(field + ": " + message), field_(std::move(field)) {}
+  // The options-struct field at fault ("GraphOptions.k"), or empty.
+  const std::string& field() const noexcept { return field_; }
   ExitCode code() const noexcept override { return ExitCode::usage; }
+
+ private:
+  std::string field_;
 };
 
 // Data that was read but cannot be used as given.
