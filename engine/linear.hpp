@@ -1,10 +1,8 @@
 // The linear baseline (`--linear`): principal component analysis of the points, to show
-// what a map that ignores the geodesics looks like. The covariance is the exact d x d matrix
-// (Eigen's SelfAdjointEigenSolver), with the unbiased 1 / (N - 1) normalisation.
-//
-// Determinism: the mean and covariance are summed over fixed blocks of rows in block order;
-// each axis' largest-magnitude map coordinate is positive (ties: the lowest row); so the
-// bytes do not depend on the thread count.
+// what a map that ignores the geodesics looks like. It follows the project's one PCA
+// convention (engine/detail/pca.hpp): exact d x d population covariance (divisor N), sums
+// over fixed blocks of rows in row order (bytes independent of the thread count), each
+// axis's largest-magnitude entry positive.
 #pragma once
 
 #include <cstddef>
@@ -33,8 +31,8 @@ struct LinearSummary {
 
 struct LinearResult {
   PointSet coords;               // N x dims float32
-  std::vector<double> spectrum;  // covariance eigenvalues (variances), descending, all d
-  std::vector<double> axes;      // d x dims principal directions, row-major
+  std::vector<double> spectrum;  // covariance eigenvalues (variances, divisor N), descending, all d
+  std::vector<double> axes;      // dims x d principal directions, row-major, one axis per row
   std::vector<double> mean;      // d: the centre subtracted before projecting
   LinearSummary summary;
 };

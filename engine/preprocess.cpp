@@ -4,12 +4,13 @@
 #include <algorithm>
 #include <cmath>
 
+#include "engine/detail/pca.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl {
 namespace {
 
-constexpr std::size_t kRowBlock = 2048;  // rows converted to double at a time for the covariance
+constexpr std::size_t kRowBlock = detail::kPcaRowBlock;
 
 std::string cell(std::size_t i, std::size_t j) {
   return "points: row " + std::to_string(i) + ", column " + std::to_string(j);
@@ -87,39 +88,15 @@ Eigen::MatrixXd scaled_block(const PreprocessModel& m, const PointSet& p, std::s
 }
 
 void fit_pca(const PointSet& p, std::size_t components, PreprocessModel& m) {
-  const auto d = static_cast<Eigen::Index>(p.cols);
-  Eigen::VectorXd mean = Eigen::VectorXd::Zero(d);
-  for (std::size_t b = 0; b < p.rows; b += kRowBlock)
-    mean += scaled_block(m, p, b, std::min(p.rows, b + kRowBlock)).colwise().sum().transpose();
-  mean /= static_cast<double>(p.rows);
-  Eigen::MatrixXd cov = Eigen::MatrixXd::Zero(d, d);
-  for (std::size_t b = 0; b < p.rows; b += kRowBlock) {
-    Eigen::MatrixXd x = scaled_block(m, p, b, std::min(p.rows, b + kRowBlock));
-    x.rowwise() -= mean.transpose();
-    cov.selfadjointView<Eigen::Lower>().rankUpdate(x.transpose());
-  }
-  cov = cov.selfadjointView<Eigen::Lower>();
-  cov /= static_cast<double>(p.rows);
-  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(cov);
-  if (eig.info() != Eigen::Success) throw InternalError("pca: eigen decomposition failed");
-  const double total = std::max(0.0, eig.eigenvalues().sum());
+  const detail::PcaFit fit = detail::fit_pca(
+      p.rows, p.cols, [&](std::size_t b, std::size_t e) { return scaled_block(m, p, b, e); },
+      components);
   m.components = components;
-  m.pca_mean.assign(mean.data(), mean.data() + d);
-  m.axes.resize(components * p.cols);
-  double kept = 0.0;
-  for (std::size_t c = 0; c < components; ++c) {
-    const Eigen::Index col = d - 1 - static_cast<Eigen::Index>(c);  // ascending order
-    Eigen::VectorXd axis = eig.eigenvectors().col(col);
-    Eigen::Index big;
-    axis.cwiseAbs().maxCoeff(&big);
-    if (axis(big) < 0) axis = -axis;
-    std::copy(axis.data(), axis.data() + d,
-              m.axes.begin() + static_cast<std::ptrdiff_t>(c * p.cols));
-    const double variance = std::max(0.0, eig.eigenvalues()(col));
-    m.variances.push_back(variance);
-    kept += variance;
-  }
-  m.variance_kept = total > 0.0 ? kept / total : 1.0;
+  m.pca_mean = fit.mean;
+  m.axes = fit.axes;
+  for (std::size_t c = 0; c < components; ++c)
+    m.variances.push_back(std::max(0.0, fit.variances[c]));
+  m.variance_kept = fit.kept_share;
 }
 
 }  // namespace
@@ -172,17 +149,10 @@ PointSet apply_preprocess(const PreprocessModel& m, const PointSet& points) {
                     " columns, the model was fitted on " + std::to_string(m.input_cols));
   require_finite(points);
   PointSet out(points.rows, m.output_cols());
-  const auto d = static_cast<Eigen::Index>(m.input_cols);
-  const Eigen::Map<const Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>>
-      axes(m.axes.data(), static_cast<Eigen::Index>(m.components), d);
-  const Eigen::Map<const Eigen::RowVectorXd> mean(m.pca_mean.data(), m.components ? d : 0);
   for (std::size_t b = 0; b < points.rows; b += kRowBlock) {
     const std::size_t e = std::min(points.rows, b + kRowBlock);
     Eigen::MatrixXd x = scaled_block(m, points, b, e);
-    if (m.components) {
-      x.rowwise() -= mean;
-      x = (x * axes.transpose()).eval();
-    }
+    if (m.components) x = detail::project_rows(std::move(x), m.pca_mean, m.axes, m.components);
     for (std::size_t i = b; i < e; ++i)
       for (std::size_t j = 0; j < out.cols; ++j)
         out.row(i)[j] =

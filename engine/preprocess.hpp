@@ -41,7 +41,7 @@ struct PreprocessModel {
   std::vector<double> pca_mean;       // per column after scaling and normalising
   std::vector<double> axes;           // components x input_cols, row-major, unit length; each
                                       // axis's largest-magnitude entry is positive
-  std::vector<double> variances;      // variance along each kept axis, descending
+  std::vector<double> variances;      // variance (divisor N) along each kept axis, descending
   double variance_kept = 1.0;         // share of the total variance the kept axes hold
   std::vector<std::string> warnings;  // zero-spread columns and what was done
 
@@ -49,7 +49,8 @@ struct PreprocessModel {
 };
 
 // DataError for non-finite values (naming row and column) or, with cosine, rows that are
-// all zeros after scaling. PCA uses the exact d x d covariance in double.
+// all zeros after scaling. The projection follows detail/pca.hpp's convention (population
+// covariance, exact d x d in double, each axis's largest-magnitude entry positive).
 PreprocessModel fit_preprocess(const PointSet& points, const PreprocessOptions& options);
 
 // Applies a fitted model to any points with input_cols columns (DataError otherwise).

@@ -7,6 +7,7 @@
 
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/detail/parallel_chunks.hpp"
+#include "engine/detail/pca.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl {
@@ -71,39 +72,40 @@ std::uint64_t spread_bits(std::uint64_t v) {
   return v;
 }
 
-std::vector<NodeId> morton(const PointSet& p) {
+// Coordinates on the first m <= 3 principal axes (the centred points themselves when d <= 3).
+std::vector<double> curve_coordinates(const PointSet& p, std::size_t m) {
   const std::size_t n = p.rows, d = p.cols;
-  const std::size_t m = std::min<std::size_t>(3, d);
-  // First m principal directions of the points (the points themselves when d <= 3).
-  Eigen::MatrixXd axes =
-      Eigen::MatrixXd::Identity(static_cast<Eigen::Index>(d), static_cast<Eigen::Index>(m));
-  Eigen::VectorXd mean = Eigen::VectorXd::Zero(static_cast<Eigen::Index>(d));
-  for (std::size_t i = 0; i < n; ++i)
-    for (std::size_t j = 0; j < d; ++j) mean(static_cast<Eigen::Index>(j)) += p.row(i)[j];
-  mean /= static_cast<double>(n);
-  if (d > 3) {
-    Eigen::MatrixXd cov =
-        Eigen::MatrixXd::Zero(static_cast<Eigen::Index>(d), static_cast<Eigen::Index>(d));
-    for (std::size_t i = 0; i < n; ++i) {
-      const Eigen::VectorXd x =
-          Eigen::Map<const Eigen::VectorXf>(p.row(i), static_cast<Eigen::Index>(d)).cast<double>() -
-          mean;
-      cov.selfadjointView<Eigen::Lower>().rankUpdate(x);
-    }
-    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(cov.selfadjointView<Eigen::Lower>());
-    axes = eig.eigenvectors().rightCols(static_cast<Eigen::Index>(m)).rowwise().reverse();
-  }
   std::vector<double> coord(n * m);
+  if (d <= 3) {
+    std::vector<double> mean(d, 0.0);
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = 0; j < d; ++j) mean[j] += p.row(i)[j];
+    for (double& v : mean) v /= static_cast<double>(n);
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = 0; j < d; ++j) coord[i * m + j] = p.row(i)[j] - mean[j];
+    return coord;
+  }
+  const auto rows = [&](std::size_t b, std::size_t e) { return detail::double_rows(p, b, e); };
+  const detail::PcaFit fit = detail::fit_pca(n, d, rows, m, detail::AxisSign::as_solved);
+  for (std::size_t b = 0; b < n; b += detail::kPcaRowBlock) {
+    const std::size_t e = std::min(n, b + detail::kPcaRowBlock);
+    const Eigen::MatrixXd y = detail::project_rows(rows(b, e), fit.mean, fit.axes, m);
+    for (std::size_t i = b; i < e; ++i)
+      for (std::size_t a = 0; a < m; ++a)
+        coord[i * m + a] = y(static_cast<Eigen::Index>(i - b), static_cast<Eigen::Index>(a));
+  }
+  return coord;
+}
+
+std::vector<NodeId> morton(const PointSet& p) {
+  const std::size_t n = p.rows;
+  const std::size_t m = std::min<std::size_t>(3, p.cols);
+  const std::vector<double> coord = curve_coordinates(p, m);
   std::vector<double> lo(m, INFINITY), hi(m, -INFINITY);
   for (std::size_t i = 0; i < n; ++i)
     for (std::size_t a = 0; a < m; ++a) {
-      double c = 0.0;
-      for (std::size_t j = 0; j < d; ++j)
-        c += (p.row(i)[j] - mean(static_cast<Eigen::Index>(j))) *
-             axes(static_cast<Eigen::Index>(j), static_cast<Eigen::Index>(a));
-      coord[i * m + a] = c;
-      lo[a] = std::min(lo[a], c);
-      hi[a] = std::max(hi[a], c);
+      lo[a] = std::min(lo[a], coord[i * m + a]);
+      hi[a] = std::max(hi[a], coord[i * m + a]);
     }
   // One common scale keeps the cells cubes, so the curve follows the geometry.
   double width = 0.0;

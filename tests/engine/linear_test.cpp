@@ -33,7 +33,7 @@ double variance(const std::vector<double>& x) {
   for (double v : x) mean += v;
   mean /= static_cast<double>(x.size());
   for (double v : x) sum += (v - mean) * (v - mean);
-  return sum / static_cast<double>(x.size() - 1);
+  return sum / static_cast<double>(x.size());  // divisor N, engine/detail/pca.hpp's convention
 }
 
 }  // namespace

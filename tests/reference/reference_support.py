@@ -17,6 +17,15 @@ def check(what, ok, detail):
         failures.append(what)
 
 
+def verdict(name):
+    """Prints the tally of the checks and returns the script's exit code."""
+    if failures:
+        print(f"{len(failures)} check(s) failed: {', '.join(failures)}")
+        return 1
+    print(f"all {name} checks passed")
+    return 0
+
+
 def unfurl(*args):
     """Runs unfurl; stops the script on a non-zero exit. Prints the run's wall time."""
     started = time.time()
