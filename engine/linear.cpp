@@ -6,9 +6,9 @@
 
 #include <algorithm>
 #include <chrono>
-#include <cmath>
 
 #include "engine/detail/pca.hpp"
+#include "engine/detail/point_checks.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl {
@@ -26,10 +26,7 @@ LinearResult linear_map(const PointSet& points, const LinearOptions& options, St
   const std::size_t n = points.rows, d = points.cols;
   options.validate(d);
   if (n < 2) throw DataError("linear map: needs at least 2 points, got " + std::to_string(n));
-  for (std::size_t i = 0; i < n * d; ++i)
-    if (!std::isfinite(points.values[i]))
-      throw DataError("linear map: row " + std::to_string(i / d) + ", column " +
-                      std::to_string(i % d) + " is not a finite number");
+  detail::require_finite(points, "linear map");
   const std::size_t m = options.dims;
   const auto rows = [&](std::size_t b, std::size_t e) { return detail::double_rows(points, b, e); };
   detail::PcaFit fit =

@@ -10,6 +10,7 @@
 #include "engine/detail/csr.hpp"
 #include "engine/detail/duplicates.hpp"
 #include "engine/detail/neighbour_search.hpp"
+#include "engine/detail/point_checks.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl {
@@ -18,18 +19,16 @@ namespace {
 using detail::Edge;
 using detail::Neighbour;
 
-// Finite values whose squared distances are finite too: the searches square coordinate
-// differences in float32, and a distance that overflows to infinity ties with the empty
-// slots of a neighbour list, which then keep no valid index (seen on a damaged file holding
-// 1.5e28 among values near 1).
+// Finite values (the shared check) whose squared distances are finite too: the searches
+// square coordinate differences in float32, and a distance that overflows to infinity ties
+// with the empty slots of a neighbour list, which then keep no valid index (seen on a
+// damaged file holding 1.5e28 among values near 1).
 void require_finite(const PointSet& points, const char* what) {
+  detail::require_finite(points, what);
   std::vector<float> low(points.cols, 0.0f), high(points.cols, 0.0f);
   for (std::size_t i = 0; i < points.rows; ++i)
     for (std::size_t j = 0; j < points.cols; ++j) {
       const float v = points.row(i)[j];
-      if (!std::isfinite(v))
-        throw DataError(std::string(what) + ": row " + std::to_string(i) + ", column " +
-                        std::to_string(j) + " is not a finite number");
       low[j] = i == 0 ? v : std::min(low[j], v);
       high[j] = i == 0 ? v : std::max(high[j], v);
     }

@@ -5,22 +5,13 @@
 #include <cmath>
 
 #include "engine/detail/pca.hpp"
+#include "engine/detail/point_checks.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl {
 namespace {
 
 constexpr std::size_t kRowBlock = detail::kPcaRowBlock;
-
-std::string cell(std::size_t i, std::size_t j) {
-  return "points: row " + std::to_string(i) + ", column " + std::to_string(j);
-}
-
-void require_finite(const PointSet& p) {
-  for (std::size_t i = 0; i < p.rows; ++i)
-    for (std::size_t j = 0; j < p.cols; ++j)
-      if (!std::isfinite(p.row(i)[j])) throw DataError(cell(i, j) + " is not a finite number");
-}
 
 // Linear interpolation between order statistics, as numpy.percentile's default.
 double percentile(std::vector<double>& v, double q) {
@@ -128,7 +119,7 @@ void PreprocessOptions::validate(std::size_t rows, std::size_t cols) const {
 PreprocessModel fit_preprocess(const PointSet& points, const PreprocessOptions& options) {
   options.validate(points.rows, points.cols);
   if (points.rows == 0 || points.cols == 0) throw DataError("points: empty");
-  require_finite(points);
+  detail::require_finite(points, "points");
   PreprocessModel m;
   m.input_cols = points.cols;
   m.scale = options.scale;
@@ -147,7 +138,7 @@ PointSet apply_preprocess(const PreprocessModel& m, const PointSet& points) {
   if (points.cols != m.input_cols)
     throw DataError("points: " + std::to_string(points.cols) +
                     " columns, the model was fitted on " + std::to_string(m.input_cols));
-  require_finite(points);
+  detail::require_finite(points, "points");
   PointSet out(points.rows, m.output_cols());
   for (std::size_t b = 0; b < points.rows; b += kRowBlock) {
     const std::size_t e = std::min(points.rows, b + kRowBlock);

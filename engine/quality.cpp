@@ -156,8 +156,8 @@ void detail::estimate_from_terms(NeighbourhoodScore& s, std::size_t n, std::uint
 NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
                                          const QualityOptions& options, StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
-  detail::require_finite(input, "quality input points");
-  detail::require_finite(map, "quality map");
+  detail::require_points(input, "quality input points");
+  detail::require_points(map, "quality map");
   if (input.rows != map.rows)
     throw DataError("quality: the map has " + std::to_string(map.rows) +
                     " rows but the input points have " + std::to_string(input.rows));

@@ -130,10 +130,7 @@ void append_row_moments(const DistanceRows& geodesic, const PointSet& map,
         throw DataError("residual variance: geodesic row " + std::to_string(r) + " has source " +
                         std::to_string(s) + ", not a map row");
       const float* g = geodesic.row(r);
-      for (std::size_t j = 0; j < geodesic.cols; ++j)
-        if (!std::isfinite(g[j]))
-          throw DataError("residual variance: geodesic row " + std::to_string(r) + " column " +
-                          std::to_string(j) + " is not finite");
+      detail::require_finite({g, geodesic.cols}, geodesic.cols, "residual variance: geodesic", r);
       out[first + r] = group_moments(map, geodesic.cols,
                                      [&](std::size_t j, std::size_t& a, std::size_t& b, double& x) {
                                        a = s;
@@ -179,7 +176,7 @@ std::vector<double> jackknife_error(const std::vector<Moments>& rows, std::size_
 ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const PointSet& map,
                                         StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
-  detail::require_finite(map, "residual variance map");
+  detail::require_points(map, "residual variance map");
   std::vector<Moments> rows;
   append_row_moments(geodesic, map, rows, stop);
   ResidualVarianceCurve curve = finish(merged(rows, map.cols), map.cols);
@@ -214,7 +211,7 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
                                               const ResidualOptions& options,
                                               std::span<const NodeId> draw_order, StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
-  detail::require_finite(coords, "residual variance map");
+  detail::require_points(coords, "residual variance map");
   if (coords.rows != graph.nodes())
     throw InternalError("residual variance: a map of " + std::to_string(coords.rows) +
                         " rows for a graph of " + std::to_string(graph.nodes()) + " nodes");
@@ -240,7 +237,7 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
 ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, const PointSet& map,
                                         StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
-  detail::require_finite(map, "residual variance map");
+  detail::require_points(map, "residual variance map");
   for (std::size_t i = 0; i < pairs.size(); ++i) {
     const PairDistance& p = pairs[i];
     if (p.a >= map.rows || p.b >= map.rows || p.a == p.b || !std::isfinite(p.distance))
@@ -283,7 +280,7 @@ ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, con
 std::vector<PairDistance> sample_pair_distances(const PointSet& points, std::size_t count,
                                                 std::uint64_t seed) {
   if (count == 0) throw OptionError("--pairs: must be at least 1, got 0");
-  detail::require_finite(points, "residual variance points");
+  detail::require_points(points, "residual variance points");
   if (points.rows < 2) throw DataError("residual variance: fewer than 2 points to pair");
   Random rng(seed);
   std::vector<PairDistance> pairs(count);
