@@ -27,7 +27,7 @@ struct PlotArgs {
   std::string colour_dataset;
   std::size_t colour_column = 0;
   std::string axes = "1,2";
-  std::string size = "900x700";
+  std::string size;  // WIDTHxHEIGHT; empty: 900 wide, a map as high as its shape needs
 };
 
 // "W,H"-like text of two whole numbers split by `separator`; OptionError naming `option`.
@@ -64,7 +64,9 @@ void run_plot(const GlobalOptions& g, const PlotArgs& a, const CLI::App& cmd) {
       if (cmd.count(option))
         throw OptionError(
             fmt::format("{}: used only with --colour-by file, not {}", option, colour_by));
-  const auto [width, height] = two_numbers("--size", a.size, 'x', "WIDTHxHEIGHT in pixels");
+  const auto [width, height] = a.size.empty()
+                                   ? std::pair<long, long>{900, 700}
+                                   : two_numbers("--size", a.size, 'x', "WIDTHxHEIGHT in pixels");
   plot::FigureSize size{static_cast<int>(width), static_cast<int>(height)};
   if (width < 320 || width > 8000 || height < 240 || height > 8000)
     throw OptionError(
@@ -95,9 +97,10 @@ void run_plot(const GlobalOptions& g, const PlotArgs& a, const CLI::App& cmd) {
       colours = plot::term_colours(m, plot::TermColour::trustworthiness);
     else if (colour_by == "continuity")
       colours = plot::term_colours(m, plot::TermColour::continuity);
-    bytes = plot::draw_map(plot::map_figure(m, std::move(colours), static_cast<std::size_t>(ax - 1),
-                                            static_cast<std::size_t>(ay - 1)),
-                           format, size);
+    const plot::MapFigure figure = plot::map_figure(
+        m, std::move(colours), static_cast<std::size_t>(ax - 1), static_cast<std::size_t>(ay - 1));
+    if (a.size.empty()) size = plot::fitted_map_size(figure);
+    bytes = plot::draw_map(figure, format, size);
   } else if (a.figure == "residual-variance") {
     bytes = plot::draw_curves(plot::residual_figure(m), format, size);
   } else if (a.figure == "scores") {
@@ -138,8 +141,9 @@ void add_plot_command(CLI::App& app, GlobalOptions& g) {
       ->capture_default_str();
   cmd->add_option("--axes", args->axes, "The map axes to draw, counted from 1")
       ->capture_default_str();
-  cmd->add_option("--size", args->size, "Figure size WIDTHxHEIGHT in pixels")
-      ->capture_default_str();
+  cmd->add_option("--size", args->size,
+                  "Figure size WIDTHxHEIGHT in pixels [default: 900x700; a map 900 wide and as "
+                  "high as its shape needs]");
   cmd->callback([&g, args, cmd] {
     apply_globals(g);
     run_plot(g, *args, *cmd);

@@ -93,7 +93,9 @@ RunPlots add_run_plots(io::OutputSet& outputs, const std::filesystem::path& fold
 void write_run_plots(io::OutputSet& outputs, const RunPlots& plots, io::MapContents contents,
                      const std::string& map_name, const nlohmann::json& report) {
   const plot::PlotMap m = plot::plot_map_from(std::move(contents), map_name);
-  const plot::FigureSize map_size{900, 760}, curve_size{860, 520};
+  const plot::FigureSize curve_size{860, 520};
+  const plot::FigureSize map_size =
+      m.coords.cols >= 2 ? plot::fitted_map_size(plot::map_figure(m, {})) : curve_size;
   plot::ReportPage page;
   page.title = "unfurl map " + map_name;
   page.created = m.attributes.value("creation_time", "");

@@ -21,6 +21,8 @@ using detail::Range;
 const Rgb grey{0.75, 0.75, 0.75};
 const Rgb vermillion{0.835, 0.369, 0.0};  // Okabe-Ito, for what is negative or wrong
 const Rgb blue{0.0, 0.447, 0.698};        // Okabe-Ito
+// Room right of a map for its colour bar or legend.
+constexpr double map_margin_right = 130;
 
 // The whole numbers among `values` when there are at most category_count distinct ones and
 // no other finite value; else empty.
@@ -105,6 +107,22 @@ void FigureSize::validate() const {
                       fmt::format("must be 240 to 8000 pixels, got {}", height));
 }
 
+std::vector<double> map_axis(const PointSet& p, std::size_t axis) {
+  std::vector<double> v(p.rows);
+  for (std::size_t i = 0; i < p.rows; ++i) v[i] = p.row(i)[axis];
+  return v;
+}
+
+FigureSize fitted_map_size(const MapFigure& f, int width) {
+  const PointSet& p = *f.coords;
+  if (f.axis_x >= p.cols || f.axis_y >= p.cols) return {width, width * 7 / 9};
+  const Range x = detail::padded(detail::range_of(map_axis(p, f.axis_x)), 0.03);
+  const Range y = detail::padded(detail::range_of(map_axis(p, f.axis_y)), 0.03);
+  const double box_w = width - Chart::frame_width - map_margin_right;
+  const double h = box_w * (y.hi - y.lo) / (x.hi - x.lo) + Chart::frame_height;
+  return {width, static_cast<int>(std::clamp(h, 300.0, 1.2 * width))};
+}
+
 std::string draw_map(const MapFigure& f, ImageFormat format, FigureSize size) {
   const PointSet& p = *f.coords;
   if (f.axis_x >= p.cols || f.axis_y >= p.cols)
@@ -116,13 +134,8 @@ std::string draw_map(const MapFigure& f, ImageFormat format, FigureSize size) {
   const std::vector<double> categories =
       f.colours.allow_categories && !values.empty() ? categories_of(values) : std::vector<double>{};
   Chart chart(format, size);
-  chart.reserve_right(categories.empty() ? 130 : 40 + chart.text_width({"label 000000"}));
-
-  std::vector<double> xs(p.rows), ys(p.rows);
-  for (std::size_t i = 0; i < p.rows; ++i) {
-    xs[i] = p.row(i)[f.axis_x];
-    ys[i] = p.row(i)[f.axis_y];
-  }
+  chart.reserve_right(map_margin_right);
+  const std::vector<double> xs = map_axis(p, f.axis_x), ys = map_axis(p, f.axis_y);
   chart.set_ranges(detail::padded(detail::range_of(xs), 0.03),
                    detail::padded(detail::range_of(ys), 0.03), true);
 

@@ -44,6 +44,9 @@ struct MapFigure {
 // cells are coloured by point count (log scale) or by the mean value (the most frequent
 // category) of their points. Both axes share one scale, as map distances mean something.
 std::string draw_map(const MapFigure& figure, ImageFormat format, FigureSize size = {});
+// A figure `width` wide whose height fits the map's shape (one scale on both axes), so an
+// elongated map does not float in white space; between 300 and 1.2 x width pixels high.
+FigureSize fitted_map_size(const MapFigure& figure, int width = 900);
 
 struct Series {
   std::string name;               // legend text

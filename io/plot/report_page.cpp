@@ -2,6 +2,8 @@
 
 #include <fmt/core.h>
 
+#include <algorithm>
+
 namespace unfurl::io::plot {
 
 std::string html_escape(const std::string& text) {
@@ -54,7 +56,8 @@ std::string report_html(const ReportPage& page) {
 body { font-family: "DejaVu Sans", sans-serif; margin: 2em auto; max-width: 960px; color: #222; }
 h1 { font-size: 1.5em; } h2 { font-size: 1.15em; margin-top: 1.6em; }
 table { border-collapse: collapse; margin: 0.5em 0; }
-td { padding: 0.2em 1em 0.2em 0; vertical-align: top; border-bottom: 1px solid #e4e4e4; }
+td { padding: 0.2em 1em 0.2em 0; vertical-align: top; border-bottom: 1px solid #e4e4e4;
+     overflow-wrap: anywhere; }
 td:first-child { color: #555; white-space: nowrap; }
 .warnings li { color: #8a3a00; }
 figure { margin: 1.2em 0; } img { max-width: 100%; height: auto; border: 1px solid #ddd; }
@@ -73,18 +76,21 @@ figcaption { color: #555; font-size: 0.9em; }
     for (const auto& w : page.warnings) h += "<li>" + html_escape(w) + "</li>\n";
     h += "</ul>\n";
   }
-  for (const ReportTable& t : page.tables) {
+  auto table = [&h](const ReportTable& t) {
     h += "<h2>" + html_escape(t.heading) + "</h2>\n<table>\n";
     for (const auto& [name, value] : t.rows)
       h += "<tr><td>" + html_escape(name) + "</td><td>" + html_escape(value) + "</td></tr>\n";
     h += "</table>\n";
-  }
+  };
+  const std::size_t first = std::min(page.tables_before_figures, page.tables.size());
+  for (std::size_t i = 0; i < first; ++i) table(page.tables[i]);
   if (!page.figures.empty()) h += "<h2>Figures</h2>\n";
   for (const ReportFigure& f : page.figures)
     h += fmt::format(
         "<figure><img src=\"data:image/png;base64,{}\" width=\"{}\" height=\"{}\" alt=\"{}\">"
         "<figcaption>{}</figcaption></figure>\n",
         base64(f.png), f.width, f.height, html_escape(f.caption), html_escape(f.caption));
+  for (std::size_t i = first; i < page.tables.size(); ++i) table(page.tables[i]);
   h += "</body>\n</html>\n";
   return h;
 }

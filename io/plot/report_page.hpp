@@ -2,6 +2,7 @@
 // figures are embedded as data: URIs) with tables of figures, the plots and the warnings.
 #pragma once
 
+#include <cstddef>
 #include <string>
 #include <utility>
 #include <vector>
@@ -23,6 +24,7 @@ struct ReportPage {
   std::vector<std::string> warnings;
   std::vector<ReportTable> tables;
   std::vector<ReportFigure> figures;
+  std::size_t tables_before_figures = 1;  // the key figures first, the long tables after
 };
 
 std::string report_html(const ReportPage& page);

@@ -12,6 +12,8 @@ namespace unfurl::io::plot::detail {
 namespace {
 
 constexpr double margin_left = 86, margin_bottom = 58, margin_top = 64, margin_right = 24;
+static_assert(Chart::frame_width == margin_left + margin_right &&
+              Chart::frame_height == margin_top + margin_bottom);
 
 cairo_status_t append_bytes(void* closure, const unsigned char* data, unsigned int length) {
   static_cast<std::string*>(closure)->append(reinterpret_cast<const char*>(data), length);

@@ -81,6 +81,8 @@ class Chart {
   std::string finish();
 
   static constexpr double font_size = 13;
+  // The fixed margins around the plot box (without the reserved right part).
+  static constexpr double frame_width = 86 + 24, frame_height = 64 + 58;
 
  private:
   ImageFormat format_;
