@@ -323,6 +323,7 @@ std::string draw_spectrum(const SpectrumFigure& f, ImageFormat format, FigureSiz
   const auto& box = chart.plot();
   cairo_t* cr = chart.cr();
   const Range yr = detail::range_of(ys);
+  std::vector<double> labelled{chart.py(0)};  // label rows taken, so labels never overlap
   chart.set_colour({0.2, 0.2, 0.2});
   chart.text(box.x - 8, chart.py(0), "0", 1, 0.5, 11);
   for (int sign : {1, -1})
@@ -330,6 +331,10 @@ std::string draw_spectrum(const SpectrumFigure& f, ImageFormat format, FigureSiz
       const double v = sign * std::pow(10.0, p);
       const double y = chart.py(t(v));
       if (t(v) < yr.lo - 1e-9 || t(v) > yr.hi + 1e-9) continue;
+      if (std::any_of(labelled.begin(), labelled.end(),
+                      [y](double taken) { return std::abs(taken - y) < 14; }))
+        continue;
+      labelled.push_back(y);
       chart.set_colour({0.2, 0.2, 0.2});
       cairo_move_to(cr, box.x - 5, y);
       cairo_line_to(cr, box.x, y);
