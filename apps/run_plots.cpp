@@ -2,6 +2,8 @@
 
 #include <fmt/core.h>
 
+#include <algorithm>
+
 #include "io/plot/map_figures.hpp"
 #include "io/plot/report_page.hpp"
 
@@ -106,29 +108,27 @@ void write_run_plots(io::OutputSet& outputs, const RunPlots& plots, io::MapConte
     outputs.write_text(output, png);
     page.figures.push_back({caption, std::move(png), size.width, size.height});
   };
-  const bool two_axes = m.coords.cols >= 2;
-  if (two_axes) {
-    emit(plots.map, "The map's first two axes, coloured by point density (map.png)",
-         plot::draw_map(plot::map_figure(m, {}), plot::ImageFormat::png, map_size), map_size);
-  } else {
+  // A one-axis map has no picture of its own here: its figure says so.
+  auto map_png = [&](plot::PointColours colours) {
+    if (m.coords.cols >= 2)
+      return plot::draw_map(plot::map_figure(m, std::move(colours)), plot::ImageFormat::png,
+                            map_size);
     plot::CurveFigure one_axis;
     one_axis.title = "Map " + map_name + " has one axis";
-    one_axis.empty_note = "a one-dimensional map: see its coordinates (--csv)";
-    emit(plots.map, "A one-axis map (map.png)",
-         plot::draw_curves(one_axis, plot::ImageFormat::png, map_size), map_size);
-  }
+    one_axis.empty_note = "a one-axis map: see its coordinates (--csv)";
+    return plot::draw_curves(one_axis, plot::ImageFormat::png, map_size);
+  };
+  emit(plots.map, "The map's first two axes, coloured by point density (map.png)", map_png({}),
+       map_size);
   if (plots.map_by_terms) {
-    if (two_axes && !m.scores.empty())
-      emit(*plots.map_by_terms,
-           "Each scored point coloured by its term of 1 - T: bright points have map "
-           "neighbours that are far in the input (map_trustworthiness.png)",
-           plot::draw_map(
-               plot::map_figure(m, plot::term_colours(m, plot::TermColour::trustworthiness)),
-               plot::ImageFormat::png, map_size),
-           map_size);
-    else
-      outputs.write_text(*plots.map_by_terms,
-                         plot::draw_map(plot::map_figure(m, {}), plot::ImageFormat::png, map_size));
+    const bool with_terms = std::any_of(m.scores.begin(), m.scores.end(),
+                                        [](const auto& s) { return !s.t_terms.empty(); });
+    emit(*plots.map_by_terms,
+         "Each scored point coloured by its term of 1 - T: bright points have map neighbours "
+         "that are far apart in the input (map_trustworthiness.png)",
+         map_png(with_terms ? plot::term_colours(m, plot::TermColour::trustworthiness)
+                            : plot::PointColours{}),
+         map_size);
   }
   emit(plots.residual, "Residual variance against dimensions (residual_variance.png)",
        plot::draw_curves(plot::residual_figure(m), plot::ImageFormat::png, curve_size), curve_size);

@@ -140,7 +140,7 @@ std::string draw_map(const MapFigure& f, ImageFormat format, FigureSize size) {
                    detail::padded(detail::range_of(ys), 0.03), true);
 
   // Bigger cells for fewer points, so a small map's points stay visible.
-  const double cell = p.rows > 100000 ? 1 : p.rows > 10000 ? 2 : 3;
+  const double cell = p.rows > 100000 ? 1 : p.rows > 10000 ? 2 : p.rows > 2000 ? 3 : 4;
   Grid g;
   g.w = std::max<std::size_t>(1, static_cast<std::size_t>(chart.plot().w / cell));
   g.h = std::max<std::size_t>(1, static_cast<std::size_t>(chart.plot().h / cell));

@@ -39,7 +39,7 @@ struct MapFigure {
   std::string title;     // "Map of swiss.h5 (10,000 points)"
   std::string subtitle;  // a second line: what was done
 };
-// Points are aggregated into cells of the plot area first (1 to 3 pixels wide, smaller for
+// Points are aggregated into cells of the plot area first (1 to 4 pixels wide, smaller for
 // more points), so a million points cost a million additions and the image stays one raster:
 // cells are coloured by point count (log scale) or by the mean value (the most frequent
 // category) of their points. Both axes share one scale, as map distances mean something.

@@ -118,7 +118,12 @@ CurveFigure residual_figure(const PlotMap& map) {
   CurveFigure f;
   f.title = "Residual variance against map dimensions";
   f.subtitle =
-      fmt::format("{}: 1 - R^2 of geodesic and map distances using the first d axes", map.name);
+      // The map says which distances were compared (geodesic, or input-space ones for a
+      // linear map), so the subtitle names neither.
+      fmt::format(
+          "{}: 1 - R^2 of the distances the map should keep and the map's own, using "
+          "the first d axes",
+          map.name);
   f.x_label = "dimensions d";
   f.y_label = "residual variance";
   f.integer_x = true;
