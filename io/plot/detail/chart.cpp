@@ -75,7 +75,11 @@ std::vector<double> nice_ticks(Range r, int target, double* step_out) {
 
 std::string tick_label(double value, double step) {
   const double magnitude = std::max(std::abs(value), step);
-  if (magnitude >= 1e6 || magnitude < 1e-3) return fmt::format("{:.3g}", value);
+  if (magnitude >= 1e6 || magnitude < 1e-3) {
+    // Enough significant digits that neighbouring ticks read differently.
+    const int digits = std::max(3, static_cast<int>(std::ceil(std::log10(magnitude / step))) + 1);
+    return fmt::format("{:.{}g}", value, std::min(digits, 17));
+  }
   const int decimals = std::max(0, -static_cast<int>(std::floor(std::log10(step) + 1e-9)));
   return fmt::format("{:.{}f}", value, decimals);
 }
@@ -174,10 +178,15 @@ double Chart::text_width(const std::vector<std::string>& texts) {
 }
 
 void Chart::title(const std::string& title, const std::string& subtitle) {
+  // Long lines on a narrow figure shrink rather than run off its edges.
+  auto fitting = [&](const std::string& s, double size) {
+    const double w = text_width({s}) * size / font_size;
+    return w > size_.width - 16 ? size * (size_.width - 16) / w : size;
+  };
   set_colour({0, 0, 0});
-  text(size_.width / 2.0, 10, title, 0.5, 0, 16, true);
+  text(size_.width / 2.0, 10, title, 0.5, 0, fitting(title, 16), true);
   set_colour({0.3, 0.3, 0.3});
-  if (!subtitle.empty()) text(size_.width / 2.0, 34, subtitle, 0.5, 0, 12);
+  if (!subtitle.empty()) text(size_.width / 2.0, 34, subtitle, 0.5, 0, fitting(subtitle, 12));
 }
 
 void Chart::axes(const std::string& x_label, const std::string& y_label, bool integer_x,
