@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <optional>
 
 #include "engine/error.hpp"
 #include "io/hdf5_file.hpp"
@@ -14,11 +15,11 @@ namespace unfurl::io::plot {
 PointColours read_colour_values(const ColourSource& source, const std::vector<std::int64_t>& rows) {
   std::vector<double> by_row;
   std::string what;
-  const bool one_d_dataset = !source.dataset.empty() &&
-                             detect_point_format(source.file) == "hdf5" &&
-                             H5Reader(source.file).info(source.dataset).dims.size() == 1;
-  if (one_d_dataset) {
-    by_row = H5Reader(source.file).read<double>(source.dataset);
+  std::optional<H5Reader> h5;
+  if (!source.dataset.empty() && detect_point_format(source.file) == "hdf5")
+    h5.emplace(source.file);
+  if (h5 && h5->info(source.dataset).dims.size() == 1) {
+    by_row = h5->read<double>(source.dataset);
     what = source.file.filename().string() + ":" + source.dataset;
   } else {
     PointReadOptions o;
