@@ -7,6 +7,7 @@
 #include <filesystem>
 #include <memory>
 
+#include "apps/created_folder.hpp"
 #include "apps/embed_job.hpp"
 #include "apps/option_scope.hpp"
 #include "apps/run_info.hpp"
@@ -76,19 +77,6 @@ void check_demo(const GlobalOptions& g, const CLI::App& cmd, const DemoArgs& a) 
         a.embed.max_memory.empty() ? "" : " or raise --max-memory"));
 }
 
-// The folders create_directories(path) would make, deepest first.
-std::vector<std::filesystem::path> missing_folders(std::filesystem::path path) {
-  std::vector<std::filesystem::path> out;
-  path = path.lexically_normal();
-  if (!path.has_filename()) path = path.parent_path();  // "out/" names the folder "out"
-  std::error_code ec;
-  while (!path.empty() && !std::filesystem::exists(path, ec)) {
-    out.push_back(path);
-    path = path.parent_path();
-  }
-  return out;
-}
-
 void write_scenario(io::OutputSet& outputs, std::size_t output, const DemoArgs& a,
                     const SyntheticSet& s, std::uint64_t seed) {
   outputs.write(output, [&](const std::filesystem::path& temp) {
@@ -108,27 +96,6 @@ void write_scenario(io::OutputSet& outputs, std::size_t output, const DemoArgs& 
     w.close();
   });
 }
-
-// Removes, on failure, the --out folder and every parent this run created, when nothing
-// else was put in them.
-class CreatedFolder {
- public:
-  explicit CreatedFolder(const std::filesystem::path& folder) : made_(missing_folders(folder)) {
-    std::error_code ec;
-    std::filesystem::create_directories(folder, ec);
-    if (ec || !std::filesystem::is_directory(folder))
-      throw OutputError("--out " + folder.string() + ": cannot create the folder" +
-                        (ec ? ": " + ec.message() : ""));
-  }
-  ~CreatedFolder() {
-    std::error_code ec;
-    for (const auto& f : made_) std::filesystem::remove(f, ec);  // only when empty
-  }
-  void keep() { made_.clear(); }
-
- private:
-  std::vector<std::filesystem::path> made_;  // deepest first
-};
 
 // |Pearson correlation| of map axis `axis` with truth column `col` over the map rows.
 double abs_correlation(const PointSet& map, std::size_t axis, const PointSet& truth,
@@ -153,7 +120,7 @@ void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
   apply_globals(g);
   check_demo(g, cmd, a);
   namespace fs = std::filesystem;
-  CreatedFolder folder(a.out);
+  CreatedFolder folder(a.out, "--out");
   // The scenario, its map and its report are one output set, committed together.
   io::OutputSet outputs(stop_token());
   const fs::path data = fs::path(a.out) / (a.scenario + ".h5");

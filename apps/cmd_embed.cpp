@@ -4,7 +4,9 @@
 
 #include <memory>
 #include <numeric>
+#include <optional>
 
+#include "apps/created_folder.hpp"
 #include "apps/embed_job.hpp"
 #include "apps/option_scope.hpp"
 #include "apps/run_info.hpp"
@@ -93,8 +95,12 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
   cmd->add_option("--missing", args->missing,
                   "--input distances: the value that marks a missing entry (NaN always does)");
   cmd->add_option("-o,--out", args->output, "Map file to write (HDF5)")->required();
+  auto plots_folder = std::make_shared<std::string>();
+  cmd->add_option("--plots-folder", *plots_folder,
+                  "Also write the run's figures (PNG) and report.html into this folder "
+                  "(created when missing)");
   add_embed_job_options(cmd, *args);
-  cmd->callback([&g, args, cmd] {
+  cmd->callback([&g, args, cmd, plots_folder] {
     apply_globals(g);
     RunShape shape = embed_run_shape(*args);
     if (args->input_kind != "points" && !args->input.dataset.empty())
@@ -102,10 +108,17 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
     refuse_unused_options(*cmd, shape);
     io::OutputSet outputs(stop_token());
     outputs.add_input(args->input.file, "input");
-    const JobOutputs where = add_job_outputs(outputs, *args);
+    JobOutputs where = add_job_outputs(outputs, *args);
+    std::optional<CreatedFolder> folder;
+    if (!plots_folder->empty()) {
+      folder.emplace(*plots_folder, "--plots-folder");
+      where.plots =
+          add_run_plots(outputs, *plots_folder, !args->no_score && args->input_kind == "points");
+    }
     JobInput in =
         args->input_kind == "points" ? read_points_input(g, *args) : read_graph_input(g, *args);
     run_embed_job(g, *args, std::move(in), outputs, where);
+    if (folder) folder->keep();
   });
 }
 

@@ -36,5 +36,6 @@ void add_inspect_command(CLI::App& app, GlobalOptions& g);
 void add_embed_command(CLI::App& app, GlobalOptions& g);
 void add_graph_command(CLI::App& app, GlobalOptions& g);
 void add_score_command(CLI::App& app, GlobalOptions& g);
+void add_plot_command(CLI::App& app, GlobalOptions& g);
 
 }  // namespace unfurl::app

@@ -262,6 +262,9 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (where.csv) io::write_coordinates_csv(outputs, *where.csv, map.coords, map.rows);
   report["peak_memory_bytes"] = peak_memory_bytes();
   if (where.json) write_json_file(outputs, *where.json, report);
+  if (where.plots)
+    write_run_plots(outputs, *where.plots, std::move(map),
+                    std::filesystem::path(a.output).filename().string(), report);
   outputs.commit();
   say(g, fmt::format("wrote {} (peak memory {})", a.output, human_bytes(peak_memory_bytes())));
   if (result_out) *result_out = std::move(result);

@@ -10,6 +10,7 @@
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
+#include "apps/run_plots.hpp"
 #include "engine/embedding.hpp"
 #include "engine/preprocess.hpp"
 #include "io/atomic_output.hpp"
@@ -56,6 +57,7 @@ void check_job_options(const GlobalOptions& g, const EmbedArgs& args, std::size_
 struct JobOutputs {
   std::size_t map = 0;
   std::optional<std::size_t> csv, json;
+  std::optional<RunPlots> plots;  // embed --plots-folder
 };
 
 // Declares the map (named by `map_label` in messages), --csv and --json in `outputs`: an

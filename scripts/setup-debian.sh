@@ -9,7 +9,7 @@ packages=(
   libopenblas-dev
   libhdf5-dev hdf5-tools
   libcli11-dev libspdlog-dev libfmt-dev nlohmann-json3-dev
-  libcairo2-dev
+  libcairo2-dev fonts-dejavu-core chromium
   catch2 libbenchmark-dev
   python3 python3-numpy python3-scipy python3-sklearn python3-h5py
   dataset-fashion-mnist
