@@ -22,6 +22,8 @@ void PlaceOptions::validate(std::size_t reference) const {
     throw OptionError("PlaceOptions.far_ratio", "must be a positive number");
   if (typical_sample < 1)
     throw OptionError("PlaceOptions.typical_sample", "must be at least 1, got 0");
+  if (!(typical_distance >= 0.0) || !std::isfinite(typical_distance))
+    throw OptionError("PlaceOptions.typical_distance", "must be 0 (measure) or a positive number");
 }
 
 Triangulation triangulation_of_map(const DistanceRows& rows,
@@ -76,10 +78,14 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
+}  // namespace
+
 // Median over an evenly spaced sample of reference points of the distances to their k
 // nearest other reference points (self identified by index, so duplicates still count).
-double typical_distance(const PointSet& reference, const PlaceOptions& o, Search search,
-                        StopToken stop) {
+double typical_neighbour_distance(const PointSet& reference, const PlaceOptions& o,
+                                  StopToken stop) {
+  o.validate(reference.rows);
+  const Search search = choose_search(o.search, reference.rows, reference.cols);
   const std::size_t n = reference.rows;
   const std::size_t count = std::min(n, o.typical_sample);
   PointSet sample(count, reference.cols);
@@ -103,8 +109,6 @@ double typical_distance(const PointSet& reference, const PlaceOptions& o, Search
   std::nth_element(pooled.begin(), middle, pooled.end());
   return *middle;
 }
-
-}  // namespace
 
 PlaceResult place_points(const PointSet& reference, const LandmarkColumns& columns,
                          const Triangulation& t, const PointSet& points, const PlaceOptions& o,
@@ -131,7 +135,8 @@ PlaceResult place_points(const PointSet& reference, const LandmarkColumns& colum
   s.k = k;
   s.far_ratio = o.far_ratio;
   s.search_used = choose_search(o.search, reference.rows, reference.cols);
-  s.typical_distance = typical_distance(reference, o, s.search_used, stop);
+  s.typical_distance = o.typical_distance > 0.0 ? o.typical_distance
+                                                : typical_neighbour_distance(reference, o, stop);
   if (!(s.typical_distance > 0.0))
     s.warnings.push_back(
         "the map's typical neighbour distance is 0 (duplicate points): no point is flagged "

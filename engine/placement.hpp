@@ -48,6 +48,9 @@ struct PlaceOptions {
   double far_ratio = 3.0;             // "far from the map": nearest distance / typical above this
   std::size_t worst = 10;             // farthest points listed in the summary
   std::size_t typical_sample = 2000;  // reference points sampled for the typical distance
+  // > 0: the typical neighbour distance to use; 0: measured from the reference points. A
+  // caller placing many batches into one map measures it once (typical_neighbour_distance).
+  double typical_distance = 0.0;
 
   // Throws OptionError naming the field ("PlaceOptions.k"); `reference` is the number of
   // reference points (k must not exceed it; the typical distance uses min(k, reference - 1)).
@@ -99,6 +102,11 @@ struct PlaceResult {
   std::vector<std::uint8_t> far;     // per point: 1 when far from the map
   PlaceSummary summary;
 };
+
+// The map's typical neighbour distance (see the file comment); 0 when every sampled
+// neighbour is a duplicate at distance 0. Throws as place_points.
+double typical_neighbour_distance(const PointSet& reference, const PlaceOptions& options,
+                                  StopToken stop = {});
 
 // reference: N x d in map-row order, already preprocessed as the map's points were; columns:
 // the N x L landmark distances of those rows; points: the new points, preprocessed the same.

@@ -51,6 +51,8 @@ refused("map without --keep-geodesics", ["place", "--map", path("plain.h5"), new
         65, ["plain.h5", "--keep-geodesics"], out)
 refused("new points of another width", ["place", "--map", path("map.h5"), wide, "-o", placed],
         65, ["wide.h5", "4 columns", "3"], out)
+refused("--block-rows 0", ["place", "--map", path("map.h5"), new, "-o", placed, "--block-rows",
+                           "0"], 64, ["--block-rows"], out)
 refused("--k 0", ["place", "--map", path("map.h5"), new, "-o", placed, "--k", "0"], 64,
         ["--k"], out)
 refused("--k above the map's points",
@@ -70,6 +72,19 @@ with h5py.File(placed, "r") as f:
           str(f["/coords"].shape))
     check("placed map: rows and diagnostics", f["/rows"].shape == (100,) and
           f["/placement/nearest_ratio"].shape == (100,), str(list(f["/placement"])))
+# Blocks and --rows: the same coordinates whatever the block size, rows kept as input rows.
+small = os.path.join(out, "small_blocks.h5")
+succeeds("place in blocks of 7", ["place", "--map", path("map.h5"), new, "-o", small,
+                                  "--block-rows", "7", "--quiet"])
+part = os.path.join(out, "part.h5")
+succeeds("place --rows 10:95", ["place", "--map", path("map.h5"), new, "-o", part, "--rows",
+                                "10:95", "--block-rows", "20", "--quiet"])
+with h5py.File(placed, "r") as f, h5py.File(small, "r") as g, h5py.File(part, "r") as h:
+    whole = f["/coords"][...]
+    check("blocks of 7 give the same bytes", np.array_equal(whole, g["/coords"][...]),
+          "coordinates differ")
+    check("--rows 10:95 gives those rows", np.array_equal(h["/rows"][...], np.arange(10, 95))
+          and np.array_equal(h["/coords"][...], whole[10:95]), str(h["/rows"][:5]))
 r = succeeds("score reads the placed map", ["score", placed, "--points", new, "--quiet"])
 # --dataset: inspect on main treats a map as a point file with several 2-D datasets.
 r = succeeds("inspect reads the placed map", ["inspect", placed, "--dataset", "/coords"])
