@@ -204,7 +204,10 @@ Placed place_in_blocks(const PlaceCommandArgs& a, const PointSet& reference,
   });
   worst.resize(std::min(worst.size(), o.worst));
   s.worst = worst;
-  s.warnings.clear();
+  // The blocks' own far counts give way to the whole run's.
+  std::erase_if(s.warnings, [](const std::string& w) {
+    return w.find(" points are far from the map") != std::string::npos;
+  });
   if (s.far > 0)
     s.warnings.push_back(
         fmt::format("{} of {} points are far from the map; their coordinates "

@@ -100,6 +100,22 @@ with h5py.File(path("scaled.h5"), "r") as f, h5py.File(again, "r") as g:
 check("scaled map: its points placed again return their coordinates", err < 1e-5,
       f"largest difference {err:.2e}")
 
+# A map of part of a file (--rows): its reference points are those rows of the file.
+whole = write("whole.h5", points)
+succeeds("embed --rows 50:550", ["embed", whole, "--rows", "50:550", "-o", path("part_map.h5"),
+                                 "--keep-geodesics", *base])
+again = os.path.join(out, "again_part.h5")
+succeeds("place into a map of --rows 50:550",
+         ["place", "--map", path("part_map.h5"), whole, "--rows", "100:200", "-o", again,
+          "--quiet"])
+with h5py.File(path("part_map.h5"), "r") as f, h5py.File(again, "r") as g:
+    m, rows = f["/coords"][...], f["/rows"][...]
+    at = {r: i for i, r in enumerate(rows)}
+    mine = np.array([at[r] for r in g["/rows"][...]])
+    err = np.abs(g["/coords"][...] - m[mine]).max() / np.abs(m).max()
+check("--rows map: its points placed again return their coordinates", err < 1e-5,
+      f"largest difference {err:.2e}")
+
 # The reference points changed since the map was made, or went missing.
 os.rename(ref, path("ref_moved.h5"))
 refused("reference points missing", ["place", "--map", path("map.h5"), new, "-o", placed], 66,
