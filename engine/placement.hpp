@@ -24,9 +24,9 @@
 // sheet).
 //
 // Memory: new points are processed in blocks of block_rows; besides the map (reference
-// points, N x L node-major geodesic columns), a block holds its k neighbours (12 bytes each)
-// and each thread one row of L doubles. Results do not depend on the thread count: each
-// point's sums run over the landmarks in order.
+// points, N x L node-major geodesic columns), a block holds its k neighbours (8 bytes each, 16
+// during the search) and each thread one row of L doubles. Results do not depend on the thread
+// count: each point's sums run over the landmarks in order.
 #pragma once
 
 #include <cstddef>
