@@ -2,7 +2,6 @@
 // another method, against the points it was made from.
 #include <fmt/core.h>
 
-#include <ctime>
 #include <memory>
 #include <optional>
 
@@ -37,38 +36,6 @@ using Notes = std::vector<std::string>;
 void print_notes(const GlobalOptions& g, const Notes& notes) {
   if (!g.quiet)
     for (const auto& line : notes) fmt::print(stderr, "unfurl: note: {}\n", line);
-}
-
-std::string text_of(const std::string& key, const nlohmann::json& v) {
-  if (key == "modified_unix_ns" && v.is_number_integer()) {
-    const std::int64_t ns = v.get<std::int64_t>();
-    const std::time_t seconds = static_cast<std::time_t>(ns / 1000000000);
-    std::tm tm{};
-    gmtime_r(&seconds, &tm);
-    return fmt::format("{:04}-{:02}-{:02}T{:02}:{:02}:{:02}.{:09}Z", tm.tm_year + 1900,
-                       tm.tm_mon + 1, tm.tm_mday, tm.tm_hour, tm.tm_min, tm.tm_sec,
-                       ns % 1000000000);
-  }
-  if (v.is_string()) return v.get<std::string>().empty() ? "(none)" : v.get<std::string>();
-  return v.dump();
-}
-
-// What differs between the point file a map records as its input and the one given now
-// ("rows 200 (the map records 300), ..."); empty when nothing both record differs. The path
-// is not compared: the same file may be reached by another name or copied with its time.
-std::string input_differences(const nlohmann::json& recorded, const nlohmann::json& now) {
-  std::string out;
-  for (const auto& [key, what] :
-       {std::pair{"file_rows", "rows"}, std::pair{"columns", "columns"},
-        std::pair{"bytes", "size in bytes"}, std::pair{"modified", "modified"},
-        std::pair{"modified_unix_ns", "modified"}, std::pair{"dataset", "dataset"}}) {
-    if (!recorded.contains(key) || !now.contains(key) || recorded[key] == now[key]) continue;
-    if (std::string(key) == "modified_unix_ns" && out.find("modified") != std::string::npos)
-      continue;  // the time is named once
-    out += fmt::format("{}{} {} (the map records {})", out.empty() ? "" : ", ", what,
-                       text_of(key, now[key]), text_of(key, recorded[key]));
-  }
-  return out;
 }
 
 // Refuses (DataError) to score a map against points other than those it was made from,

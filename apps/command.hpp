@@ -35,6 +35,7 @@ void add_demo_command(CLI::App& app, GlobalOptions& g);
 void add_inspect_command(CLI::App& app, GlobalOptions& g);
 void add_embed_command(CLI::App& app, GlobalOptions& g);
 void add_graph_command(CLI::App& app, GlobalOptions& g);
+void add_place_command(CLI::App& app, GlobalOptions& g);
 void add_score_command(CLI::App& app, GlobalOptions& g);
 void add_plot_command(CLI::App& app, GlobalOptions& g);
 

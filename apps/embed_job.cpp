@@ -8,8 +8,10 @@
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
 #include "engine/linear.hpp"
+#include "engine/placement.hpp"
 #include "io/csv_writer.hpp"
 #include "io/map_file.hpp"
+#include "io/placement_record.hpp"
 
 namespace unfurl::app {
 namespace {
@@ -249,7 +251,13 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   map.landmark_coords = result.landmark_coords;
   map.spectrum = axis_spectrum(result).top;
   map.spectrum_attributes = spectrum_json(result);
-  if (a.map.keep_geodesics && !a.linear) map.landmark_geodesic = std::move(result.geodesic);
+  if (a.map.keep_geodesics && !a.linear) {
+    // What `unfurl place` needs beside the rows (io/placement_record.hpp).
+    io::add_placement_arrays(triangulation_of_map(result.geodesic, result.landmark_coords,
+                                                  result.spectrum, result.coords.cols),
+                             map.extras);
+    map.landmark_geodesic = std::move(result.geodesic);
+  }
   report["parameters"] = without_unused(embed_run_shape(a), parameters_json(g, a, options, result));
   report["seed"] = g.seed;
   map.attributes = {{"command", "embed"},

@@ -103,6 +103,7 @@ int main(int argc, char** argv) {
   app::add_embed_command(cli, g);
   app::add_graph_command(cli, g);
   app::add_inspect_command(cli, g);
+  app::add_place_command(cli, g);
   app::add_plot_command(cli, g);
   app::add_score_command(cli, g);
 

@@ -4,6 +4,7 @@
 #include <unistd.h>
 
 #include <chrono>
+#include <ctime>
 
 #include <fmt/core.h>
 
@@ -49,4 +50,38 @@ std::uint64_t default_memory_limit() {
   if (pages <= 0 || page <= 0) return std::uint64_t{16} << 30;
   return static_cast<std::uint64_t>(pages) * static_cast<std::uint64_t>(page) / 5 * 4;
 }
+
+namespace {
+
+std::string text_of(const std::string& key, const nlohmann::json& v) {
+  if (key == "modified_unix_ns" && v.is_number_integer()) {
+    const std::int64_t ns = v.get<std::int64_t>();
+    const std::time_t seconds = static_cast<std::time_t>(ns / 1000000000);
+    std::tm tm{};
+    gmtime_r(&seconds, &tm);
+    return fmt::format("{:04}-{:02}-{:02}T{:02}:{:02}:{:02}.{:09}Z", tm.tm_year + 1900,
+                       tm.tm_mon + 1, tm.tm_mday, tm.tm_hour, tm.tm_min, tm.tm_sec,
+                       ns % 1000000000);
+  }
+  if (v.is_string()) return v.get<std::string>().empty() ? "(none)" : v.get<std::string>();
+  return v.dump();
+}
+
+}  // namespace
+
+std::string input_differences(const nlohmann::json& recorded, const nlohmann::json& now) {
+  std::string out;
+  for (const auto& [key, what] :
+       {std::pair{"file_rows", "rows"}, std::pair{"columns", "columns"},
+        std::pair{"bytes", "size in bytes"}, std::pair{"modified", "modified"},
+        std::pair{"modified_unix_ns", "modified"}, std::pair{"dataset", "dataset"}}) {
+    if (!recorded.contains(key) || !now.contains(key) || recorded[key] == now[key]) continue;
+    if (std::string(key) == "modified_unix_ns" && out.find("modified") != std::string::npos)
+      continue;  // the time is named once
+    out += fmt::format("{}{} {} (the map records {})", out.empty() ? "" : ", ", what,
+                       text_of(key, now[key]), text_of(key, recorded[key]));
+  }
+  return out;
+}
+
 }  // namespace unfurl::app

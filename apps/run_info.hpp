@@ -23,4 +23,9 @@ std::uint64_t default_memory_limit();
 // "columns"), which `score` compares with the points it gets.
 nlohmann::json point_input_identity(const std::filesystem::path& file,
                                     const io::PointReadResult& read);
+
+// What differs between the point file a map records as its input and the one given now
+// ("rows 200 (the map records 300), ..."); empty when nothing both record differs. The path
+// is not compared: the same file may be reached by another name or copied with its time.
+std::string input_differences(const nlohmann::json& recorded, const nlohmann::json& now);
 }  // namespace unfurl::app

@@ -15,15 +15,7 @@ unfurl="$build/apps/unfurl"
 here="$(cd "$(dirname "$0")" && pwd)"
 mkdir -p "$work"
 
-# run NAME CMD...: prints "| NAME | wall s | peak MiB |" from GNU time's report.
-run() {
-  local name=$1; shift
-  /usr/bin/time -v "$@" > "$work/$name.out" 2> "$work/$name.time"
-  local wall mem
-  wall=$(awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,p,":"); s=0; for(i=1;i<=n;i++) s=s*60+p[i]; print s}' "$work/$name.time")
-  mem=$(awk -F': ' '/Maximum resident set size/ {printf "%.0f", $2/1024}' "$work/$name.time")
-  echo "| $name | $wall | $mem |"
-}
+source "$(cd "$(dirname "$0")" && pwd)/timed_run.sh"
 
 for n in 10000 20000; do
   "$unfurl" --quiet demo --scenario swiss-roll --points $n --out "$work/roll$n" --data-only
