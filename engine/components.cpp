@@ -221,10 +221,7 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
     s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
     return std::move(r);
   };
-  auto identity = [&] {
-    r.old_of_new.resize(graph.nodes());
-    std::iota(r.old_of_new.begin(), r.old_of_new.end(), NodeId{0});
-  };
+  auto identity = [&] { r.old_of_new = Numbering::identity(graph.nodes()); };
   if (labels.count <= 1) {
     r.graph = graph;
     identity();
@@ -245,9 +242,11 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
       std::size_t keep = 0;  // labels are numbered by smallest node, so ties go to the first
       for (std::size_t c = 1; c < labels.count; ++c)
         if (labels.size[c] > labels.size[keep]) keep = c;
+      std::vector<NodeId> kept;
       for (std::size_t v = 0; v < graph.nodes(); ++v)
-        (labels.label[v] == keep ? r.old_of_new : r.dropped).push_back(static_cast<NodeId>(v));
-      r.graph = induced(graph, r.old_of_new);
+        (labels.label[v] == keep ? kept : r.dropped).push_back(static_cast<NodeId>(v));
+      r.graph = induced(graph, kept);
+      r.old_of_new = Numbering(std::move(kept), graph.nodes());
       s.dropped_nodes = r.dropped.size();
       s.warnings.push_back("kept the largest of " + std::to_string(labels.count) + " components (" +
                            std::to_string(r.old_of_new.size()) + " nodes); dropped " +

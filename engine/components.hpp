@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "engine/graph.hpp"
+#include "engine/numbering.hpp"
 #include "engine/points.hpp"
 #include "engine/stop.hpp"
 
@@ -54,7 +55,7 @@ struct ComponentSummary {
 
 struct ComponentResult {
   NeighbourGraph graph;             // connected (or the input, if it already was)
-  std::vector<NodeId> old_of_new;   // node of the input graph for each node of `graph`
+  Numbering old_of_new;             // node of the input graph for each node of `graph`
   std::vector<NodeId> dropped;      // largest: input nodes left out, ascending
   std::vector<BridgeEdge> bridges;  // bridge: edges added, shortest first
   ComponentSummary summary;

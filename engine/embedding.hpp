@@ -6,6 +6,7 @@
 // component policy may drop nodes, and the spectral stage returns one row per remaining
 // node. The result maps back: `coords` row r belongs to input point `rows[r]` (ascending, so
 // the map keeps the input order), and every duplicate gets its representative's coordinates.
+// The pipeline is a sequence of steps with results of their own: engine/embedding_steps.hpp.
 #pragma once
 
 #include <cstddef>

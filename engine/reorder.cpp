@@ -3,7 +3,6 @@
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cstdint>
-#include <numeric>
 
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/detail/parallel_chunks.hpp"
@@ -14,11 +13,10 @@ namespace unfurl {
 namespace {
 
 Renumbering from_old_of_new(std::vector<NodeId> old_of_new) {
+  const std::size_t n = old_of_new.size();
   Renumbering r;
-  r.new_of_old.resize(old_of_new.size());
-  for (std::size_t i = 0; i < old_of_new.size(); ++i)
-    r.new_of_old[old_of_new[i]] = static_cast<NodeId>(i);
-  r.old_of_new = std::move(old_of_new);
+  r.old_of_new = Numbering(std::move(old_of_new), n);
+  r.new_of_old = r.old_of_new.inverse();
   return r;
 }
 
@@ -147,11 +145,8 @@ Renumbering node_order(NodeOrder order, const NeighbourGraph& graph, const Point
                       ": needs the points of all " + std::to_string(n) + " nodes, got " +
                       std::to_string(node_points.rows));
   switch (order) {
-    case NodeOrder::input: {
-      std::vector<NodeId> id(n);
-      std::iota(id.begin(), id.end(), NodeId{0});
-      return from_old_of_new(std::move(id));
-    }
+    case NodeOrder::input:
+      return {Numbering::identity(n), Numbering::identity(n)};
     case NodeOrder::bfs:
       return from_old_of_new(cuthill_mckee(graph));
     case NodeOrder::morton:

@@ -6,13 +6,14 @@
 #include <vector>
 
 #include "engine/graph.hpp"
+#include "engine/numbering.hpp"
 #include "engine/points.hpp"
 
 namespace unfurl {
 
 struct Renumbering {
-  std::vector<NodeId> new_of_old;  // old id -> new id
-  std::vector<NodeId> old_of_new;  // new id -> old id (the inverse permutation)
+  Numbering new_of_old;  // old id -> new id (a permutation)
+  Numbering old_of_new;  // new id -> old id (its inverse)
 };
 
 enum class NodeOrder {
