@@ -37,7 +37,7 @@
 //   attributes on /  format_version (2), program_version, creation_time (UTC ISO 8601), host,
 //                    peak_memory_bytes, and the caller's (command, input identity, parameters,
 //                    seed, seconds) by the rules of io/detail/h5_json.hpp.
-// Every dataset also carries a "meaning" attribute in words. Row ids are int64 everywhere.
+// Most datasets also carry a "meaning" attribute in words. Row ids are int64 everywhere.
 //
 // Version 1 (read, never written) differs only in types: /graph/dropped_rows,
 // /graph/component_sizes, /graph/degree, /quality/kK/scored_rows and
