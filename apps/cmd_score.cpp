@@ -8,12 +8,10 @@
 #include "apps/args.hpp"
 #include "apps/command.hpp"
 #include "apps/option_scope.hpp"
-#include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
 #include "io/atomic_output.hpp"
-#include "io/hdf5_file.hpp"
 #include "io/map_file.hpp"
 
 namespace unfurl::app {
@@ -63,13 +61,6 @@ void check_points_identity(Notes& notes, const ScoreCommandArgs& a,
                   a.points.file, a.map, differences));
 }
 
-bool is_unfurl_map(const std::string& file) {
-  if (io::detect_point_format(file) != "hdf5") return false;
-  const io::H5Reader r(file);
-  return r.has_dataset("/coords") && r.has_dataset("/rows") &&
-         r.has_attribute("/", "format_version");
-}
-
 void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   apply_globals(g);
   io::OutputSet outputs(stop_token());  // the output checked before any work
@@ -80,10 +71,10 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   AssessOptions options = to_assess_options(a.score, g.seed);
 
   std::optional<io::MapContents> ours;
-  if (a.map_dataset.empty() && is_unfurl_map(a.map)) ours = io::read_map(a.map, true);
+  if (a.map_dataset.empty() && io::is_map_file(a.map)) ours = io::read_map(a.map, true);
   io::PointReadOptions read_options = to_read_options(a.points);
   // The points as `embed` saw them: minus the centres the map records.
-  if (ours) read_options.centres = input_centres_from_arrays(ours->extras);
+  if (ours) read_options.centres = ours->input.centres;
   const io::PointReadResult in = io::read_points(a.points.file, read_options);
   for (const auto& w : in.warnings) say(g, "warning: points: " + w);
   PointSet input;
@@ -107,7 +98,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
                         a.map, r, row, a.points.file));
       std::copy_n(in.points.row(position[row]), in.points.cols, input.row(r));
     }
-    if (auto model = preprocess_from_arrays(m.extras)) {
+    if (const auto& model = m.preprocess) {
       // Score in the space the neighbour search of `embed` saw.
       input = apply_preprocess(*model, input);
       say(g, fmt::format("points transformed as the map's /preprocess records (scale {}, metric "

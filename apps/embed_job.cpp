@@ -3,7 +3,6 @@
 #include <fmt/core.h>
 
 #include "apps/option_scope.hpp"
-#include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
@@ -200,7 +199,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
                                                       model.components, 100 * model.variance_kept)
                                         : ""));
     for (const auto& w : model.warnings) say(g, "warning: preprocess: " + w);
-    add_preprocess_arrays(model, map.extras);
+    map.preprocess = model;
   }
 
   if (options.exact && !a.linear) check_exact_memory(a, options, n);
@@ -221,7 +220,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
           "trustworthiness and continuity need points; a given graph has none");
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
-      map.extras = assessment_arrays(scores);
+      map.quality = quality_record(scores);
     } else {
       // The graph stage's kNN lists already gave the intrinsic dimension (no second search).
       if (result.dimension) assess.dimension_k = 0;
@@ -233,17 +232,12 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
       if (result.residual) scores.residual = result.residual;
       print_assessment(g, scores);
       report["quality"] = assessment_json(scores);
-      for (auto& extra : assessment_arrays(scores)) map.extras.push_back(std::move(extra));
+      map.quality = quality_record(scores);
     }
   }
-  if (!a.linear)
-    for (auto& extra : graph_arrays(result)) map.extras.push_back(std::move(extra));
-  std::vector<double> nonfinite(in.dropped_rows.begin(), in.dropped_rows.end());
-  add_input_centres(in.centres, map.extras);
-  map.extras.push_back({"/input/dropped_nonfinite_rows",
-                        nonfinite,
-                        {nonfinite.size()},
-                        {{"meaning", "input rows dropped for NaN or infinite values"}}});
+  if (!a.linear) map.graph = graph_record(result, in.rows);
+  if (!in.centres.empty()) map.input.centres = in.centres;
+  map.input.dropped_nonfinite_rows = in.dropped_rows;
 
   map.coords = result.coords;
   for (std::size_t r : result.rows) map.rows.push_back(in.rows[r]);

@@ -166,96 +166,57 @@ json assessment_json(const Assessment& a) {
   return j;
 }
 
-std::vector<io::MapArray> assessment_arrays(const Assessment& a) {
-  std::vector<io::MapArray> out;
-  for (const auto& s : a.neighbourhoods.by_k) {
-    const std::string base = "/quality/k" + std::to_string(s.k) + "/";
-    const json attrs = {{"k", s.k},
-                        {"method", s.sampled ? "sampled" : "exact"},
-                        {"sample_size", s.sample_size},
-                        {"interval_method", s.interval_method}};
-    auto scalar = [&](const std::string& name, double v, json extra = json::object()) {
-      json at = attrs;
-      at.update(extra);
-      out.push_back({base + name, {v}, {}, at});
-    };
-    scalar("trustworthiness", s.trustworthiness, {{"interval_95", {s.t_low, s.t_high}}});
-    scalar("continuity", s.continuity, {{"interval_95", {s.c_low, s.c_high}}});
-    scalar("knn_preservation", s.knn_preservation, {{"interval_95", {s.knn_low, s.knn_high}}});
-    std::vector<double> rows(s.scored_points.begin(), s.scored_points.end());
-    out.push_back({base + "scored_rows",
-                   rows,
-                   {rows.size()},
-                   {{"meaning", "map row of each per-point term"}}});
-    out.push_back({base + "trustworthiness_terms",
-                   s.t_terms,
-                   {s.t_terms.size()},
-                   {{"meaning", "each scored point's term of 1 - T(k)"}}});
-    out.push_back({base + "continuity_terms",
-                   s.c_terms,
-                   {s.c_terms.size()},
-                   {{"meaning", "each scored point's term of 1 - C(k)"}}});
-  }
+io::MapQualityRecord quality_record(const Assessment& a) {
+  io::MapQualityRecord q;
+  for (const auto& s : a.neighbourhoods.by_k)
+    q.by_k.push_back({.k = static_cast<std::int64_t>(s.k),
+                      .trustworthiness = s.trustworthiness,
+                      .continuity = s.continuity,
+                      .knn_preservation = s.knn_preservation,
+                      .trustworthiness_95 = {s.t_low, s.t_high},
+                      .continuity_95 = {s.c_low, s.c_high},
+                      .knn_preservation_95 = {s.knn_low, s.knn_high},
+                      .method = s.sampled ? "sampled" : "exact",
+                      .sample_size = static_cast<std::int64_t>(s.sample_size),
+                      .interval_method = s.interval_method,
+                      .scored_rows = {s.scored_points.begin(), s.scored_points.end()},
+                      .trustworthiness_terms = s.t_terms,
+                      .continuity_terms = s.c_terms});
   if (a.residual)
-    out.push_back({"/quality/residual_variance",
-                   a.residual->by_dims,
-                   {a.residual->by_dims.size()},
-                   {{"pairs", a.residual->pairs},
-                    {"sampled", a.residual->sampled},
-                    {"drawn", a.residual->drawn},
-                    {"standard_error", a.residual->standard_error},
-                    {"meaning", "1 - R^2 of given vs map distances using the first d axes"}}});
+    q.residual = io::MapResidualRecord{.by_dims = a.residual->by_dims,
+                                       .standard_error = a.residual->standard_error,
+                                       .pairs = static_cast<std::int64_t>(a.residual->pairs),
+                                       .sampled = a.residual->sampled,
+                                       .drawn = a.residual->drawn};
   if (a.dimension)
-    out.push_back({"/quality/intrinsic_dimension",
-                   {a.dimension->estimate},
-                   {},
-                   {{"k", a.dimension->k},
-                    {"method", "Levina-Bickel maximum likelihood"},
-                    {"averaging", a.dimension->averaging},
-                    {"points", a.dimension->points},
-                    {"points_used", a.dimension->points_used}}});
+    q.dimension =
+        io::MapDimensionRecord{.estimate = a.dimension->estimate,
+                               .k = static_cast<std::int64_t>(a.dimension->k),
+                               .method = "Levina-Bickel maximum likelihood",
+                               .averaging = a.dimension->averaging,
+                               .points = a.dimension->points,
+                               .points_used = static_cast<std::int64_t>(a.dimension->points_used)};
   if (!a.axis_share.empty())
-    out.push_back({"/quality/axis_share",
-                   a.axis_share,
-                   {a.axis_share.size()},
-                   {{"meaning",
-                     "eigenvalue of each axis / sum of the positive eigenvalues of the whole "
-                     "spectrum"},
-                    {"basis", a.axis_share_basis},
-                    {"noise_axes", a.noise_axes},
-                    {"standard_error", a.axis_share_error}}});
-  return out;
+    q.axis_share = io::MapAxisShareRecord{.share = a.axis_share,
+                                          .standard_error = a.axis_share_error,
+                                          .basis = a.axis_share_basis,
+                                          .noise_axes = {a.noise_axes.begin(), a.noise_axes.end()}};
+  return q;
 }
 
-std::vector<io::MapArray> graph_arrays(const EmbedResult& r) {
-  std::vector<io::MapArray> out;
+io::MapGraphRecord graph_record(const EmbedResult& r, std::span<const std::int64_t> input_rows) {
+  io::MapGraphRecord g;
   if (r.graph) {
     const auto& s = *r.graph;
-    out.push_back({"/graph/degree",
-                   {double(s.degree_min), double(s.degree_median), double(s.degree_max)},
-                   {3},
-                   {{"meaning", "min, median, max"}}});
-    out.push_back({"/graph/edge_length",
-                   {s.length_min, s.length_p05, s.length_median, s.length_p95, s.length_max},
-                   {5},
-                   {{"meaning", "min, 5%, median, 95%, max"}}});
+    g.degree = {static_cast<std::int64_t>(s.degree_min), static_cast<std::int64_t>(s.degree_median),
+                static_cast<std::int64_t>(s.degree_max)};
+    g.edge_length = {s.length_min, s.length_p05, s.length_median, s.length_p95, s.length_max};
   }
-  std::vector<double> sizes(r.components.sizes.begin(), r.components.sizes.end());
-  out.push_back({"/graph/component_sizes", sizes, {sizes.size()}, {{"meaning", "largest first"}}});
-  std::vector<double> dropped(r.dropped.begin(), r.dropped.end());
-  out.push_back({"/graph/dropped_rows",
-                 dropped,
-                 {dropped.size()},
-                 {{"meaning", "input rows outside the embedded component"}}});
-  if (!r.bridges.empty()) {
-    std::vector<double> b;
-    for (const auto& e : r.bridges) b.insert(b.end(), {double(e.from), double(e.to), e.length});
-    out.push_back({"/graph/bridges",
-                   b,
-                   {r.bridges.size(), 3},
-                   {{"meaning", "from row, to row, length of each edge added to connect"}}});
-  }
-  return out;
+  g.component_sizes.assign(r.components.sizes.begin(), r.components.sizes.end());
+  for (std::size_t p : r.dropped) g.dropped_rows.push_back(input_rows[p]);
+  for (const auto& e : r.bridges)
+    g.bridges.push_back({input_rows[e.from], input_rows[e.to], e.length});
+  return g;
 }
 
 void print_graph(const GlobalOptions& g, const GraphSummary& s) {

@@ -4,6 +4,7 @@
 #pragma once
 
 #include <nlohmann/json.hpp>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -26,9 +27,10 @@ nlohmann::json spectrum_json(const EmbedResult& r);
 AxisSpectrum axis_spectrum(const EmbedResult& r);
 AxisSpectrum axis_spectrum(const std::vector<double>& spectrum, const nlohmann::json& attributes);
 
-// The datasets under /quality (scores, curves, per-point terms) and /graph.
-std::vector<io::MapArray> assessment_arrays(const Assessment& a);
-std::vector<io::MapArray> graph_arrays(const EmbedResult& r);
+// The map's /quality (scores, curves, per-point terms) and /graph records. `input_rows` gives
+// the input row of each point (or node) of the run, as the map's row ids.
+io::MapQualityRecord quality_record(const Assessment& a);
+io::MapGraphRecord graph_record(const EmbedResult& r, std::span<const std::int64_t> input_rows);
 
 // Human-readable lines.
 void print_graph(const GlobalOptions& g, const GraphSummary& s);

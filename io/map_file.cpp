@@ -9,7 +9,9 @@
 #include "io/detail/file_stamp.hpp"
 #include "io/detail/h5_json.hpp"
 #include "io/detail/map_array_io.hpp"
+#include "io/detail/map_groups.hpp"
 #include "io/hdf5_file.hpp"
+#include "io/points_reader.hpp"
 
 namespace unfurl::io {
 namespace {
@@ -31,6 +33,21 @@ void check_sizes(const fs::path& path, const MapContents& c) {
     const DistanceRows& g = *c.landmark_geodesic;
     if (g.rows != l || g.cols != n || g.values.size() != l * n || g.sources.size() != l)
       fail("/landmarks/geodesic is not L x N with L sources");
+  }
+  for (const MapScoreRecord& s : c.quality.by_k) {
+    const std::string base = "/quality/k" + std::to_string(s.k);
+    if (s.trustworthiness_terms.size() != s.scored_rows.size() ||
+        s.continuity_terms.size() != s.scored_rows.size())
+      fail(base + ": the per-point terms are not one per scored row");
+    for (std::int64_t r : s.scored_rows)
+      if (r < 0 || static_cast<std::size_t>(r) >= n) fail(base + "/scored_rows: not a map row");
+  }
+  if (c.preprocess) {
+    const PreprocessModel& p = *c.preprocess;
+    const std::size_t d = p.input_cols, q = p.components;
+    if (p.centre.size() != d || p.spread.size() != d ||
+        (q > 0 && (p.pca_mean.size() != d || p.axes.size() != q * d || p.variances.size() != q)))
+      fail("/preprocess: the arrays disagree with input_cols and components");
   }
   if (!c.attributes.is_object()) fail("attributes are not an object");
 }
@@ -81,6 +98,10 @@ void write_map(OutputSet& outputs, std::size_t output, const MapContents& c, H5W
     out.write("/spectrum", c.spectrum, {c.spectrum.size()});
     if (!c.spectrum_attributes.empty())
       detail::write_json_attributes(out, "/spectrum", c.spectrum_attributes);
+    if (c.graph) detail::write_graph_group(out, *c.graph);
+    detail::write_quality_group(out, c.quality);
+    if (c.preprocess) detail::write_preprocess_group(out, *c.preprocess);
+    detail::write_input_group(out, c.input);
     for (const MapArray& extra : c.extras) {
       if (extra.path.empty() || extra.path[0] != '/')
         throw InternalError(path.string() + ": extra dataset path '" + extra.path +
@@ -113,7 +134,10 @@ void expect_length(const H5Reader& in, const std::string& dataset, std::size_t g
 
 MapContents read_map(const fs::path& path, bool with_geodesic) {
   H5Reader in(path);
-  detail::check_format_version(in, map_format_version, "map file");
+  const std::int64_t version = detail::check_format_version(in, map_format_version, "map file");
+  // List every dataset first: a damaged file whose listing fails is refused here, before any
+  // object is read that the isolated check (which walks that same listing) never reached.
+  const std::vector<std::string> all = in.datasets_under("/");
   MapContents c;
   const auto coords = in.require_rank("/coords", 2);
   c.coords.rows = coords.dims[0];
@@ -161,15 +185,26 @@ MapContents read_map(const fs::path& path, bool with_geodesic) {
     c.spectrum = in.read<double>("/spectrum");
     c.spectrum_attributes = detail::read_json_attributes(in, "/spectrum");
   }
-  for (const std::string& name : in.datasets_under("/")) {
+  std::set<std::string> known = layout_datasets;
+  c.graph = detail::read_graph_group(in, version, known);
+  c.quality = detail::read_quality_group(in, version, n, known);
+  c.preprocess = detail::read_preprocess_group(in, known);
+  c.input = detail::read_input_group(in, version, known);
+  for (const std::string& name : all) {
     // A full graph saved into the map is read_graph's business, not an extra.
-    if (layout_datasets.count(name) || graph_datasets.count(name) ||
-        name.rfind("/graph/nodes/", 0) == 0)
+    if (known.count(name) || graph_datasets.count(name) || name.rfind("/graph/nodes/", 0) == 0)
       continue;
     c.extras.push_back(detail::read_map_array(in, name));
   }
   c.attributes = detail::read_json_attributes(in, "/");
   return c;
+}
+
+bool is_map_file(const fs::path& file) {
+  if (detect_point_format(file) != "hdf5") return false;
+  const H5Reader in(file);
+  return in.has_dataset("/coords") && in.has_dataset("/rows") &&
+         in.has_attribute("/", "format_version");
 }
 
 }  // namespace unfurl::io

@@ -44,7 +44,7 @@ nlohmann::json stamp_attributes(nlohmann::json attrs, std::int64_t format_versio
   return attrs;
 }
 
-void check_format_version(const H5Reader& in, std::int64_t newest, const char* what) {
+std::int64_t check_format_version(const H5Reader& in, std::int64_t newest, const char* what) {
   const std::string file = in.path().string();
   if (!in.has_attribute("/", "format_version"))
     throw DataError(file + ": /: no format_version attribute (not an unfurl " + what + "?)");
@@ -55,6 +55,7 @@ void check_format_version(const H5Reader& in, std::int64_t newest, const char* w
     throw DataError(file + ": written by a newer unfurl: format version " + std::to_string(v) +
                     ", this reads up to " + std::to_string(newest));
   if (v < 1) throw DataError(file + ": /: invalid format version " + std::to_string(v));
+  return v;
 }
 
 }  // namespace unfurl::io::detail

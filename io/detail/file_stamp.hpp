@@ -15,8 +15,9 @@ namespace unfurl::io::detail {
 // peak_memory_bytes added unless the caller gave them.
 nlohmann::json stamp_attributes(nlohmann::json attrs, std::int64_t format_version);
 
-// DataError when "/" has no integer format_version, or a newer one than `newest`.
-void check_format_version(const H5Reader& in, std::int64_t newest, const char* what);
+// The file's format version; DataError when "/" has no integer format_version, or a newer
+// one than `newest`.
+std::int64_t check_format_version(const H5Reader& in, std::int64_t newest, const char* what);
 
 std::string iso8601_utc(std::time_t t);
 

@@ -219,25 +219,41 @@ def main():
              ["embed", far_src, "-o", largest, "--disconnected", "largest", "--quiet"])
     with h5py.File(largest, "r") as f:
         rows = f["/rows"][()]
-        dropped = f["/graph/dropped_rows"][()].astype(np.int64)
+        dropped = f["/graph/dropped_rows"][()]
+    check("--disconnected largest: /graph/dropped_rows is int64", dropped.dtype == np.int64,
+          str(dropped.dtype))
     check("--disconnected largest: the map holds the 180 rows of the larger patch",
           rows.tolist() == list(range(180)), f"{len(rows)} rows")
     check("--disconnected largest: /graph/dropped_rows lists the other 120",
           dropped.tolist() == list(range(180, 300)), f"{len(dropped)} rows")
+    # With --rows the ids stay input-file rows, like /rows (they were positions among the rows
+    # read up to format version 1).
+    window = d("out/largest-window.h5")
+    succeeds("embed --disconnected largest --rows 20:300",
+             ["embed", far_src, "-o", window, "--disconnected", "largest", "--rows", "20:300",
+              "--quiet"])
+    with h5py.File(window, "r") as f:
+        rows = f["/rows"][()]
+        dropped = f["/graph/dropped_rows"][()]
+    check("--rows 20:300: /rows and /graph/dropped_rows are file rows",
+          rows.tolist() == list(range(20, 180)) and dropped.tolist() == list(range(180, 300)),
+          f"rows {rows[:3]}..., dropped {dropped[:3]}...")
     bridged = d("out/bridged.h5")
     succeeds("embed --disconnected bridge",
              ["embed", far_src, "-o", bridged, "--disconnected", "bridge", "--quiet"])
     with h5py.File(bridged, "r") as f:
         rows = f["/rows"][()]
-        has_bridges = "/graph/bridges" in f
-        bridges = f["/graph/bridges"][()] if has_bridges else np.zeros((0, 3))
+        has_bridges = "/graph/bridge_rows" in f
+        bridges = f["/graph/bridge_rows"][()] if has_bridges else np.zeros((0, 2), np.int64)
+        lengths = f["/graph/bridge_lengths"][()] if has_bridges else np.zeros(0)
         coords = f["/coords"][()]
+    check("--disconnected bridge: /graph/bridge_rows holds one edge as int64 rows",
+          bridges.shape == (1, 2) and bridges.dtype == np.int64 and lengths.shape == (1,),
+          f"shape {bridges.shape} {bridges.dtype}")
     check("--disconnected bridge: every row is in the map", rows.tolist() == list(range(300)))
-    check("--disconnected bridge: /graph/bridges holds one edge", bridges.shape == (1, 3),
-          f"shape {bridges.shape}")
     check("--disconnected bridge: coordinates finite", bool(np.isfinite(coords).all()))
-    if bridges.shape == (1, 3):
-        a, b, length = int(bridges[0, 0]), int(bridges[0, 1]), bridges[0, 2]
+    if bridges.shape == (1, 2) and lengths.shape == (1,):
+        a, b, length = int(bridges[0, 0]), int(bridges[0, 1]), lengths[0]
         # The shortest edge between the patches, by scipy.spatial.distance.cdist.
         between = cdist(far[:180].astype(np.float64), far[180:].astype(np.float64))
         check("--disconnected bridge: the edge joins the two patches",

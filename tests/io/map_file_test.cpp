@@ -11,6 +11,7 @@
 #include "io/detail/hdf5_sandbox.hpp"
 #include "io/graph_file.hpp"
 #include "io/hdf5_file.hpp"
+#include "tests/io/map_compare.hpp"
 #include "tests/io/temp_folder.hpp"
 
 namespace {
@@ -39,13 +40,67 @@ MapContents sample_map(std::size_t n, std::size_t m, std::size_t l, bool geodesi
   for (std::size_t j = 0; j < l; ++j) c.spectrum.push_back(100.0 / (j + 1));
   c.spectrum_attributes = {
       {"which", "largest"}, {"count", l}, {"positive_mass", 412.5}, {"noise_axes", {3, 4}}};
-  c.extras.push_back({"/quality/trustworthiness",
-                      {0.97, 0.95},
-                      {2},
-                      {{"k", {5, 10}}, {"method", "exact"}, {"sample_size", 40}}});
-  c.extras.push_back({"/quality/residual_variance", {0.0125}, {}, {{"dims", 2}}});
-  c.extras.push_back(
-      {"/graph/degree_histogram", {0, 3, 5, 1, 0, 2}, {3, 2}, nlohmann::json::object()});
+  // Every group of the record, with ids that a float64 round trip would not keep (2^53 + 1).
+  const std::int64_t huge = (std::int64_t{1} << 53) + 1;
+  unfurl::io::MapGraphRecord graph;
+  graph.degree = {{3, 6, 11}};
+  graph.edge_length = {{0.125, 0.25, 0.5, 1.0, 2.5}};
+  graph.component_sizes = {static_cast<std::int64_t>(n), 2, 1};
+  graph.dropped_rows = {huge, 7};
+  graph.bridges = {{4, huge, 0.75}, {2, 9, 1.5}};
+  c.graph = graph;
+  for (std::int64_t k : {5, 12}) {
+    unfurl::io::MapScoreRecord s{.k = k,
+                                 .trustworthiness = rng.uniform(),
+                                 .continuity = rng.uniform(),
+                                 .knn_preservation = rng.uniform(),
+                                 .trustworthiness_95 = {rng.uniform(), rng.uniform()},
+                                 .continuity_95 = {rng.uniform(), rng.uniform()},
+                                 .knn_preservation_95 = {rng.uniform(), rng.uniform()},
+                                 .method = k == 5 ? "exact" : "sampled",
+                                 .sample_size = 4,
+                                 .interval_method = "bootstrap percentile",
+                                 .scored_rows = {},
+                                 .trustworthiness_terms = {},
+                                 .continuity_terms = {}};
+    for (std::int64_t r :
+         {std::int64_t{0}, std::int64_t{2}, std::int64_t{3}, std::int64_t(n) - 1}) {
+      s.scored_rows.push_back(r);
+      s.trustworthiness_terms.push_back(rng.uniform());
+      s.continuity_terms.push_back(rng.uniform());
+    }
+    c.quality.by_k.push_back(s);
+  }
+  c.quality.residual = unfurl::io::MapResidualRecord{.by_dims = {0.5, 0.125},
+                                                     .standard_error = {},
+                                                     .pairs = 1770,
+                                                     .sampled = false,
+                                                     .drawn = "every pair"};
+  c.quality.dimension = unfurl::io::MapDimensionRecord{.estimate = 1.75,
+                                                       .k = 10,
+                                                       .method = "Levina-Bickel",
+                                                       .averaging = "inverse",
+                                                       .points = "distinct",
+                                                       .points_used = 60};
+  c.quality.axis_share = unfurl::io::MapAxisShareRecord{.share = {0.75, 0.25},
+                                                        .standard_error = {0.01, 0.02},
+                                                        .basis = "whole spectrum",
+                                                        .noise_axes = {2}};
+  unfurl::PreprocessModel pre;
+  pre.input_cols = 3;
+  pre.scale = unfurl::Scale::robust;
+  pre.metric = unfurl::Metric::cosine;
+  pre.centre = {1.5, -2.0, 0.25};
+  pre.spread = {2.0, 1.0, 0.5};
+  pre.components = 2;
+  pre.pca_mean = {0.1, 0.2, 0.3};
+  pre.axes = {1, 0, 0, 0, 0.6, 0.8};
+  pre.variances = {4.0, 1.0};
+  pre.variance_kept = 0.875;
+  c.preprocess = pre;
+  c.input.centres = std::vector<double>{10.5, -3.25, 0.0};
+  c.input.dropped_nonfinite_rows = {huge, 0};
+  c.extras.push_back({"/notes/degree_histogram", {0, 3, 5, 1, 0, 2}, {3, 2}, {{"bins", 3}}});
   c.attributes = {{"seed", 12345},
                   {"input", {{"path", "/data/buoys.h5"}, {"dataset", "/points"}, {"bytes", 999}}},
                   {"parameters", {{"k", 10}, {"dims", 2}, {"pick", "maxmin"}, {"radius", 0.5}}},
@@ -70,15 +125,13 @@ void check_same(const MapContents& a, const MapContents& b, bool geodesic) {
     CHECK(a.landmark_geodesic->sources == b.landmark_geodesic->sources);
     CHECK(a.landmark_geodesic->values == b.landmark_geodesic->values);
   }
-  // Extras come back sorted by path.
-  REQUIRE(b.extras.size() == 3);
-  for (const auto& want : a.extras) {
-    const auto got = std::find_if(b.extras.begin(), b.extras.end(),
-                                  [&](const auto& e) { return e.path == want.path; });
-    REQUIRE(got != b.extras.end());
-    CHECK(got->values == want.values);
-    CHECK(got->dims == want.dims);
-    CHECK(got->attributes == want.attributes);
+  unfurl::test::check_same_groups(a, b);
+  REQUIRE(b.extras.size() == a.extras.size());
+  for (std::size_t i = 0; i < a.extras.size(); ++i) {
+    CHECK(b.extras[i].path == a.extras[i].path);
+    CHECK(b.extras[i].values == a.extras[i].values);
+    CHECK(b.extras[i].dims == a.extras[i].dims);
+    CHECK(b.extras[i].attributes == a.extras[i].attributes);
   }
   for (const auto& [key, value] : a.attributes.items()) CHECK(b.attributes.at(key) == value);
 }
@@ -93,7 +146,8 @@ TEST_CASE("map file round trips every field", "[map_file]") {
     unfurl::io::write_map(path, written);
     const MapContents read = unfurl::io::read_map(path, true);
     check_same(written, read, geodesic);
-    CHECK(read.attributes.at("format_version") == 1);
+    CHECK(read.attributes.at("format_version") == unfurl::io::map_format_version);
+    CHECK(unfurl::io::map_format_version == 2);
     CHECK(read.attributes.at("program_version") == UNFURL_VERSION);
     CHECK(read.attributes.at("creation_time") == "2026-12-01T17:00:00Z");  // caller's wins
     CHECK(read.attributes.at("peak_memory_bytes").get<std::int64_t>() > 0);
@@ -147,12 +201,21 @@ TEST_CASE("a failed map write leaves the earlier map byte-identical", "[map_file
   CHECK_THROWS_AS(unfurl::io::write_map(path, clash), unfurl::IoError);
   // Part way: an extra whose values do not fill its dims (a caller's bug).
   MapContents ragged = sample_map(10, 2, 3, true);
-  ragged.extras.push_back({"/quality/bad", {1.0, 2.0, 3.0}, {2, 2}, {}});
+  ragged.extras.push_back({"/notes/bad", {1.0, 2.0, 3.0}, {2, 2}, {}});
   CHECK_THROWS_AS(unfurl::io::write_map(path, ragged), unfurl::InternalError);
   // Before writing: sizes that disagree.
   MapContents short_rows = sample_map(10, 2, 3, false);
   short_rows.rows.pop_back();
   CHECK_THROWS_AS(unfurl::io::write_map(path, short_rows), unfurl::InternalError);
+  MapContents short_terms = sample_map(10, 2, 3, false);
+  short_terms.quality.by_k[0].continuity_terms.pop_back();
+  CHECK_THROWS_AS(unfurl::io::write_map(path, short_terms), unfurl::InternalError);
+  MapContents outside = sample_map(10, 2, 3, false);
+  outside.quality.by_k[1].scored_rows[0] = 10;  // N = 10: not a map row
+  CHECK_THROWS_AS(unfurl::io::write_map(path, outside), unfurl::InternalError);
+  MapContents thin_axes = sample_map(10, 2, 3, false);
+  thin_axes.preprocess->axes.pop_back();
+  CHECK_THROWS_AS(unfurl::io::write_map(path, thin_axes), unfurl::InternalError);
 
   CHECK(unfurl::test::file_bytes(path) == before);
   CHECK(dir.entries() == std::vector<std::string>{"map.h5"});  // no temporary file left
@@ -191,7 +254,7 @@ TEST_CASE("map reader rejects damaged and foreign files", "[map_file]") {
     CHECK_THROWS_AS(unfurl::io::read_map(dir / "newer.h5"), unfurl::DataError);
     CHECK_THROWS_WITH(unfurl::io::read_map(dir / "newer.h5"),
                       Catch::Contains("newer.h5: written by a newer unfurl: format version 7, "
-                                      "this reads up to 1"));
+                                      "this reads up to 2"));
   }
   SECTION("missing /coords, or sizes that disagree") {
     {

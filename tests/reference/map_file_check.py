@@ -2,7 +2,9 @@
 
 Outside references (Debian 12 packages):
   - h5py 3.7 (python3-h5py) reads the map files unfurl writes, and writes map-shaped files,
-    edge lists and distance matrices that unfurl must read;
+    edge lists and distance matrices that unfurl must read; it also reads the version-1 maps
+    in tests/data (written by the release at main c42f544, see make_v1_maps.sh) to compare
+    with what unfurl's reader makes of them;
   - numpy 1.24 (python3-numpy): numpy.save writes the .npy distance matrices, and
     numpy.float32(text) parses the CSV coordinates (a float32 parse independent of ours).
 The expected values of the probe's synthetic map are computed here from the formulas
@@ -92,8 +94,26 @@ def check_written_map(tmp):
         check("h5py: /graph/mean_degree scalar", f["graph/mean_degree"].shape == ()
               and f["graph/mean_degree"][()] == 4.5)
         a = f.attrs
-        check("h5py: format_version is integer 1",
-              isinstance(a["format_version"], np.integer) and a["format_version"] == 1)
+        check("h5py: format_version is integer 2",
+              isinstance(a["format_version"], np.integer) and a["format_version"] == 2)
+        # The record's groups: ids int64 (2^53 + 1 is no float64 whole number), as documented in
+        # io/map_record.hpp; values as map_probe.cpp sets them.
+        huge = 2**53 + 1
+        for name, want in [("graph/dropped_rows", [huge, 5]), ("graph/component_sizes", [37, 2]),
+                           ("graph/degree", [4, 6, 9]), ("graph/bridge_rows", [[3, huge]]),
+                           ("quality/k6/scored_rows", [1, 4, 36]),
+                           ("input/dropped_nonfinite_rows", [huge])]:
+            check(f"h5py: /{name} is int64", f[name].dtype == np.int64, str(f[name].dtype))
+            check(f"h5py: /{name} values", f[name][()].tolist() == want, repr(f[name][()]))
+        same_array("h5py: /graph/bridge_lengths", f["graph/bridge_lengths"][()], [2.5])
+        same_array("h5py: /graph/edge_length", f["graph/edge_length"][()], [0.5, 0.75, 1, 1.25, 2])
+        t6 = f["quality/k6/trustworthiness"]
+        check("h5py: /quality/k6/trustworthiness scalar with attributes",
+              t6.shape == () and t6[()] == 0.875 and int(t6.attrs["k"]) == 6
+              and t6.attrs["method"] == "sampled" and list(t6.attrs["interval_95"]) == [0.8, 0.9])
+        same_array("h5py: /quality/k6/continuity_terms", f["quality/k6/continuity_terms"][()],
+                   [0.0, 0.375, 1.0])
+        same_array("h5py: /input/centres", f["input/centres"][()], [1.5, 2.5, -0.5])
         check("h5py: program_version is a version string",
               re.fullmatch(r"\d+\.\d+\.\d+", a["program_version"]) is not None,
               repr(a["program_version"]))
@@ -177,13 +197,132 @@ def check_read_map(tmp):
         f.attrs["format_version"] = np.int64(7)
     r = probe("read-map", os.path.join(tmp, "newer.h5"), expect_ok=False)
     check("probe: newer format version refused (exit 65)",
-          r.returncode == 65 and "format version 7, this reads up to 1" in r.stderr, r.stderr)
+          r.returncode == 65 and "format version 7, this reads up to 2" in r.stderr, r.stderr)
     with h5py.File(os.path.join(tmp, "nocoords.h5"), "w") as f:
         f["rows"] = rows
         f.attrs["format_version"] = np.int64(1)
     r = probe("read-map", os.path.join(tmp, "nocoords.h5"), expect_ok=False)
     check("probe: missing /coords refused (exit 66)", r.returncode == 66 and "/coords" in r.stderr,
           r.stderr)
+
+
+FIXTURES = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "data")
+ID_DATASETS = ["graph/dropped_rows", "graph/component_sizes", "graph/degree",
+               "input/dropped_nonfinite_rows"]
+
+
+def attrs_of(obj):
+    return {k: (v.tolist() if isinstance(v, np.ndarray) else v.item() if hasattr(v, "item") else v)
+            for k, v in obj.attrs.items()}
+
+
+def check_v1_fixture(tmp, name):
+    """A real version-1 map (tests/data/make_v1_maps.sh) read by h5py and by our reader: every
+    field the same; copied to version 2 by our writer, h5py sees the documented types and the
+    same values."""
+    v1 = os.path.join(FIXTURES, name)
+    got = json.loads(probe("read-map", v1, "--geodesic").stdout)
+    with h5py.File(v1, "r") as f:
+        check(f"{name}: h5py sees format_version 1", int(f.attrs["format_version"]) == 1)
+        n, m = f["coords"].shape
+        same_array(f"{name}: coords", np.array(got["coords"]["values"], dtype=np.float32)
+                   .reshape(n, m), f["coords"][()])
+        same_array(f"{name}: rows", got["rows"], f["rows"][()])
+        same_array(f"{name}: landmark rows", got["landmark_rows"], f["landmarks/rows"][()])
+        same_array(f"{name}: landmark coords", np.array(got["landmark_coords"])
+                   .reshape(f["landmarks/coords"].shape), f["landmarks/coords"][()])
+        if "landmarks/geodesic" in f:
+            same_array(f"{name}: geodesic", np.array(got["geodesic"]["values"], dtype=np.float32)
+                       .reshape(f["landmarks/geodesic"].shape), f["landmarks/geodesic"][()])
+            same_array(f"{name}: geodesic sources", got["geodesic"]["sources"],
+                       f["landmarks/nodes"][()])
+        same_array(f"{name}: spectrum", got["spectrum"], f["spectrum"][()])
+        check(f"{name}: spectrum attributes", got["spectrum_attributes"] == attrs_of(f["spectrum"]),
+              repr(got["spectrum_attributes"]))
+        g = got["graph"]
+        for key in ["dropped_rows", "component_sizes", "degree"]:
+            want = f["graph/" + key][()]
+            check(f"{name}: /graph/{key} float64 whole numbers -> int64",
+                  want.dtype == np.float64 and g[key] == want.astype(np.int64).tolist()
+                  and np.array_equal(np.array(g[key], dtype=np.float64), want), repr(g[key]))
+        same_array(f"{name}: edge_length", g["edge_length"], f["graph/edge_length"][()])
+        want_bridges = f["graph/bridges"][()] if "graph/bridges" in f else np.zeros((0, 3))
+        check(f"{name}: bridges B x 3 float64 -> rows and lengths",
+              [[float(v) for v in b] for b in g["bridges"]] == want_bridges.tolist(),
+              repr(g["bridges"]))
+        for s in got["quality"]["by_k"]:
+            base = f"quality/k{s['k']}/"
+            for score in ["trustworthiness", "continuity", "knn_preservation"]:
+                a = attrs_of(f[base + score])
+                check(f"{name}: {base}{score} value and attributes",
+                      s[score] == f[base + score][()] and s[score + "_95"] == a["interval_95"]
+                      and s["method"] == a["method"] and s["sample_size"] == a["sample_size"]
+                      and s["interval_method"] == a["interval_method"] and s["k"] == a["k"])
+            same_array(f"{name}: {base}scored_rows", s["scored_rows"],
+                       f[base + "scored_rows"][()].astype(np.int64))
+            for terms in ["trustworthiness_terms", "continuity_terms"]:
+                same_array(f"{name}: {base}{terms}", s[terms], f[base + terms][()])
+        check(f"{name}: one score per /quality/kK group",
+              sorted(f"k{s['k']}" for s in got["quality"]["by_k"])
+              == sorted(k for k in f["quality"] if k.startswith("k")))
+        r, a = got["quality"]["residual_variance"], attrs_of(f["quality/residual_variance"])
+        check(f"{name}: residual variance", r["by_dims"] == f["quality/residual_variance"][()]
+              .tolist() and r["pairs"] == a["pairs"] and r["drawn"] == a["drawn"]
+              and r["sampled"] == bool(a["sampled"]))
+        d, a = got["quality"]["intrinsic_dimension"], attrs_of(f["quality/intrinsic_dimension"])
+        check(f"{name}: intrinsic dimension", d["estimate"] == f["quality/intrinsic_dimension"][()]
+              and all(d[k] == a[k] for k in ["k", "method", "averaging", "points", "points_used"]))
+        x, a = got["quality"]["axis_share"], attrs_of(f["quality/axis_share"])
+        check(f"{name}: axis share", x["share"] == f["quality/axis_share"][()].tolist()
+              and x["basis"] == a["basis"] and x["standard_error"] == a["standard_error"])
+        if "preprocess" in f:
+            p, a = got["preprocess"], attrs_of(f["preprocess/centre"])
+            check(f"{name}: preprocess attributes", p["scale"] == a["scale"]
+                  and p["metric"] == a["metric"] and p["components"] == a["components"]
+                  and p["variance_kept"] == a["variance_kept"])
+            for key in ["centre", "spread", "pca_mean", "variances"]:
+                same_array(f"{name}: /preprocess/{key}", p[key], f["preprocess/" + key][()])
+            same_array(f"{name}: /preprocess/axes", p["axes"], f["preprocess/axes"][()].ravel())
+        else:
+            check(f"{name}: no preprocess", "preprocess" not in got)
+        same_array(f"{name}: input centres", got["input"]["centres"], f["input/centres"][()])
+        same_array(f"{name}: dropped non-finite rows", got["input"]["dropped_nonfinite_rows"],
+                   f["input/dropped_nonfinite_rows"][()].astype(np.int64))
+        check(f"{name}: no extras", got["extras"] == [], repr(got["extras"]))
+
+        # Version 2 written from it: the documented types, every value the same.
+        v2 = os.path.join(tmp, "v2-" + name)
+        probe("copy-map", v1, v2)
+        with h5py.File(v2, "r") as h:
+            check(f"{name} as v2: format_version 2", int(h.attrs["format_version"]) == 2)
+            seen1, seen2 = set(), set()
+            f.visit(seen1.add)
+            h.visit(seen2.add)
+            moved = {"graph/bridges"} if "graph/bridges" in f else set()
+            added = {"graph/bridge_rows", "graph/bridge_lengths"} if moved else set()
+            check(f"{name} as v2: the same datasets but the bridges", seen2 == (seen1 - moved) | added,
+                  repr(sorted(seen1 ^ seen2)))
+            for path in sorted(seen1 & seen2):
+                if not isinstance(f[path], h5py.Dataset):
+                    continue
+                ids = path in ID_DATASETS or path.endswith("/scored_rows")
+                want_type = np.int64 if ids else f[path].dtype
+                check(f"{name} as v2: /{path} type {np.dtype(want_type)}",
+                      h[path].dtype == want_type, str(h[path].dtype))
+                check(f"{name} as v2: /{path} values", np.array_equal(
+                    h[path][()].astype(np.float64) if ids else h[path][()], f[path][()]))
+                check(f"{name} as v2: /{path} attributes", attrs_of(h[path]) == attrs_of(f[path]),
+                      repr(attrs_of(h[path])))
+            if moved:
+                same_array(f"{name} as v2: bridge rows", h["graph/bridge_rows"][()],
+                           f["graph/bridges"][()][:, :2].astype(np.int64))
+                same_array(f"{name} as v2: bridge lengths", h["graph/bridge_lengths"][()],
+                           f["graph/bridges"][()][:, 2])
+            root1, root2 = attrs_of(f), attrs_of(h)
+            stamp = {"format_version", "program_version"}
+            check(f"{name} as v2: root attributes kept",
+                  {k: v for k, v in root1.items() if k not in stamp}
+                  == {k: v for k, v in root2.items() if k not in stamp})
 
 
 def check_edges(tmp):
@@ -313,6 +452,8 @@ def main():
     with tempfile.TemporaryDirectory(prefix="unfurl-map-check-") as tmp:
         check_written_map(tmp)
         check_read_map(tmp)
+        check_v1_fixture(tmp, "v1-dropped.h5")
+        check_v1_fixture(tmp, "v1-bridged.h5")
         check_edges(tmp)
         check_distances(tmp)
         check_csv(tmp)

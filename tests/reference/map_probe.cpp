@@ -1,6 +1,7 @@
 // Exposes the io/ file layer to tests/reference/map_file_check.py:
 //   map_probe write-map OUT [--geodesic]     a map with the synthetic contents below
-//   map_probe read-map IN [--geodesic]       the map as JSON on stdout
+//   map_probe read-map IN [--geodesic]       the map as JSON on stdout (every field)
+//   map_probe copy-map IN OUT                read a map in full (any version), write it
 //   map_probe read-edges IN [--table D] [--nodes N]
 //   map_probe read-distances IN [--missing V]
 //   map_probe write-csv OUT.csv OUT.raw      random float32 coordinates as CSV, plus the
@@ -17,6 +18,7 @@
 #include <vector>
 
 #include "engine/error.hpp"
+#include "engine/preprocess.hpp"
 #include "engine/random.hpp"
 #include "io/csv_writer.hpp"
 #include "io/graph_input.hpp"
@@ -59,6 +61,31 @@ unfurl::io::MapContents synthetic_map(bool geodesic) {
                       {2},
                       {{"k", {5, 10}}, {"method", "exact"}, {"sample_size", 37}}});
   c.extras.push_back({"/graph/mean_degree", {4.5}, {}, {{"k", 4}}});
+  // The record's groups, with ids beyond float64's whole numbers (2^53 + 1): int64 keeps them.
+  const std::int64_t huge = (std::int64_t{1} << 53) + 1;
+  unfurl::io::MapGraphRecord graph;
+  graph.degree = {{4, 6, 9}};
+  graph.edge_length = {{0.5, 0.75, 1.0, 1.25, 2.0}};
+  graph.component_sizes = {37, 2};
+  graph.dropped_rows = {huge, 5};
+  graph.bridges = {{3, huge, 2.5}};
+  c.graph = graph;
+  unfurl::io::MapScoreRecord s{.k = 6,
+                               .trustworthiness = 0.875,
+                               .continuity = 0.75,
+                               .knn_preservation = 0.5,
+                               .trustworthiness_95 = {0.8, 0.9},
+                               .continuity_95 = {0.7, 0.8},
+                               .knn_preservation_95 = {0.4, 0.6},
+                               .method = "sampled",
+                               .sample_size = 3,
+                               .interval_method = "bootstrap",
+                               .scored_rows = {1, 4, 36},
+                               .trustworthiness_terms = {0.25, 0.5, 0.125},
+                               .continuity_terms = {0.0, 0.375, 1.0}};
+  c.quality.by_k.push_back(s);
+  c.input.centres = std::vector<double>{1.5, 2.5, -0.5};
+  c.input.dropped_nonfinite_rows = {huge};
   c.attributes = {{"seed", 42},
                   {"parameters", {{"k", 8}, {"pick", "maxmin"}, {"radius", 0.75}}},
                   {"input",
@@ -82,6 +109,60 @@ json map_json(const unfurl::io::MapContents& c) {
     out["geodesic"] = {
         {"rows", g.rows}, {"cols", g.cols}, {"sources", g.sources}, {"values", g.values}};
   }
+  if (c.graph) {
+    const auto& g = *c.graph;
+    json bridges = json::array();
+    for (const auto& b : g.bridges) bridges.push_back({b.from_row, b.to_row, b.length});
+    out["graph"] = {{"component_sizes", g.component_sizes},
+                    {"dropped_rows", g.dropped_rows},
+                    {"bridges", bridges}};
+    if (g.degree) out["graph"]["degree"] = *g.degree;
+    if (g.edge_length) out["graph"]["edge_length"] = *g.edge_length;
+  }
+  json by_k = json::array();
+  for (const auto& s : c.quality.by_k)
+    by_k.push_back({{"k", s.k},
+                    {"trustworthiness", s.trustworthiness},
+                    {"continuity", s.continuity},
+                    {"knn_preservation", s.knn_preservation},
+                    {"trustworthiness_95", s.trustworthiness_95},
+                    {"continuity_95", s.continuity_95},
+                    {"knn_preservation_95", s.knn_preservation_95},
+                    {"method", s.method},
+                    {"sample_size", s.sample_size},
+                    {"interval_method", s.interval_method},
+                    {"scored_rows", s.scored_rows},
+                    {"trustworthiness_terms", s.trustworthiness_terms},
+                    {"continuity_terms", s.continuity_terms}});
+  out["quality"] = {{"by_k", by_k}};
+  if (const auto& r = c.quality.residual)
+    out["quality"]["residual_variance"] = {{"by_dims", r->by_dims},
+                                           {"standard_error", r->standard_error},
+                                           {"pairs", r->pairs},
+                                           {"sampled", r->sampled},
+                                           {"drawn", r->drawn}};
+  if (const auto& d = c.quality.dimension)
+    out["quality"]["intrinsic_dimension"] = {
+        {"estimate", d->estimate},   {"k", d->k},           {"method", d->method},
+        {"averaging", d->averaging}, {"points", d->points}, {"points_used", d->points_used}};
+  if (const auto& a = c.quality.axis_share)
+    out["quality"]["axis_share"] = {{"share", a->share},
+                                    {"standard_error", a->standard_error},
+                                    {"basis", a->basis},
+                                    {"noise_axes", a->noise_axes}};
+  if (const auto& p = c.preprocess)
+    out["preprocess"] = {{"scale", unfurl::scale_name(p->scale)},
+                         {"metric", unfurl::metric_name(p->metric)},
+                         {"components", p->components},
+                         {"variance_kept", p->variance_kept},
+                         {"centre", p->centre},
+                         {"spread", p->spread},
+                         {"pca_mean", p->pca_mean},
+                         {"axes", p->axes},
+                         {"variances", p->variances}};
+  out["input"] = {{"dropped_nonfinite_rows", c.input.dropped_nonfinite_rows}};
+  if (c.input.centres) out["input"]["centres"] = *c.input.centres;
+  out["spectrum_attributes"] = c.spectrum_attributes;
   out["extras"] = json::array();
   for (const auto& e : c.extras)
     out["extras"].push_back(
@@ -118,6 +199,9 @@ int run(int argc, char** argv) {
   } else if (command == "read-map") {
     std::cout << map_json(unfurl::io::read_map(file, flag(argc, argv, "--geodesic"))).dump()
               << "\n";
+  } else if (command == "copy-map") {
+    if (argc < 4) throw unfurl::OptionError("usage: map_probe copy-map IN OUT");
+    unfurl::io::write_map(argv[3], unfurl::io::read_map(file, true));
   } else if (command == "read-edges") {
     unfurl::io::EdgeListOptions o;
     o.table_dataset = option(argc, argv, "--table", "");
