@@ -86,13 +86,13 @@ fi
 import csv, math, sys
 import numpy as np
 rows = list(csv.DictReader(open(sys.argv[1])))
-short = lambda v: f"{float(v):.5g}" if v else "not scored"
+short = lambda v: f"{float(v):.6f}" if v else "not scored"
 print("| data | N | wall s | CPU s | peak MiB | graph | geodesics | spectral | scores | T(12) | residual variance | load before / after |")
 print("|---|---|---|---|---|---|---|---|---|---|---|---|")
 for r in rows:
     print(f"| {r['dataset']} | {int(r['n']):,} | {r['wall_s']} | {r['cpu_s']} | {r['peak_mib']} | "
           f"{r['graph_s']} | {r['geodesics_s']} | {r['spectral_s']} | {r['quality_s']} | "
-          f"{short(r['trustworthiness_12'])} | {short(r['residual_variance'])} | {r['load_before']} / {r['load_after']} |")
+          f"{short(r['trustworthiness_12'])} | {float(r['residual_variance']):.3g} | {r['load_before']} / {r['load_after']} |")
 roll = [r for r in rows if r["dataset"] == "swiss-roll" and int(r["n"]) >= 100000]
 if len(roll) >= 2:
     n = np.log([float(r["n"]) for r in roll])
