@@ -60,17 +60,20 @@ std::size_t padded(std::size_t k) {
   return (k + kLanes - 1) / kLanes * kLanes;
 }
 
-// Rows i .. i + R - 1 (R = 1 or 2) over the entries j in [from, to) for all lanes: per row
-// dot[l] += q_j x[j][l], and column[j][l] += q_j x[i][l] row after row. Two rows at a time
-// share each load and store of the column sums and of x[j]; every sum still takes its terms in
-// the same order (j order for a dot product, row order for a column sum), whatever the
-// tiling, the pairing or the thread count. Vector instructions run lane by lane without fused
-// multiply-adds, so the wider clone gives the same bits as the baseline one.
+// Rows i .. i + R - 1 (R = 1 to kRows) over the entries j in [from, to) for all lanes: per
+// row dot[l] += q_j x[j][l], and column[j][l] += q_j x[i][l] row after row. Several rows at a
+// time share each load and store of the column sums and of x[j]; every sum still takes its
+// terms in the same order (j order for a dot product, row order for a column sum), whatever
+// the tiling, the grouping or the thread count. Vector instructions run lane by lane without
+// fused multiply-adds (none of the clones' targets enables FMA), so every clone gives the
+// same bits as the baseline one; the AVX-512 clone holds four rows' sums in registers.
+constexpr std::size_t kRows = 4;
+
 template <std::size_t R>
-__attribute__((target_clones("avx2", "default"))) void sum_rows_lanes(
-    const float* const* rows, const double* __restrict x, const double* __restrict xi,
-    double* __restrict column, double* __restrict dot, double* __restrict q, std::size_t from,
-    std::size_t to, std::size_t lanes) {
+__attribute__((target_clones("avx512f", "avx2", "default"), optimize("fp-contract=off"))) void
+sum_rows_lanes(const float* const* rows, const double* __restrict x, const double* __restrict xi,
+               double* __restrict column, double* __restrict dot, double* __restrict q,
+               std::size_t from, std::size_t to, std::size_t lanes) {
   const std::size_t span = to - from;
   for (std::size_t r = 0; r < R; ++r)
     for (std::size_t j = 0; j < span; ++j) {
@@ -98,6 +101,22 @@ __attribute__((target_clones("avx2", "default"))) void sum_rows_lanes(
     }
     for (std::size_t r = 0; r < R; ++r)
       for (std::size_t l = 0; l < kLanes; ++l) dot[r * lanes + g + l] = acc[r][l];
+  }
+}
+
+// The first `active` rows of a group (consecutive rows, their x and dot rows `lanes` apart).
+void sum_active_rows(std::size_t active, const float* const* rows, const double* x,
+                     const double* xi, double* column, double* dot, double* q, std::size_t from,
+                     std::size_t to, std::size_t lanes) {
+  switch (active) {
+    case 1:
+      return sum_rows_lanes<1>(rows, x, xi, column, dot, q, from, to, lanes);
+    case 2:
+      return sum_rows_lanes<2>(rows, x, xi, column, dot, q, from, to, lanes);
+    case 3:
+      return sum_rows_lanes<3>(rows, x, xi, column, dot, q, from, to, lanes);
+    default:
+      return sum_rows_lanes<kRows>(rows, x, xi, column, dot, q, from, to, lanes);
   }
 }
 
@@ -175,28 +194,30 @@ void CentredSquaredOperator::squared_product_lanes(const double* x, double* y,
     for (std::size_t l = 0; l < lanes; ++l) xt[j * lanes + l] = l < k ? x[l * n + j] : 0.0;
   std::fill(own_.begin(), own_.begin() + static_cast<std::ptrdiff_t>(width), 0.0);
   over_blocks(count_blocks, width, [&](std::size_t first, std::size_t last, double* column) {
-    double q[2 * kTile];
+    double q[kRows * kTile];
     // Tiles of columns outside, the block's rows inside: a row's dot products still take
     // their terms in column order, and a column sum its terms in row order.
     for (std::size_t tile = triangle_ ? first + 1 : 0; tile < n; tile += kTile) {
       const std::size_t end = std::min(n, tile + kTile);
       // The triangle: entries j > i, which feed (S x)_i and, through the column sums, (S x)_j.
       auto start = [&](std::size_t i) { return triangle_ ? std::max(tile, i + 1) : tile; };
-      for (std::size_t i = first; i < last && start(i) < end; i += 2) {
-        const float* rows[2] = {d_.row(i), i + 1 < last ? d_.row(i + 1) : nullptr};
-        const double* xi = xt + i * lanes;
-        double* dot = own_.data() + i * lanes;
+      for (std::size_t i = first; i < last && start(i) < end; i += kRows) {
+        const float* rows[kRows];
+        std::size_t group = 0;  // rows of the group that have entries in this tile
+        while (group < kRows && i + group < last && start(i + group) < end) {
+          rows[group] = d_.row(i + group);
+          ++group;
+        }
+        // Row i alone up to row i + 1's first entry, rows i and i + 1 up to row i + 2's, ...
+        // (in the triangle row i + r starts one entry after row i + r - 1).
         std::size_t from = start(i);
-        if (rows[1] == nullptr || start(i + 1) >= end) {
-          sum_rows_lanes<1>(rows, xt, xi, column, dot, q, from, end, lanes);
-          continue;
+        for (std::size_t active = 1; active <= group; ++active) {
+          const std::size_t to = active < group ? start(i + active) : end;
+          if (from < to)
+            sum_active_rows(active, rows, xt, xt + i * lanes, column, own_.data() + i * lanes, q,
+                            from, to, lanes);
+          from = std::max(from, to);
         }
-        // Row i alone over the entries before row i + 1's first (j = i + 1 in the triangle).
-        if (from < start(i + 1)) {
-          sum_rows_lanes<1>(rows, xt, xi, column, dot, q, from, start(i + 1), lanes);
-          from = start(i + 1);
-        }
-        sum_rows_lanes<2>(rows, xt, xi, column, dot, q, from, end, lanes);
       }
     }
   });

@@ -9,6 +9,7 @@
 
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/error.hpp"
+#include "engine/parallel.hpp"
 
 namespace unfurl::detail {
 namespace {
@@ -45,17 +46,103 @@ struct ExactL2 {
 template <int Dim>
 using Tree = nanoflann::KDTreeSingleIndexAdaptor<ExactL2<Dim>, PointSetAdaptor, Dim, NodeId>;
 
-constexpr std::size_t kLeafSize = 16;  // common practice, no source: 10-20 balances depth/scan
 constexpr std::size_t kQueryChunk = 512;
+
+// nanoflann 1.4 builds its tree on one thread (10M points: most of the graph stage). Here the
+// top levels are split with nanoflann's own rule (middleSplit_) and the subtrees below are
+// built by its own divideTree as OpenMP tasks, each in a helper index (nanoflann's node pool
+// is not shared between threads; the helpers own their nodes for the tree's lifetime). A
+// split depends only on the points of its range and the range's box, so the tree, its leaf
+// order and every search equal nanoflann's serial build, whatever the thread count.
+constexpr std::size_t kParallelLevels = 4;      // up to 16 subtrees: load balance on 2 to 8 threads
+constexpr std::size_t kParallelMinimum = 4096;  // below this, one nanoflann build on one thread
 
 template <int Dim>
 struct BuiltTree {
+  using Index = Tree<Dim>;
+  using Box = typename Index::BoundingBox;
+  using Node = typename Index::Node;
+  using Offset = typename Index::Offset;
+
   PointSetAdaptor adaptor;
-  Tree<Dim> tree;
-  explicit BuiltTree(const PointSet& p)
-      : adaptor{p},
-        tree(static_cast<int>(p.cols), adaptor,
-             nanoflann::KDTreeSingleIndexAdaptorParams(kLeafSize)) {}
+  Index tree;
+  std::vector<std::unique_ptr<Index>> helpers;
+
+  explicit BuiltTree(const PointSet& p) : adaptor{p}, tree(make(p)) {
+    if (p.rows < kParallelMinimum) {
+      tree.buildIndex();
+      return;
+    }
+    tree.init_vind();
+    tree.computeBoundingBox(tree.root_bbox);
+    ExceptionCollector errors;
+    Node* root = nullptr;
+#pragma omp parallel
+#pragma omp single
+    errors.run([&] { root = divide(0, p.rows, tree.root_bbox, kParallelLevels, errors); });
+    errors.rethrow();
+    tree.root_node = root;
+    tree.m_size_at_index_build = p.rows;
+  }
+
+ private:
+  Index make(const PointSet& p) const {
+    return Index(
+        static_cast<int>(p.cols), adaptor,
+        nanoflann::KDTreeSingleIndexAdaptorParams(
+            kTreeLeafSize, p.rows < kParallelMinimum
+                               ? nanoflann::KDTreeSingleIndexAdaptorFlags::None
+                               : nanoflann::KDTreeSingleIndexAdaptorFlags::SkipInitialBuildIndex));
+  }
+
+  // nanoflann's divideTree for the top `levels` levels, the subtrees as tasks.
+  Node* divide(Offset left, Offset right, Box& box, std::size_t levels,
+               ExceptionCollector& errors) {
+    if (levels == 0 || right - left <= kParallelMinimum) return subtree(left, right, box);
+    Offset at = 0;
+    typename Index::Dimension feature = 0;
+    typename Index::DistanceType cut = 0;
+    tree.middleSplit_(tree, left, right - left, at, feature, cut, box);
+    Node* node = nullptr;
+#pragma omp critical(unfurl_tree_pool)
+    node = tree.pool.template allocate<Node>();
+    node->node_type.sub.divfeat = feature;
+    Box low(box), high(box);
+    low[feature].high = static_cast<float>(cut);
+    high[feature].low = static_cast<float>(cut);
+#pragma omp task default(shared)
+    errors.run([&] { node->child1 = divide(left, left + at, low, levels - 1, errors); });
+    node->child2 = divide(left + at, right, high, levels - 1, errors);
+#pragma omp taskwait
+    if (errors.failed()) return node;
+    node->node_type.sub.divlow = low[feature].high;
+    node->node_type.sub.divhigh = high[feature].low;
+    for (std::size_t d = 0; d < box.size(); ++d) {
+      box[d].low = std::min(low[d].low, high[d].low);
+      box[d].high = std::max(low[d].high, high[d].high);
+    }
+    return node;
+  }
+
+  // nanoflann's own serial build of vAcc[left, right) in a helper index; its offsets are
+  // absolute, so the helper holds an index array as long as `right` and gives its range back.
+  Node* subtree(Offset left, Offset right, Box& box) {
+    auto helper = std::make_unique<Index>(
+        tree.dim, adaptor,
+        nanoflann::KDTreeSingleIndexAdaptorParams(
+            kTreeLeafSize, nanoflann::KDTreeSingleIndexAdaptorFlags::SkipInitialBuildIndex));
+    helper->vAcc.resize(right);
+    std::copy(tree.vAcc.begin() + static_cast<std::ptrdiff_t>(left),
+              tree.vAcc.begin() + static_cast<std::ptrdiff_t>(right),
+              helper->vAcc.begin() + static_cast<std::ptrdiff_t>(left));
+    Node* node = helper->divideTree(*helper, left, right, box);
+    std::copy(helper->vAcc.begin() + static_cast<std::ptrdiff_t>(left), helper->vAcc.end(),
+              tree.vAcc.begin() + static_cast<std::ptrdiff_t>(left));
+    helper->vAcc = {};
+#pragma omp critical(unfurl_tree_pool)
+    helpers.push_back(std::move(helper));
+    return node;
+  }
 };
 
 // All rows with exact squared distance <= squared of `query`, sorted by closer().

@@ -70,6 +70,9 @@ RadiusLists radius_tree(const PointSet& data, const PointSet& queries, double ra
 RadiusLists radius_scan(const PointSet& data, const PointSet& queries, double radius,
                         bool exclude_self, std::size_t block_rows, StopToken stop);
 
+// Most points in a k-d tree leaf (common practice, no source: 10-20 balances depth and scan).
+inline constexpr std::size_t kTreeLeafSize = 16;
+
 // The rows in the leaf order of a k-d tree over them (nearby rows end up adjacent).
 std::vector<NodeId> tree_leaf_order(const PointSet& points);
 

@@ -6,6 +6,7 @@
 #include <atomic>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <nanoflann.hpp>
 #include <set>
 #include <stdexcept>
 #include <tuple>
@@ -333,6 +334,44 @@ TEST_CASE("results do not depend on the thread count", "[neighbours]") {
   CHECK(one.graph.lengths == many.graph.lengths);
   CHECK(scan_one.index == scan_many.index);
   CHECK(scan_one.distance == scan_many.distance);
+}
+
+namespace {
+// nanoflann's dataset contract over a PointSet, for its own serial build below.
+struct Cloud {
+  const PointSet& points;
+  std::size_t kdtree_get_point_count() const { return points.rows; }
+  float kdtree_get_pt(NodeId i, std::size_t d) const { return points.row(i)[d]; }
+  template <class Box>
+  bool kdtree_get_bbox(Box&) const {
+    return false;
+  }
+};
+}  // namespace
+
+TEST_CASE("the k-d tree built in parallel is nanoflann's serial tree", "[neighbours]") {
+  // Outside reference: nanoflann 1.4's own single-threaded buildIndex (Debian's
+  // libnanoflann-dev) over the same points and leaf size. The parallel build splits the top
+  // levels itself and hands the subtrees to nanoflann; the leaf order (every point's place
+  // in the tree) must be the same on 1 and on 2 threads.
+  for (const std::size_t d : {std::size_t{3}, std::size_t{5}}) {
+    const auto pts = random_points(30000, d, 11 + d, false);
+    const Cloud cloud{pts};
+    using Serial =
+        nanoflann::KDTreeSingleIndexAdaptor<nanoflann::L2_Simple_Adaptor<float, Cloud, double>,
+                                            Cloud, -1, NodeId>;
+    const Serial serial(static_cast<int>(d), cloud,
+                        nanoflann::KDTreeSingleIndexAdaptorParams(detail::kTreeLeafSize));
+    const std::vector<NodeId> want(serial.vAcc.begin(), serial.vAcc.end());
+    const int threads = omp_get_max_threads();
+    omp_set_num_threads(1);
+    const auto one = detail::tree_leaf_order(pts);
+    omp_set_num_threads(2);
+    const auto two = detail::tree_leaf_order(pts);
+    omp_set_num_threads(threads);
+    CHECK(one == want);
+    CHECK(two == want);
+  }
 }
 
 TEST_CASE("an exception inside a parallel region reaches the caller", "[neighbours][parallel]") {
