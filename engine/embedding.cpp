@@ -33,6 +33,21 @@ DistanceRows select_rows(const DistanceRows& all, const std::vector<NodeId>& pic
   return out;
 }
 
+// The landmark count on `nodes` nodes: at least dims + 1, which landmark MDS needs.
+std::size_t landmark_count(const EmbedOptions& options, std::size_t nodes) {
+  const std::size_t dims = options.spectral.dims;
+  if (dims < 1) throw OptionError("SpectralOptions.dims", "must be at least 1, got 0");
+  const std::size_t l = options.landmarks.resolved_count(nodes, dims);
+  if (l < dims + 1)
+    throw OptionError("LandmarkOptions.count",
+                      "must be at least SpectralOptions.dims + 1 = " + std::to_string(dims + 1) +
+                          ", got " + std::to_string(l) +
+                          (std::holds_alternative<AutomaticLandmarks>(options.landmarks.count)
+                               ? " (the graph has only " + std::to_string(nodes) + " nodes)"
+                               : std::string()));
+  return l;
+}
+
 // Everything after the graph: connect, geodesics, spectral, and the way back to input rows.
 // node_of_point: input point -> graph node; point_of_node: graph node -> representative.
 EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeId>& node_of_point,
@@ -78,14 +93,14 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
   SpectralOptions spectral = options.spectral;
   SpectralResult map;
   DistanceRows rows_for_output;
-  if (options.exact) {
-    GeodesicSummary gs;
-    DistanceRows all = all_geodesic_rows(g, stop, &gs);
+  if (options.exact()) {
+    GeodesicResult every = geodesic_rows(g, {EveryNode{}}, stop);
+    DistanceRows all = std::move(every.rows);
     result.seconds.geodesics = watch.seconds();
     result.landmarks.landmarks = all.rows;
     result.landmarks.nodes = all.cols;
-    result.landmarks.seconds = gs.seconds;
-    result.landmarks.threads = gs.threads;
+    result.landmarks.seconds = every.summary.seconds;
+    result.landmarks.threads = every.summary.threads;
     watch = Stopwatch();
     map = exact_mds(all, spectral, stop);
     if (options.keep_geodesics) {
@@ -99,7 +114,7 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
     }
   } else {
     LandmarkOptions lo = options.landmarks;
-    lo.dims = spectral.dims;
+    lo.count = LandmarkCount{landmark_count(options, g.nodes())};
     lo.draw_order = order.new_of_old;  // the seed picks the same nodes in any node order
     LandmarkResult lr = pick_landmarks(g, lo, stop);
     result.seconds.geodesics = watch.seconds();
@@ -164,7 +179,7 @@ EmbedResult embed_connected(const NeighbourGraph& graph, const std::vector<NodeI
     for (std::size_t r = 0; r < geo.cols; ++r) to[r] = from[kept_of_point[result.rows[r]]];
   }
   rows_for_output = DistanceRows{};
-  if (options.exact && !options.keep_geodesics) {
+  if (options.exact() && !options.keep_geodesics) {
     // landmark_rows lists every node in exact mode, in node order.
     result.landmark_rows.clear();
     for (NodeId k = 0; k < g.nodes(); ++k)
@@ -181,13 +196,9 @@ void EmbedOptions::validate(std::size_t points) const {
     throw DataError("the input has " + std::to_string(points) +
                     " points; an embedding needs at least 3");
   components.validate();
-  if (!exact) {
-    LandmarkOptions lo = landmarks;  // the stage checks again against the graph's nodes
-    lo.dims = spectral.dims;
-    lo.validate(points);
-  }
-  if (exact && landmarks.count != 0)
-    throw OptionError("--landmarks: give a count or 'all', not both");
+  if (exact()) return;
+  landmark_count(*this, points);  // the stage checks again against the graph's nodes
+  landmarks.validate(points);
 }
 
 EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop) {
@@ -212,7 +223,8 @@ EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options
   const Stopwatch total;
   options.validate(graph.nodes());
   if (options.components.policy == ComponentPolicy::bridge)
-    throw OptionError("--disconnected bridge: needs points; a given graph has none (use largest)");
+    throw OptionError("ComponentOptions.policy",
+                      "bridge needs points; a given graph has none (use largest)");
   std::vector<NodeId> node_of_point(graph.nodes());
   std::iota(node_of_point.begin(), node_of_point.end(), NodeId{0});
   std::vector<std::size_t> point_of_node(graph.nodes());

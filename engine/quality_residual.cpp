@@ -227,7 +227,7 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
   for (std::size_t first = 0; first < sources.size(); first += kBatch) {
     const std::span<const NodeId> batch(sources.data() + first,
                                         std::min(kBatch, sources.size() - first));
-    append_row_moments(geodesic_rows(graph, batch, stop), coords, rows, stop);
+    append_row_moments(geodesic_rows(graph, {batch}, stop).rows, coords, rows, stop);
   }
   ResidualVarianceCurve curve = finish(merged(rows, coords.cols), coords.cols);
   curve.sampled = sources.size() < graph.nodes();
@@ -280,9 +280,15 @@ ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, con
   return curve;
 }
 
-std::vector<PairDistance> sample_pair_distances(const PointSet& points, std::size_t count,
-                                                std::uint64_t seed) {
-  if (count == 0) throw OptionError("--pairs: must be at least 1, got 0");
+void PairSampleOptions::validate() const {
+  if (count < 1) throw OptionError("PairSampleOptions.count", "must be at least 1, got 0");
+}
+
+std::vector<PairDistance> sample_pair_distances(const PointSet& points,
+                                                const PairSampleOptions& options) {
+  options.validate();
+  const std::size_t count = options.count;
+  const std::uint64_t seed = options.seed;
   detail::require_finite(points, "residual variance points");
   if (points.rows < 2) throw DataError("residual variance: fewer than 2 points to pair");
   Random rng(seed);
