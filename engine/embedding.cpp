@@ -196,6 +196,7 @@ void EmbedOptions::validate(std::size_t points) const {
     throw DataError("the input has " + std::to_string(points) +
                     " points; an embedding needs at least 3");
   components.validate();
+  if (residual) residual->validate();
   if (exact()) return;
   landmark_count(*this, points);  // the stage checks again against the graph's nodes
   landmarks.validate(points);

@@ -189,6 +189,10 @@ ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const Poin
   return curve;
 }
 
+void ResidualOptions::validate() const {
+  if (sources < 1) throw OptionError("ResidualOptions.sources", "must be at least 1, got 0");
+}
+
 std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& options,
                                      std::span<const NodeId> draw_order, std::string& drawn) {
   std::vector<NodeId> sources;
@@ -214,6 +218,7 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
                                               const ResidualOptions& options,
                                               std::span<const NodeId> draw_order, StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
+  options.validate();
   detail::require_finite(coords, "residual variance map");
   if (coords.rows != graph.nodes())
     throw InternalError("residual variance: a map of " + std::to_string(coords.rows) +

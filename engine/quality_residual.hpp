@@ -37,6 +37,8 @@ struct ResidualOptions {
   std::size_t all_pairs_limit = 2000;  // up to this many nodes: every pair
   std::size_t sources = 256;           // beyond: sampled source rows
   std::uint64_t seed = 1;              // of the source draw
+  // Throws OptionError naming the field: sources < 1 (no row to pair with).
+  void validate() const;
 };
 
 // Over the rows of geodesic_rows from the sources ResidualOptions picks on `graph`; coords

@@ -164,6 +164,9 @@ TEST_CASE("quality, dimension, linear and preprocessing options name their field
   names_field("DimensionOptions.k", [&] { intrinsic_dimension(roll.points, {.k = 1}); });
   names_field("DimensionOptions.k",
               [&] { levina_bickel(std::vector<float>(40, 1.0f), 40, {.k = 1}); });
+  EmbedOptions residual;
+  residual.residual = ResidualOptions{.sources = 0};
+  names_field("ResidualOptions.sources", [&] { residual.validate(40); });
   names_field("PairSampleOptions.count", [&] { sample_pair_distances(roll.points, {.count = 0}); });
 
   AssessOptions pairs;
