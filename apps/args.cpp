@@ -38,25 +38,25 @@ io::PointReadOptions to_read_options(const PointInputArgs& a) {
 }
 
 void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
-  // Whether --k and --radius were given is recorded: 0 or a negative radius must be refused,
-  // not read as "no radius", and --k beside --radius must not be dropped silently.
-  cmd->add_option_function<std::size_t>(
-         "--k",
-         [&a](const std::size_t& k) {
-           a.k = k;
-           a.k_given = true;
-         },
-         "Neighbours per point of the k-nearest graph")
-      ->transform(whole_number(0, max_count))
-      ->default_str(std::to_string(a.k));
+  // Each fills the one neighbourhood choice; CLI11 refuses the two together.
+  CLI::Option* k = cmd->add_option_function<std::size_t>(
+                          "--k",
+                          [&a](const std::size_t& k) {
+                            a.neighbourhood = NearestK{k};
+                            a.neighbourhood_given = true;
+                          },
+                          "Neighbours per point of the k-nearest graph")
+                       ->transform(whole_number(0, max_count))
+                       ->default_str(std::to_string(NearestK{}.k));
   cmd->add_option_function<double>(
          "--radius",
          [&a](const double& r) {
-           a.radius = r;
-           a.radius_given = true;
+           a.neighbourhood = WithinRadius{r};
+           a.neighbourhood_given = true;
          },
          "Join points closer than or at this Euclidean distance instead (data units)")
-      ->check(non_negative_number());  // 0 is refused below, where it is known to be given
+      ->check(non_negative_number(true))
+      ->excludes(k);
   cmd->add_flag("--mutual", a.mutual, "Keep an edge only when both points list each other");
   cmd->add_option("--search", a.search, "Exact search back end")
       ->check(CLI::IsMember({"automatic", "tree", "scan"}))
@@ -73,21 +73,22 @@ void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
 
 GraphOptions to_graph_options(const GraphArgs& a) {
   GraphOptions o;
-  if (a.radius_given) {
-    if (!(a.radius > 0) || !std::isfinite(a.radius))
-      throw OptionError("--radius: must be a positive finite number, got " +
-                        fmt::format("{}", a.radius));
-    o.radius = a.radius;
-    o.k = a.k_given ? a.k : 0;  // both given: GraphOptions::validate refuses the pair
-  } else {
-    o.radius = 0;
-    o.k = a.k;
-  }
+  o.neighbourhood = a.neighbourhood;
   o.mutual = a.mutual;
   o.search = from_name(a.search, {Search::automatic, Search::tree, Search::scan}, search_name,
                        Search::automatic);
   o.keep_duplicates = a.keep_duplicates;
   return o;
+}
+
+std::size_t recorded_k(const Neighbourhood& n) {
+  const auto* nearest = std::get_if<NearestK>(&n);
+  return nearest ? nearest->k : 0;
+}
+
+double recorded_radius(const Neighbourhood& n) {
+  const auto* within = std::get_if<WithinRadius>(&n);
+  return within ? within->radius : 0.0;
 }
 
 ComponentOptions to_component_options(const GraphArgs& a) {
@@ -98,14 +99,37 @@ ComponentOptions to_component_options(const GraphArgs& a) {
   return o;
 }
 
+namespace {
+
+// --landmarks text: a positive count, "auto" or "all"; nothing when it is none of these.
+std::optional<LandmarkChoice> landmark_choice(const std::string& text) {
+  if (text == "auto") return AutomaticLandmarks{};
+  if (text == "all") return AllLandmarks{};
+  if (text.empty() || text.size() > 19 || text.find_first_not_of("0123456789") != text.npos)
+    return std::nullopt;
+  const std::size_t count = std::stoull(text);
+  if (count == 0) return std::nullopt;
+  return LandmarkCount{count};
+}
+
+}  // namespace
+
 void add_map_options(CLI::App* cmd, MapArgs& a) {
   cmd->add_option("--dims", a.dims, "Dimensions of the map")
       ->transform(whole_number(0, max_count))
       ->capture_default_str();
-  cmd->add_option("--landmarks", a.landmarks,
-                  "Landmark count, 'auto' (min(N, max(dims + 1, 256))) or 'all' (exact mode: "
-                  "N x N geodesics)")
-      ->capture_default_str();
+  cmd->add_option_function<std::string>(
+         "--landmarks", [&a](const std::string& text) { a.landmarks = *landmark_choice(text); },
+         "Landmark count, 'auto' (min(N, max(dims + 1, 256))) or 'all' (exact mode: "
+         "N x N geodesics)")
+      ->check(CLI::Validator(
+          [](std::string& text) {
+            return landmark_choice(text)
+                       ? std::string()
+                       : "expected a positive count, 'auto' or 'all', got '" + text + "'";
+          },
+          "COUNT|auto|all"))
+      ->default_str("auto");
   cmd->add_option("--pick", a.pick, "How landmarks are chosen")
       ->check(CLI::IsMember({"maxmin", "random"}))
       ->capture_default_str();
@@ -120,29 +144,14 @@ void add_map_options(CLI::App* cmd, MapArgs& a) {
 
 void apply_map_options(const MapArgs& a, std::uint64_t seed, EmbedOptions& o) {
   o.spectral.dims = a.dims;
-  o.landmarks.dims = a.dims;
+  o.landmarks.count = a.landmarks;
   o.landmarks.seed = seed;
   o.landmarks.pick = a.pick == "random" ? Pick::random : Pick::maxmin;
   o.keep_geodesics = a.keep_geodesics;
-  o.exact = a.landmarks == "all";
   o.order = a.node_order == "input"         ? NodeOrder::input
             : a.node_order == "bfs"         ? NodeOrder::bfs
             : a.node_order == "tree-leaves" ? NodeOrder::tree_leaves
                                             : NodeOrder::morton;
-  o.landmarks.count = 0;
-  if (a.landmarks != "all" && a.landmarks != "auto") {
-    std::size_t used = 0;
-    unsigned long long count = 0;
-    try {
-      count = std::stoull(a.landmarks, &used);
-    } catch (const std::exception&) {
-      used = 0;
-    }
-    if (used != a.landmarks.size() || a.landmarks[0] == '-' || count == 0)
-      throw OptionError("--landmarks: expected a positive count, 'auto' or 'all', got '" +
-                        a.landmarks + "'");
-    o.landmarks.count = count;
-  }
   if (a.dims < 1) throw OptionError("--dims: must be at least 1, got 0");
 }
 
@@ -172,7 +181,8 @@ AssessOptions to_assess_options(const ScoreArgs& a, std::uint64_t seed) {
 }
 
 void adapt_graph_k(const GraphArgs& a, std::size_t points, GraphOptions& o) {
-  if (!a.k_given && !a.radius_given && points >= 2) o.k = std::min(a.k, points - 1);
+  if (!a.neighbourhood_given && points >= 2)
+    o.neighbourhood = NearestK{std::min(NearestK{}.k, points - 1)};
 }
 
 void adapt_score_k(const ScoreArgs& a, std::size_t points, AssessOptions& o) {
@@ -180,14 +190,7 @@ void adapt_score_k(const ScoreArgs& a, std::size_t points, AssessOptions& o) {
 }
 
 void validate_score_options(const AssessOptions& o, std::size_t points) {
-  try {
-    o.validate(points);
-  } catch (const OptionError& e) {
-    // The engine names its field --k; on the command line it is --score-k.
-    const std::string message = e.what();
-    if (message.rfind("--k:", 0) == 0) throw OptionError("--score-k:" + message.substr(4));
-    throw;
-  }
+  o.validate(points);
 }
 
 namespace {
@@ -235,9 +238,9 @@ CLI::Validator byte_size() {
       "SIZE");
 }
 
-CLI::Validator non_negative_number() {
+CLI::Validator non_negative_number(bool positive) {
   return CLI::Validator(
-      [](std::string& text) {
+      [positive](std::string& text) {
         const char* begin = text.c_str();
         char* end = nullptr;
         errno = 0;
@@ -247,11 +250,13 @@ CLI::Validator non_negative_number() {
                                                text[0] == '.' || text[0] == '+');
         const bool hex = text.find_first_of("xX") != std::string::npos;
         if (!decimal || hex || end != begin + text.size() || errno == ERANGE ||
-            !std::isfinite(value) || value < 0)
-          return "expected a finite number of 0 or more, got '" + text + "'";
+            !std::isfinite(value) || value < 0 || (positive && value == 0))
+          return std::string(positive ? "expected a positive finite number"
+                                      : "expected a finite number of 0 or more") +
+                 ", got '" + text + "'";
         return std::string();
       },
-      "NUMBER >= 0");
+      positive ? "NUMBER > 0" : "NUMBER >= 0");
 }
 
 CLI::Validator whole_number(std::uint64_t min, std::uint64_t max) {

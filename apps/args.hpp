@@ -31,10 +31,8 @@ io::PointReadOptions to_read_options(const PointInputArgs& args);
 
 // The neighbour graph and what to do when it falls apart.
 struct GraphArgs {
-  std::size_t k = 10;
-  bool k_given = false;  // --k on the command line (refused together with --radius)
-  double radius = 0;
-  bool radius_given = false;  // --radius on the command line, whatever its value
+  Neighbourhood neighbourhood = NearestK{};  // --k K or --radius R (not both)
+  bool neighbourhood_given = false;          // either on the command line (else k adapts to N)
   bool mutual = false;
   std::string search = "automatic";
   bool keep_duplicates = false;
@@ -44,11 +42,14 @@ struct GraphArgs {
 void add_graph_options(CLI::App* cmd, GraphArgs& args, bool with_components = true);
 GraphOptions to_graph_options(const GraphArgs& args);
 ComponentOptions to_component_options(const GraphArgs& args);
+// k and radius as the map and graph files record them: 0 for the rule not chosen.
+std::size_t recorded_k(const Neighbourhood& neighbourhood);
+double recorded_radius(const Neighbourhood& neighbourhood);
 
 // Landmarks and the spectral stage.
 struct MapArgs {
   std::size_t dims = 2;
-  std::string landmarks = "auto";  // a count, "auto" or "all"
+  LandmarkChoice landmarks = AutomaticLandmarks{};  // --landmarks COUNT|auto|all
   std::string pick = "maxmin";
   bool keep_geodesics = false;
   std::string node_order = "morton";
@@ -66,11 +67,12 @@ struct ScoreArgs {
 void add_score_options(CLI::App* cmd, ScoreArgs& args);
 AssessOptions to_assess_options(const ScoreArgs& args, std::uint64_t seed);
 // Defaults that depend on the number of points N (README "Small inputs"), applied unless the
-// option was given: the graph's k becomes min(10, N - 1), the score k min(12, (N - 1) / 2).
+// option was given: the graph's k becomes min(10, N - 1) (unless --k or --radius was given),
+// the score k min(12, (N - 1) / 2).
 void adapt_graph_k(const GraphArgs& args, std::size_t points, GraphOptions& options);
 void adapt_score_k(const ScoreArgs& args, std::size_t points, AssessOptions& options);
-// Checks the score options against `points` points before any work is done, with the
-// command line's names (--score-k for the neighbourhood sizes). Throws OptionError.
+// Checks the score options against `points` points before any work is done. Throws
+// OptionError naming the field.
 void validate_score_options(const AssessOptions& options, std::size_t points);
 
 // The value among `values` whose engine name (`name_of`, e.g. search_name) is `text`;
@@ -89,8 +91,8 @@ std::uint64_t parse_bytes(const std::string& option, const std::string& text);
 CLI::Validator byte_size();
 
 // A CLI11 validator for a finite decimal number of 0 or more (NaN, infinities, negative
-// numbers and values beyond double range refused as typed).
-CLI::Validator non_negative_number();
+// numbers and values beyond double range refused as typed); positive: 0 refused as well.
+CLI::Validator non_negative_number(bool positive = false);
 
 // Every integer option goes through this CLI11 validator, as ->transform (it rewrites the text):
 // decimal digits only, from `min` to `max`, refused as typed ("--k: expected a whole number from 0

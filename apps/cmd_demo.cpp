@@ -47,11 +47,10 @@ std::size_t scenario_columns(const DemoArgs& a) {
 std::uint64_t demo_bytes(const DemoArgs& a) {
   const double n = static_cast<double>(a.points), d = static_cast<double>(scenario_columns(a));
   if (a.data_only) return static_cast<std::uint64_t>(n * (8 * d + 8));
-  const double k = static_cast<double>(a.embed.graph.radius_given ? 0 : a.embed.graph.k);
-  double landmarks =
-      std::min(n, static_cast<double>(std::max<std::size_t>(a.embed.map.dims + 1, 256)));
-  if (a.embed.map.landmarks != "auto" && a.embed.map.landmarks != "all")
-    landmarks = std::stod(a.embed.map.landmarks);  // a count: check_job_options read it
+  const double k = static_cast<double>(recorded_k(a.embed.graph.neighbourhood));
+  const auto* given = std::get_if<LandmarkCount>(&a.embed.map.landmarks);
+  const double landmarks = static_cast<double>(
+      given ? given->count : default_landmark_count(a.points, a.embed.map.dims));
   const double per_point = 12 * d + 8 + (k + std::max(16.0, k)) * 8 + 16 * k + 4 * landmarks + 64;
   return static_cast<std::uint64_t>(std::min(n * per_point, 0x1p63));
 }

@@ -55,8 +55,8 @@ void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
       sizes.begin(), sizes.begin() + std::min<std::size_t>(10, sizes.size()));
   const nlohmann::json attributes = {{"input", io::input_identity(a.input.file, in.dataset)},
                                      {"parameters",
-                                      {{"k", options.k},
-                                       {"radius", options.radius},
+                                      {{"k", recorded_k(options.neighbourhood)},
+                                       {"radius", recorded_radius(options.neighbourhood)},
                                        {"mutual", options.mutual},
                                        {"search", a.graph.search},
                                        {"keep_duplicates", options.keep_duplicates},

@@ -125,7 +125,13 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     throw DataError(
         fmt::format("{}: {} points; score needs at least 3", a.points.file, input.rows));
   adapt_score_k(a.score, input.rows, options);
-  options.dimension_k = a.dimension_k_given ? a.dimension_k : default_dimension_k(input.rows);
+  // --dimension-k 0 skips the estimate; default min(10, N - 1), none below 3 points.
+  const std::size_t dimension_k =
+      a.dimension_k_given ? a.dimension_k : default_dimension_k(input.rows);
+  if (dimension_k > 0)
+    options.dimension = DimensionOptions{.k = dimension_k};
+  else
+    options.dimension.reset();
   validate_score_options(options, input.rows);
   print_notes(g, notes);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,

@@ -48,8 +48,8 @@ PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
 nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const EmbedOptions& o,
                                const EmbedResult& r) {
   return {{"input_kind", a.input_kind},
-          {"k", o.graph.k},
-          {"radius", o.graph.radius},
+          {"k", recorded_k(o.graph.neighbourhood)},
+          {"radius", recorded_radius(o.graph.neighbourhood)},
           {"mutual", o.graph.mutual},
           {"search", a.graph.search},
           {"keep_duplicates", o.graph.keep_duplicates},
@@ -59,9 +59,9 @@ nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const
           {"pre_pca", a.pre_pca},
           {"linear", a.linear},
           {"dims", o.spectral.dims},
-          {"landmarks", a.linear  ? std::string("none")
-                        : o.exact ? std::string("all")
-                                  : std::to_string(r.landmarks.landmarks)},
+          {"landmarks", a.linear    ? std::string("none")
+                        : o.exact() ? std::string("all")
+                                    : std::to_string(r.landmarks.landmarks)},
           {"pick", a.map.pick},
           {"node_order", node_order_name(r.order)},  // morton is bfs for a graph
           {"drop_nonfinite", a.input.drop_nonfinite},
@@ -91,7 +91,11 @@ EmbedOptions job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t
 AssessOptions job_assess_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t n) {
   AssessOptions assess = to_assess_options(a.score, g.seed);
   adapt_score_k(a.score, n, assess);
-  assess.dimension_k = default_dimension_k(n);
+  const std::size_t dimension_k = default_dimension_k(n);
+  if (dimension_k > 0)
+    assess.dimension = DimensionOptions{.k = dimension_k};
+  else
+    assess.dimension.reset();
   return assess;
 }
 
@@ -156,7 +160,7 @@ void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t r
   } else {
     options.graph.validate(rows);
     options.validate(rows);
-    if (options.exact) check_exact_memory(a, options, rows);
+    if (options.exact()) check_exact_memory(a, options, rows);
   }
   if (!a.no_score) validate_score_options(job_assess_options(g, a, rows), rows);
 }
@@ -202,7 +206,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
     map.preprocess = model;
   }
 
-  if (options.exact && !a.linear) check_exact_memory(a, options, n);
+  if (options.exact() && !a.linear) check_exact_memory(a, options, n);
   // Refuse bad score options now, not after the embedding has run.
   if (!a.no_score && !given_graph) validate_score_options(assess, n);
   EmbedResult result = a.linear      ? linear_result(in.points, a.map.dims)
@@ -223,7 +227,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
       map.quality = quality_record(scores);
     } else {
       // The graph stage's kNN lists already gave the intrinsic dimension (no second search).
-      if (result.dimension) assess.dimension_k = 0;
+      if (result.dimension) assess.dimension.reset();
       if (result.residual) assess.residual = false;  // the embedding's own pairs are better
       Assessment scores = assess_map(rows_of(in.points, result.rows), result.coords,
                                      a.linear ? nullptr : &result.geodesic, axis_spectrum(result),

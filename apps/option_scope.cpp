@@ -121,7 +121,7 @@ RunShape embed_run_shape(const EmbedArgs& a) {
   RunShape s;
   s.input_kind = a.input_kind;
   s.linear = a.linear;
-  s.exact = a.map.landmarks == "all";
+  s.exact = std::holds_alternative<AllLandmarks>(a.map.landmarks);
   s.no_score = a.no_score;
   s.score_exact = a.score.method == "exact";
   return s;

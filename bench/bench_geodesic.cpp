@@ -33,7 +33,7 @@ void BM_DijkstraPerSource(benchmark::State& state) {
   double sink = 0.0;
   for (auto _ : state) {
     for (auto& s : sources) s = (next += 104729) % kNodes;
-    const auto rows = unfurl::geodesic_rows(g, sources);
+    const auto rows = unfurl::geodesic_rows(g, {sources}).rows;
     sink += rows.values[rows.values.size() / 2];
   }
   benchmark::DoNotOptimize(sink);
@@ -56,7 +56,7 @@ void BM_LandmarkPick(benchmark::State& state) {
   omp_set_num_threads(2);
   unfurl::LandmarkOptions o;
   o.pick = state.range(0) ? unfurl::Pick::random : unfurl::Pick::maxmin;
-  o.count = static_cast<std::size_t>(state.range(1));
+  o.count = unfurl::LandmarkCount{static_cast<std::size_t>(state.range(1))};
   double sink = 0.0;
   for (auto _ : state) {
     const auto r = unfurl::pick_landmarks(g, o);

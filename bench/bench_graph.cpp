@@ -40,7 +40,7 @@ const PointSet& swiss() {
 
 void run_graph(benchmark::State& state, const PointSet& points, Search search) {
   GraphOptions o;
-  o.k = 10;
+  o.neighbourhood = NearestK{10};
   o.search = search;
   std::size_t edges = 0;
   for (auto _ : state) {
@@ -88,7 +88,7 @@ void BM_ScanFashion10k(benchmark::State& state) {
     return;
   }
   for (auto _ : state) {
-    const auto r = exact_knn(rows, rows, 10, Search::scan, true);
+    const auto r = exact_knn(rows, rows, {.k = 10, .search = Search::scan, .exclude_self = true});
     benchmark::DoNotOptimize(r.index.data());
   }
 }
@@ -99,7 +99,7 @@ void BM_ExactKnn3d(benchmark::State& state) {
   static const PointSet points = swiss_roll(100'000, 2).points;
   const Search search = Search::tree;
   for (auto _ : state) {
-    const auto r = exact_knn(points, points, 10, search, true);
+    const auto r = exact_knn(points, points, {.k = 10, .search = search, .exclude_self = true});
     benchmark::DoNotOptimize(r.index.data());
   }
   state.SetLabel(search_name(search));

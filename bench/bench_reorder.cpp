@@ -26,7 +26,7 @@ const Prepared& prepared() {
     Prepared q;
     q.points = swiss_roll(1'000'000, 1).points;
     GraphOptions o;
-    o.k = 10;
+    o.neighbourhood = NearestK{10};
     q.graph = build_neighbour_graph(q.points, o).graph;  // no duplicates: nodes are rows
     return q;
   }();

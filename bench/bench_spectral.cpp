@@ -55,8 +55,10 @@ BENCHMARK(BM_LandmarkMds)
 const unfurl::DistanceRows& exact_rows_10k() {
   static const unfurl::DistanceRows rows = [] {
     omp_set_num_threads(2);
-    return unfurl::all_geodesic_rows(
-        unfurl::bench::swiss_knn_graph(10'000, 10, unfurl::bench::Order::spatial));
+    return unfurl::geodesic_rows(
+               unfurl::bench::swiss_knn_graph(10'000, 10, unfurl::bench::Order::spatial),
+               {unfurl::EveryNode{}})
+        .rows;
   }();
   return rows;
 }
@@ -66,7 +68,7 @@ void BM_ExactGeodesicRows(benchmark::State& state) {
   const auto g = unfurl::bench::swiss_knn_graph(10'000, 10, unfurl::bench::Order::spatial);
   omp_set_num_threads(2);
   float sink = 0.0f;
-  for (auto _ : state) sink += unfurl::all_geodesic_rows(g).values.back();
+  for (auto _ : state) sink += unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows.values.back();
   benchmark::DoNotOptimize(sink);
 }
 BENCHMARK(BM_ExactGeodesicRows)->Unit(benchmark::kSecond)->UseRealTime()->Iterations(2);
@@ -92,7 +94,7 @@ void BM_LandmarkEmbed20k(benchmark::State& state) {
   const auto g = unfurl::bench::swiss_knn_graph(20'000, 10, unfurl::bench::Order::spatial);
   omp_set_num_threads(2);
   unfurl::LandmarkOptions lo;
-  lo.count = 500;
+  lo.count = unfurl::LandmarkCount{500};
   float sink = 0.0f;
   for (auto _ : state) {
     const auto picked = unfurl::pick_landmarks(g, lo);

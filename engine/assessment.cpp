@@ -8,11 +8,14 @@ namespace unfurl {
 
 void AssessOptions::validate(std::size_t points) const {
   neighbourhoods.validate(points);
-  if (residual && residual_pairs == 0) throw OptionError("--pairs: must be at least 1");
-  if (dimension_k == 1) throw OptionError("--dimension-k: must be 0 (skip) or at least 2");
-  if (dimension_k >= points)
-    throw OptionError("--dimension-k: must be below the number of points (" +
-                      std::to_string(points) + "), got " + std::to_string(dimension_k));
+  if (residual && residual_pairs == 0)
+    throw OptionError("AssessOptions.residual_pairs", "must be at least 1, got 0");
+  if (!dimension) return;
+  dimension->validate();
+  if (dimension->k >= points)
+    throw OptionError("DimensionOptions.k", "must be below the number of points (" +
+                                                std::to_string(points) + "), got " +
+                                                std::to_string(dimension->k));
 }
 
 Assessment assess_map(const PointSet& input, const PointSet& map, const DistanceRows* geodesic,
@@ -36,8 +39,8 @@ Assessment assess_map(const PointSet& input, const PointSet& map, const Distance
           "residual variance: from the landmark rows only (landmark-to-point pairs); "
           "landmarks sit at the edges, so it can read low");
     } else {
-      const auto pairs =
-          sample_pair_distances(input, options.residual_pairs, options.neighbourhoods.seed);
+      const auto pairs = sample_pair_distances(
+          input, {.count = options.residual_pairs, .seed = options.neighbourhoods.seed});
       a.residual = residual_variance(pairs, map, stop);
       a.residual->drawn = std::to_string(pairs.size()) +
                           " pairs of rows drawn uniformly at random, input-space distances";
@@ -47,11 +50,11 @@ Assessment assess_map(const PointSet& input, const PointSet& map, const Distance
     }
   }
 
-  if (options.dimension_k > 0) {
+  if (options.dimension) {
     // On distinct points; data that give no estimate (too few distinct points, a lattice)
     // leave a warning, not a failure after the whole embedding has run.
     try {
-      a.dimension = intrinsic_dimension(input, options.dimension_k, stop);
+      a.dimension = intrinsic_dimension(input, *options.dimension, stop);
       for (const auto& w : a.dimension->warnings) a.warnings.push_back("dimension: " + w);
     } catch (const DataError& e) {
       a.warnings.push_back(std::string("dimension: no estimate: ") + e.what());

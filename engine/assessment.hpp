@@ -8,6 +8,7 @@
 //   partial list; axes at or below the eigenvalue noise floor are named.
 #pragma once
 
+#include <cstddef>
 #include <optional>
 #include <string>
 #include <vector>
@@ -25,7 +26,9 @@ struct AssessOptions {
   QualityOptions neighbourhoods;        // k values, exact or sampled, seed
   bool residual = true;                 // compute the residual variance curve
   std::size_t residual_pairs = 200000;  // pairs sampled when no geodesic rows are given
-  std::size_t dimension_k = 10;         // neighbours for the intrinsic dimension; 0: skip
+  // The intrinsic dimension estimate (k below the number of points), or none.
+  std::optional<DimensionOptions> dimension = DimensionOptions{};
+  // Throws OptionError naming the field (of this struct or of a nested one).
   void validate(std::size_t points) const;
 };
 

@@ -80,15 +80,13 @@ std::vector<Candidate> shortest_outgoing(const PointSet& points,
     std::vector<NodeId> rest;
     for (std::size_t v = 0; v < points.rows; ++v)
       if (set_of[v] != s) rest.push_back(static_cast<NodeId>(v));
-    const auto nn = exact_knn(rows_of(points, rest), rows_of(points, members[s]), 1,
-                              Search::automatic, false, 512, stop);
+    const auto nn = exact_knn(rows_of(points, rest), rows_of(points, members[s]), {.k = 1}, stop);
     for (std::size_t i = 0; i < members[s].size(); ++i)
       offer(s, make_candidate(members[s][i], rest[nn.index[i]], nn.distance[i]));
   }
   if (!small.empty()) {
     const std::size_t k = std::min(points.rows, widest + 1);
-    const auto nn =
-        exact_knn(points, rows_of(points, small), k, Search::automatic, false, 512, stop);
+    const auto nn = exact_knn(points, rows_of(points, small), {.k = k}, stop);
     for (std::size_t i = 0; i < small.size(); ++i) {
       const std::size_t s = set_of[small[i]];
       for (std::size_t a = 0; a < k; ++a) {
@@ -183,7 +181,8 @@ const char* component_policy_name(ComponentPolicy policy) {
 }
 
 void ComponentOptions::validate() const {
-  if (sizes_in_message < 1) throw OptionError("sizes_in_message: must be at least 1, got 0");
+  if (sizes_in_message < 1)
+    throw OptionError("ComponentOptions.sizes_in_message", "must be at least 1, got 0");
 }
 
 ComponentLabels connected_components(const NeighbourGraph& graph) {
@@ -236,7 +235,8 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
         sizes += " and " + std::to_string(s.sizes.size() - shown) + " more";
       throw DataError("graph: not connected, " + std::to_string(labels.count) +
                       " components of sizes " + sizes +
-                      "; use a larger --k or --radius, or --disconnected largest|bridge");
+                      "; use a larger NearestK.k or WithinRadius.radius, or "
+                      "ComponentOptions.policy largest or bridge");
     }
     case ComponentPolicy::largest: {
       std::size_t keep = 0;  // labels are numbered by smallest node, so ties go to the first
@@ -255,9 +255,9 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
     }
     case ComponentPolicy::bridge: {
       if (node_points.rows != graph.nodes())
-        throw OptionError("--disconnected bridge: needs the coordinates of all " +
-                          std::to_string(graph.nodes()) + " nodes, got " +
-                          std::to_string(node_points.rows) + " rows");
+        throw OptionError("ComponentOptions.policy",
+                          "bridge needs the coordinates of all " + std::to_string(graph.nodes()) +
+                              " nodes, got " + std::to_string(node_points.rows) + " rows");
       r.bridges = bridge_edges(node_points, labels, stop);
       r.graph = with_edges(graph, r.bridges);
       identity();

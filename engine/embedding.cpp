@@ -16,6 +16,21 @@ void append_warnings(std::vector<std::string>& to, const char* stage,
   for (const auto& w : from) to.push_back(std::string(stage) + ": " + w);
 }
 
+// The landmark count on `nodes` nodes: at least dims + 1, which landmark MDS needs.
+std::size_t landmark_count(const EmbedOptions& options, std::size_t nodes) {
+  const std::size_t dims = options.spectral.dims;
+  if (dims < 1) throw OptionError("SpectralOptions.dims", "must be at least 1, got 0");
+  const std::size_t l = options.landmarks.resolved_count(nodes, dims);
+  if (l < dims + 1)
+    throw OptionError("LandmarkOptions.count",
+                      "must be at least SpectralOptions.dims + 1 = " + std::to_string(dims + 1) +
+                          ", got " + std::to_string(l) +
+                          (std::holds_alternative<AutomaticLandmarks>(options.landmarks.count)
+                               ? " (the graph has only " + std::to_string(nodes) + " nodes)"
+                               : std::string()));
+  return l;
+}
+
 // The steps after the graph (engine/embedding_steps.hpp). node_of_point: input row -> graph
 // node; point_of_node: graph node -> representative row; node_points: row v the point of
 // node v, or empty for a given graph.
@@ -39,8 +54,9 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   const Renumbering& order = ordered.numbering;
 
   watch = Stopwatch();
-  SourceRowsOptions so{options.exact, options.landmarks};
-  so.landmarks.dims = options.spectral.dims;
+  SourceRowsOptions so{options.landmarks};
+  if (!options.exact())
+    so.landmarks.count = LandmarkCount{landmark_count(options, ordered.graph.nodes())};
   SourceRows sources = source_rows(ordered.graph, order.new_of_old.values(), so, stop);
   result.seconds.geodesics = watch.seconds();
   result.landmarks = sources.summary;
@@ -85,13 +101,10 @@ void EmbedOptions::validate(std::size_t points) const {
     throw DataError("the input has " + std::to_string(points) +
                     " points; an embedding needs at least 3");
   components.validate();
-  if (!exact) {
-    LandmarkOptions lo = landmarks;  // the stage checks again against the graph's nodes
-    lo.dims = spectral.dims;
-    lo.validate(points);
-  }
-  if (exact && landmarks.count != 0)
-    throw OptionError("--landmarks: give a count or 'all', not both");
+  if (residual) residual->validate();
+  if (exact()) return;
+  landmark_count(*this, points);  // the stage checks again against the graph's nodes
+  landmarks.validate(points);
 }
 
 EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop) {
@@ -112,7 +125,8 @@ EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options
   const Stopwatch total;
   options.validate(graph.nodes());
   if (options.components.policy == ComponentPolicy::bridge)
-    throw OptionError("--disconnected bridge: needs points; a given graph has none (use largest)");
+    throw OptionError("ComponentOptions.policy",
+                      "bridge needs points; a given graph has none (use largest)");
   const Numbering identity = Numbering::identity(graph.nodes());
   return embed_nodes(graph, identity, identity, {}, options, stop, EmbedResult{}, total);
 }

@@ -12,6 +12,7 @@
 #include <cstddef>
 #include <optional>
 #include <string>
+#include <variant>
 #include <vector>
 
 #include "engine/components.hpp"
@@ -29,9 +30,10 @@ namespace unfurl {
 struct EmbedOptions {
   GraphOptions graph;           // neighbour graph (ignored for embed_graph)
   ComponentOptions components;  // what to do with a disconnected graph
-  bool exact = false;           // every node a source: N x N geodesics (memory-bounded)
-  LandmarkOptions landmarks;    // landmark count and pick rule (landmark mode)
-  SpectralOptions spectral;     // map dimensions and eigen solver settings
+  // Landmark count, pick rule and seed. A count of AllLandmarks is exact mode: every node a
+  // source, N x N geodesics (memory-bounded), no landmark approximation.
+  LandmarkOptions landmarks;
+  SpectralOptions spectral;     // map dimensions (the one place they are set) and eigen solver
   bool keep_geodesics = false;  // return the landmark rows, columns in map-row order
   // When set, the residual variance curve from geodesic rows of the graph itself, from
   // sources that represent all pairs (engine/quality_residual.hpp), not the landmark rows.
@@ -41,6 +43,7 @@ struct EmbedOptions {
   NodeOrder order = NodeOrder::morton;
   // Throws OptionError naming the field; `points` is the number of input points.
   void validate(std::size_t points) const;
+  bool exact() const { return std::holds_alternative<AllLandmarks>(landmarks.count); }
 };
 
 struct StageSeconds {

@@ -39,14 +39,14 @@ OrderedGraph order_nodes(const ComponentResult& connected, const PointSet& node_
 SourceRows source_rows(const NeighbourGraph& ordered, std::span<const NodeId> draw_order,
                        const SourceRowsOptions& options, StopToken stop) {
   SourceRows out;
-  if (options.exact) {
-    GeodesicSummary gs;
-    out.rows = all_geodesic_rows(ordered, stop, &gs);
+  if (std::holds_alternative<AllLandmarks>(options.landmarks.count)) {
+    GeodesicResult every = geodesic_rows(ordered, {EveryNode{}}, stop);
+    out.rows = std::move(every.rows);
     out.all_nodes = true;
     out.summary.landmarks = out.rows.rows;
     out.summary.nodes = out.rows.cols;
-    out.summary.seconds = gs.seconds;
-    out.summary.threads = gs.threads;
+    out.summary.seconds = every.summary.seconds;
+    out.summary.threads = every.summary.threads;
     return out;
   }
   LandmarkOptions lo = options.landmarks;

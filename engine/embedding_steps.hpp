@@ -56,8 +56,9 @@ OrderedGraph order_nodes(const ComponentResult& connected, const PointSet& node_
 
 // Ordered graph -> geodesic rows: from landmarks, or from every node in exact mode.
 struct SourceRowsOptions {
-  bool exact = false;         // every node a source: N x N rows, sources 0..N-1
-  LandmarkOptions landmarks;  // landmark mode (its draw_order is set from the call's)
+  // AllLandmarks: every node a source (exact mode), N x N rows with sources 0..N-1.
+  // Otherwise the landmark rows; the call's draw_order replaces landmarks.draw_order.
+  LandmarkOptions landmarks;
 };
 struct SourceRows {
   DistanceRows rows;        // sources in ordered nodes; columns: ordered nodes

@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "engine/detail/dijkstra.hpp"
+#include "engine/detail/geodesic_rows.hpp"
 #include "engine/detail/upper_tiles.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
@@ -55,8 +56,8 @@ void check_graph(const NeighbourGraph& graph) {
     char text[256];
     std::snprintf(text, sizeof text,
                   "geodesic: path lengths could reach %.3g (longest edge %.3g, %zu nodes), "
-                  "beyond float32's range (%.3g); scale the values down (for example --scale "
-                  "standard)",
+                  "beyond float32's range (%.3g); scale the values down (for example "
+                  "PreprocessOptions.scale standard)",
                   bound, longest, n, static_cast<double>(std::numeric_limits<float>::max()));
     throw DataError(text);
   }
@@ -97,40 +98,7 @@ void fill_geodesic_rows(const NeighbourGraph& graph, DistanceRows& rows, std::si
   });
 }
 
-namespace {
-void fill_summary(GeodesicSummary* summary, const DistanceRows& rows,
-                  std::chrono::steady_clock::time_point start) {
-  if (!summary) return;
-  summary->sources = rows.rows;
-  summary->nodes = rows.cols;
-  summary->threads = omp_get_max_threads();
-  summary->seconds =
-      std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-}
-}  // namespace
-
 }  // namespace detail
-
-DistanceRows geodesic_rows(const NeighbourGraph& graph, std::span<const NodeId> sources,
-                           StopToken stop, GeodesicSummary* summary) {
-  const auto start = std::chrono::steady_clock::now();
-  detail::check_graph(graph);
-  const std::size_t n = graph.nodes();
-  for (std::size_t r = 0; r < sources.size(); ++r) {
-    if (sources[r] >= n)
-      throw DataError("geodesic: source " + std::to_string(r) + " is node " +
-                      std::to_string(sources[r]) + ", but the graph has " + std::to_string(n) +
-                      " nodes");
-  }
-  DistanceRows rows;
-  rows.rows = sources.size();
-  rows.cols = n;
-  rows.sources.assign(sources.begin(), sources.end());
-  rows.values.resize(rows.rows * rows.cols);
-  detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
-  detail::fill_summary(summary, rows, start);
-  return rows;
-}
 
 namespace {
 
@@ -168,12 +136,8 @@ std::vector<NodeId> sweep_sequence(const NeighbourGraph& graph) {
   return sequence;
 }
 
-}  // namespace
-
-DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
-                               GeodesicSummary* summary) {
-  const auto start = std::chrono::steady_clock::now();
-  detail::check_graph(graph);
+// Every node a source (see the header): each pair computed once, then mirrored.
+DistanceRows every_node_rows(const NeighbourGraph& graph, StopToken stop) {
   const std::size_t n = graph.nodes();
   if (n == 0) return {};
   const std::vector<NodeId> sequence = sweep_sequence(graph);
@@ -193,8 +157,46 @@ DistanceRows all_geodesic_rows(const NeighbourGraph& graph, StopToken stop,
                           " missed nodes of a connected graph");
   });
   mirror_by_rank(rows, rank);
-  detail::fill_summary(summary, rows, start);
   return rows;
+}
+
+DistanceRows listed_rows(const NeighbourGraph& graph, std::span<const NodeId> sources,
+                         StopToken stop) {
+  DistanceRows rows;
+  rows.rows = sources.size();
+  rows.cols = graph.nodes();
+  rows.sources.assign(sources.begin(), sources.end());
+  rows.values.resize(rows.rows * rows.cols);
+  detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
+  return rows;
+}
+
+}  // namespace
+
+void GeodesicOptions::validate(std::size_t nodes) const {
+  const auto* listed = std::get_if<std::span<const NodeId>>(&sources);
+  if (!listed) return;
+  for (std::size_t r = 0; r < listed->size(); ++r)
+    if ((*listed)[r] >= nodes)
+      throw OptionError("GeodesicOptions.sources",
+                        "source " + std::to_string(r) + " is node " + std::to_string((*listed)[r]) +
+                            ", but the graph has " + std::to_string(nodes) + " nodes");
+}
+
+GeodesicResult geodesic_rows(const NeighbourGraph& graph, const GeodesicOptions& options,
+                             StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::check_graph(graph);
+  options.validate(graph.nodes());
+  GeodesicResult result;
+  const auto* listed = std::get_if<std::span<const NodeId>>(&options.sources);
+  result.rows = listed ? listed_rows(graph, *listed, stop) : every_node_rows(graph, stop);
+  GeodesicSummary& s = result.summary;
+  s.sources = result.rows.rows;
+  s.nodes = graph.nodes();
+  s.threads = omp_get_max_threads();
+  s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return result;
 }
 
 }  // namespace unfurl

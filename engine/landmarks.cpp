@@ -8,8 +8,8 @@
 #include <numeric>
 
 #include "engine/detail/dijkstra.hpp"
+#include "engine/detail/geodesic_rows.hpp"
 #include "engine/error.hpp"
-#include "engine/geodesic.hpp"
 #include "engine/parallel.hpp"
 #include "engine/random.hpp"
 
@@ -19,21 +19,22 @@ std::size_t default_landmark_count(std::size_t nodes, std::size_t dims) {
   return std::min(nodes, std::max<std::size_t>(dims + 1, 256));
 }
 
-std::size_t LandmarkOptions::resolved_count(std::size_t nodes) const {
-  return count == 0 ? default_landmark_count(nodes, dims) : count;
+std::size_t LandmarkOptions::resolved_count(std::size_t nodes, std::size_t dims) const {
+  if (const auto* given = std::get_if<LandmarkCount>(&count)) return given->count;
+  if (std::holds_alternative<AllLandmarks>(count)) return nodes;
+  return default_landmark_count(nodes, dims);
 }
 
 void LandmarkOptions::validate(std::size_t nodes) const {
-  if (dims < 1) throw OptionError("--dims: must be at least 1, got 0");
-  const std::size_t l = resolved_count(nodes);
-  if (l < dims + 1)
-    throw OptionError(
-        "--landmarks: must be at least dims + 1 = " + std::to_string(dims + 1) + ", got " +
-        std::to_string(l) +
-        (count == 0 ? " (the graph has only " + std::to_string(nodes) + " nodes)" : std::string()));
-  if (l > nodes)
-    throw OptionError("--landmarks: must be at most the number of graph nodes, " +
-                      std::to_string(nodes) + ", got " + std::to_string(l));
+  if (const auto* given = std::get_if<LandmarkCount>(&count)) {
+    if (given->count < 2)
+      throw OptionError("LandmarkOptions.count",
+                        "must be at least 2, got " + std::to_string(given->count));
+    if (given->count > nodes)
+      throw OptionError("LandmarkOptions.count", "must be at most the number of graph nodes, " +
+                                                     std::to_string(nodes) + ", got " +
+                                                     std::to_string(given->count));
+  }
   if (!draw_order.empty() && draw_order.size() != nodes)
     throw InternalError("landmarks: draw_order lists " + std::to_string(draw_order.size()) +
                         " nodes of " + std::to_string(nodes));

@@ -18,6 +18,7 @@
 #include <cstdint>
 #include <span>
 #include <string>
+#include <variant>
 #include <vector>
 
 #include "engine/distance_rows.hpp"
@@ -31,15 +32,26 @@ enum class Pick {
   random,  // `count` distinct nodes drawn uniformly from the seed
 };
 
-// The count used when LandmarkOptions::count is 0: min(N, max(dims + 1, 256)). 256 rows of a
+// The automatic count for a map of `dims` axes: min(N, max(dims + 1, 256)). 256 rows of a
 // million nodes are 1 GB of float32, the budget of the million-point target; more landmarks
 // barely move the map of a 2-D or 3-D sheet (the error of landmark MDS falls with L quickly
 // once the landmarks cover the sheet).
 std::size_t default_landmark_count(std::size_t nodes, std::size_t dims);
 
+// How many landmarks: exactly one of the automatic count, a given count, or every node (the
+// embedding's exact mode: N x N geodesics, no landmark approximation).
+struct AutomaticLandmarks {};
+struct LandmarkCount {
+  std::size_t count = 256;  // at least 2 (a map needs dims + 1) and at most the graph's nodes
+};
+struct AllLandmarks {};
+using LandmarkChoice = std::variant<AutomaticLandmarks, LandmarkCount, AllLandmarks>;
+
 struct LandmarkOptions {
-  std::size_t count = 0;     // landmarks to pick; 0: default_landmark_count(N, dims)
-  std::size_t dims = 2;      // map dimensions the landmarks must support: count >= dims + 1
+  // Landmarks to pick. Automatic: default_landmark_count(N, dims) for the map the caller
+  // makes (the embedding knows its dims; this stage alone assumes 2). All: every node, in
+  // pick order.
+  LandmarkChoice count = AutomaticLandmarks{};
   Pick pick = Pick::maxmin;  // how to pick them
   std::uint64_t seed = 1;    // first maxmin landmark, or the whole random draw
   // Empty, or the nodes listed in the caller's own numbering (draw_order[i] is the graph node
@@ -47,10 +59,10 @@ struct LandmarkOptions {
   // speed does not change which nodes the seed picks. Must outlive the call.
   std::span<const NodeId> draw_order;
 
-  // Throws OptionError naming the field: dims < 1, count < dims + 1 or count > nodes.
+  // Throws OptionError naming the field: a given count below 2 or above nodes.
   void validate(std::size_t nodes) const;
-  // count, or the default when count is 0.
-  std::size_t resolved_count(std::size_t nodes) const;
+  // The number of landmarks for a graph of `nodes` nodes and a map of `dims` axes.
+  std::size_t resolved_count(std::size_t nodes, std::size_t dims = 2) const;
 };
 
 struct LandmarkSummary {

@@ -14,11 +14,11 @@
 namespace unfurl {
 
 void LinearOptions::validate(std::size_t columns) const {
-  if (dims < 1) throw OptionError("--dims: must be at least 1, got 0");
+  if (dims < 1) throw OptionError("LinearOptions.dims", "must be at least 1, got 0");
   if (dims > columns)
-    throw OptionError("--dims: must be at most the number of input columns (" +
-                      std::to_string(columns) + ") for the linear map, got " +
-                      std::to_string(dims));
+    throw OptionError("LinearOptions.dims",
+                      "must be at most the number of input columns (" + std::to_string(columns) +
+                          ") for the linear map, got " + std::to_string(dims));
 }
 
 LinearResult linear_map(const PointSet& points, const LinearOptions& options, StopToken stop) {

@@ -39,9 +39,9 @@ void require_finite(const PointSet& points, const char* what) {
     if (squared_span > 0.5 * std::numeric_limits<float>::max()) {
       char spread[32];
       std::snprintf(spread, sizeof spread, "%.3g", span);
-      throw DataError(
-          std::string(what) + ": column " + std::to_string(j) + " spans " + spread +
-          "; squared distances would exceed float32's range (rescale the data, e.g. --scale)");
+      throw DataError(std::string(what) + ": column " + std::to_string(j) + " spans " + spread +
+                      "; squared distances would exceed float32's range (rescale the data, e.g. "
+                      "PreprocessOptions.scale)");
     }
   }
 }
@@ -159,40 +159,47 @@ Search choose_search(Search requested, std::size_t n, std::size_t d) {
 }
 
 void GraphOptions::validate(std::size_t points) const {
-  if (!std::isfinite(radius) || radius < 0.0)
-    throw OptionError("--radius: must be a positive number, got " + std::to_string(radius));
-  if (radius > 0.0 && k != 0)
-    throw OptionError("--radius: cannot be combined with --k " + std::to_string(k) +
-                      " (a radius graph takes k = 0)");
-  if (radius == 0.0 && k < 1) throw OptionError("--k: must be at least 1, got 0");
-  if (radius == 0.0 && k >= points)
-    throw OptionError("--k: must be less than the number of points (" + std::to_string(points) +
-                      "), got " + std::to_string(k));
-  if (block_rows < 1) throw OptionError("--block-rows: must be at least 1, got 0");
+  if (const auto* r = std::get_if<WithinRadius>(&neighbourhood)) {
+    if (!std::isfinite(r->radius) || !(r->radius > 0.0))
+      throw OptionError("WithinRadius.radius",
+                        "must be a positive finite number, got " + std::to_string(r->radius));
+  } else {
+    const std::size_t k = std::get<NearestK>(neighbourhood).k;
+    if (k < 1) throw OptionError("NearestK.k", "must be at least 1, got 0");
+    if (k >= points)
+      throw OptionError("NearestK.k", "must be less than the number of points (" +
+                                          std::to_string(points) + "), got " + std::to_string(k));
+  }
+  if (block_rows < 1) throw OptionError("GraphOptions.block_rows", "must be at least 1, got 0");
   if (!(duplicate_epsilon >= 0.0f) || !std::isfinite(duplicate_epsilon))
-    throw OptionError("--duplicate-epsilon: must be >= 0 (0 = automatic), got " +
-                      std::to_string(duplicate_epsilon));
+    throw OptionError("GraphOptions.duplicate_epsilon",
+                      "must be >= 0 (0 = automatic), got " + std::to_string(duplicate_epsilon));
 }
 
-KnnResult exact_knn(const PointSet& data, const PointSet& queries, std::size_t k, Search search,
-                    bool exclude_self, std::size_t block_rows, StopToken stop) {
+void KnnOptions::validate(std::size_t available) const {
+  if (k < 1) throw OptionError("KnnOptions.k", "must be at least 1, got 0");
+  if (k > available)
+    throw OptionError("KnnOptions.k", "must be at most " + std::to_string(available) +
+                                          " (the data rows available), got " + std::to_string(k));
+  if (block_rows < 1) throw OptionError("KnnOptions.block_rows", "must be at least 1, got 0");
+}
+
+KnnResult exact_knn(const PointSet& data, const PointSet& queries, const KnnOptions& options,
+                    StopToken stop) {
   if (queries.cols != data.cols)
     throw DataError("queries: " + std::to_string(queries.cols) + " columns, the data have " +
                     std::to_string(data.cols));
-  if (exclude_self && queries.rows != data.rows)
+  if (options.exclude_self && queries.rows != data.rows)
     throw InternalError("exact_knn: exclude_self needs the data themselves as queries");
-  const std::size_t available = data.rows - (exclude_self && data.rows > 0 ? 1 : 0);
-  if (k < 1) throw OptionError("--k: must be at least 1, got 0");
-  if (k > available)
-    throw OptionError("--k: must be at most " + std::to_string(available) +
-                      " (the data rows available), got " + std::to_string(k));
-  if (block_rows < 1) throw OptionError("--block-rows: must be at least 1, got 0");
+  options.validate(data.rows - (options.exclude_self && data.rows > 0 ? 1 : 0));
   require_finite(data, "data");
   if (&queries != &data) require_finite(queries, "queries");
   KnnResult r;
-  r.k = k;
-  r.search_used = choose_search(search, data.rows, data.cols);
-  const auto lists = knn_lists(data, queries, k, r.search_used, exclude_self, block_rows, stop);
+  r.k = options.k;
+  r.summary.queries = queries.rows;
+  r.summary.search_used = choose_search(options.search, data.rows, data.cols);
+  const auto lists = knn_lists(data, queries, options.k, r.summary.search_used,
+                               options.exclude_self, options.block_rows, stop);
   r.index.resize(lists.size());
   r.distance.resize(lists.size());
   for (std::size_t i = 0; i < lists.size(); ++i) {
@@ -214,9 +221,11 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
   s.duplicate_groups = dup.groups_with_copies;
   s.duplicate_rows = dup.extra_rows;
   const std::size_t distinct = dup.point_of_node.size();
-  if (options.radius == 0.0 && options.k >= distinct)
-    throw DataError("--k: " + std::to_string(options.k) + " needs at least " +
-                    std::to_string(options.k + 1) + " distinct points, the data have " +
+  const auto* within = std::get_if<WithinRadius>(&options.neighbourhood);
+  const std::size_t k = within ? 0 : std::get<NearestK>(options.neighbourhood).k;
+  if (!within && k >= distinct)
+    throw DataError("NearestK.k: " + std::to_string(k) + " needs at least " +
+                    std::to_string(k + 1) + " distinct points, the data have " +
                     std::to_string(distinct) + " (" + std::to_string(dup.extra_rows) +
                     " rows repeat others)");
   PointSet unique_rows;
@@ -225,11 +234,12 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
   s.search_used = choose_search(options.search, nodes.rows, nodes.cols);
 
   std::vector<Edge> edges;
-  if (options.radius > 0.0) {
+  if (within) {
+    const double radius = within->radius;
     const auto lists =
         s.search_used == Search::tree
-            ? detail::radius_tree(nodes, nodes, options.radius, true, stop)
-            : detail::radius_scan(nodes, nodes, options.radius, true, options.block_rows, stop);
+            ? detail::radius_tree(nodes, nodes, radius, true, stop)
+            : detail::radius_scan(nodes, nodes, radius, true, options.block_rows, stop);
     for (std::size_t i = 0; i < lists.size(); ++i)
       for (const Neighbour& n : lists[i])
         if (n.index > i) edges.push_back({static_cast<NodeId>(i), n.index, length_of(n.squared)});
@@ -237,21 +247,19 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
       const auto nearest =
           knn_lists(nodes, nodes, 1, s.search_used, true, options.block_rows, stop);
       const auto closest = std::min_element(nearest.begin(), nearest.end(), detail::closer);
-      throw DataError("--radius: no two points lie within " + std::to_string(options.radius) +
+      throw DataError("WithinRadius.radius: no two points lie within " + std::to_string(radius) +
                       "; the closest pair is " + std::to_string(std::sqrt(closest->squared)) +
                       " apart");
     }
   } else {
-    const auto lists =
-        knn_lists(nodes, nodes, options.k, s.search_used, true, options.block_rows, stop);
-    edges = knn_edges(lists, nodes.rows, options.k, options.mutual);
-    if (options.k >= 2) {
+    const auto lists = knn_lists(nodes, nodes, k, s.search_used, true, options.block_rows, stop);
+    edges = knn_edges(lists, nodes.rows, k, options.mutual);
+    if (k >= 2) {
       try {
         // The distances as exact_knn rounds them, so a separate search gives the same value.
-        result.dimension =
-            levina_bickel_lists(nodes.rows, options.k, [&](std::size_t i, std::size_t j) {
-              return static_cast<double>(length_of(lists[i * options.k + j].squared));
-            });
+        result.dimension = levina_bickel_lists(nodes.rows, k, [&](std::size_t i, std::size_t j) {
+          return static_cast<double>(length_of(lists[i * k + j].squared));
+        });
       } catch (const DataError& e) {
         s.warnings.push_back(std::string("no intrinsic dimension estimate: ") + e.what());
       }
@@ -295,8 +303,7 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
   if (s.isolated_nodes > 0)
     s.warnings.push_back(std::to_string(s.isolated_nodes) + " of " + std::to_string(s.nodes) +
                          " nodes have no edge (" +
-                         (options.radius > 0.0 ? "radius too small for them" : "mutual graph") +
-                         ")");
+                         (within ? "radius too small for them" : "mutual graph") + ")");
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;
 }

@@ -11,6 +11,7 @@
 #include <cstddef>
 #include <optional>
 #include <string>
+#include <variant>
 #include <vector>
 
 #include "engine/graph.hpp"
@@ -27,12 +28,19 @@ enum class Search {
 };
 const char* search_name(Search search);  // "automatic", "tree", "scan"
 
+// Who is a point's neighbour: exactly one of two rules, so a graph is k-nearest or radius.
+struct NearestK {
+  std::size_t k = 10;  // neighbours per point, at least 1 and below the number of points
+};
+struct WithinRadius {
+  // Points at Euclidean distance <= radius (inclusive, as SciPy's cKDTree.query_pairs), in
+  // data units; positive and finite.
+  double radius = 1.0;
+};
+using Neighbourhood = std::variant<NearestK, WithinRadius>;
+
 struct GraphOptions {
-  // Neighbours per point for a k-nearest graph; must be 0 when radius is set.
-  std::size_t k = 10;
-  // > 0: radius graph instead, joining points at Euclidean distance <= radius (inclusive,
-  // as SciPy's cKDTree.query_pairs), in data units. 0: not a radius graph.
-  double radius = 0.0;
+  Neighbourhood neighbourhood = NearestK{};  // k-nearest (k = 10) unless a radius is chosen
   // false: union symmetrisation (i~j when either lists the other); true: mutual (both must).
   bool mutual = false;
   // Which exact search runs (see Search).
@@ -50,8 +58,8 @@ struct GraphOptions {
   // and k + max(16, k) candidates of 8 bytes per row; never an N x N matrix.
   std::size_t block_rows = 512;
 
-  // Throws OptionError naming the field: k < 1 without radius, k >= number of nodes,
-  // radius < 0 or not finite, k and radius both set, block_rows < 1, negative epsilon.
+  // Throws OptionError naming the field: k < 1, k >= number of points, radius not positive
+  // or not finite, block_rows < 1, negative or non-finite epsilon.
   void validate(std::size_t points) const;
 };
 
@@ -89,17 +97,30 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
                                   StopToken stop = {});
 
 // The k nearest data rows of every query row, N_queries x k row-major, nearest first, ties
-// to the smaller index. exclude_self: queries are the data themselves (same rows, same
-// order) and row i never lists itself, though it lists its exact duplicates at distance 0.
+// to the smaller index.
+struct KnnOptions {
+  std::size_t k = 10;                 // neighbours per query row
+  Search search = Search::automatic;  // which exact search runs
+  // The queries are the data themselves (same rows, same order) and row i never lists
+  // itself, though it lists its exact duplicates at distance 0.
+  bool exclude_self = false;
+  std::size_t block_rows = 512;  // scan back end: rows per block (see GraphOptions)
+  // Throws OptionError naming the field: k < 1 or k > available (the data rows, less one
+  // with exclude_self), block_rows < 1.
+  void validate(std::size_t available) const;
+};
+struct KnnSummary {
+  std::size_t queries = 0;            // query rows answered
+  Search search_used = Search::tree;  // the back end that ran
+};
 struct KnnResult {
   std::size_t k = 0;
   std::vector<NodeId> index;    // queries.rows * k data row ids
   std::vector<float> distance;  // queries.rows * k Euclidean distances
-  Search search_used = Search::tree;
+  KnnSummary summary;
 };
-KnnResult exact_knn(const PointSet& data, const PointSet& queries, std::size_t k,
-                    Search search = Search::automatic, bool exclude_self = false,
-                    std::size_t block_rows = 512, StopToken stop = {});
+KnnResult exact_knn(const PointSet& data, const PointSet& queries, const KnnOptions& options,
+                    StopToken stop = {});
 
 // The back end Search::automatic picks for n points in d dimensions.
 Search choose_search(Search requested, std::size_t n, std::size_t d);

@@ -110,10 +110,12 @@ const char* metric_name(Metric metric) {
 
 void PreprocessOptions::validate(std::size_t rows, std::size_t cols) const {
   if (pca > cols)
-    throw OptionError("--pre-pca: at most the number of columns (" + std::to_string(cols) +
-                      "), got " + std::to_string(pca));
+    throw OptionError(
+        "PreprocessOptions.pca",
+        "at most the number of columns (" + std::to_string(cols) + "), got " + std::to_string(pca));
   if (pca > 0 && rows < 2)
-    throw OptionError("--pre-pca: needs at least 2 points, got " + std::to_string(rows));
+    throw OptionError("PreprocessOptions.pca",
+                      "needs at least 2 points, got " + std::to_string(rows));
 }
 
 PreprocessModel fit_preprocess(const PointSet& points, const PreprocessOptions& options) {

@@ -28,7 +28,7 @@ struct PreprocessOptions {
   Scale scale = Scale::none;          // per-column scaling
   Metric metric = Metric::euclidean;  // cosine: unit-length rows, so the exact search serves
   std::size_t pca = 0;                // > 0: keep the top pca principal components; 0: off
-  void validate(std::size_t rows, std::size_t cols) const;  // --pca <= cols and < rows
+  void validate(std::size_t rows, std::size_t cols) const;  // pca <= cols; pca needs 2 rows
 };
 
 struct PreprocessModel {

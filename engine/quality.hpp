@@ -63,7 +63,7 @@ struct QualityOptions {
   std::uint64_t seed = 1;     // seed of the query sample
   int threads = 0;            // OpenMP threads; 0: all that OpenMP offers
 
-  // Throws OptionError naming the field (--k, --sample, --exact-limit, --threads) for N points.
+  // Throws OptionError naming the field (ks, sample, exact_limit, threads) for N points.
   void validate(std::size_t n) const;
 };
 

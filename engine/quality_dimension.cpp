@@ -12,6 +12,12 @@ std::size_t default_dimension_k(std::size_t distinct) {
   return distinct < 3 ? 0 : std::min<std::size_t>(10, distinct - 1);
 }
 
+void DimensionOptions::validate() const {
+  if (k < 2)
+    throw OptionError("DimensionOptions.k",
+                      "intrinsic dimension needs at least 2 neighbours, got " + std::to_string(k));
+}
+
 namespace detail {
 
 void check_dimension_row(std::size_t row, std::span<const double> t) {
@@ -22,9 +28,7 @@ void check_dimension_row(std::size_t row, std::span<const double> t) {
 }
 
 IntrinsicDimension finish_levina_bickel(IntrinsicDimension out, double inverse_sum) {
-  if (out.k < 2)
-    throw OptionError("--k: intrinsic dimension needs at least 2 neighbours, got " +
-                      std::to_string(out.k));
+  DimensionOptions{.k = out.k}.validate();
   if (out.points_used == 0)
     throw DataError("intrinsic dimension: every point has a duplicate (a zero distance)");
   if (!(inverse_sum > 0))
@@ -39,10 +43,9 @@ IntrinsicDimension finish_levina_bickel(IntrinsicDimension out, double inverse_s
 }  // namespace detail
 
 IntrinsicDimension levina_bickel(std::span<const float> knn_distances, std::size_t n,
-                                 std::size_t k) {
-  if (k < 2)
-    throw OptionError("--k: intrinsic dimension needs at least 2 neighbours, got " +
-                      std::to_string(k));
+                                 const DimensionOptions& options) {
+  options.validate();
+  const std::size_t k = options.k;
   if (n == 0) throw DataError("intrinsic dimension: no points");
   if (knn_distances.size() != n * k)
     throw DataError("intrinsic dimension: " + std::to_string(knn_distances.size()) +
@@ -53,7 +56,10 @@ IntrinsicDimension levina_bickel(std::span<const float> knn_distances, std::size
   });
 }
 
-IntrinsicDimension intrinsic_dimension(const PointSet& points, std::size_t k, StopToken stop) {
+IntrinsicDimension intrinsic_dimension(const PointSet& points, const DimensionOptions& options,
+                                       StopToken stop) {
+  options.validate();
+  const std::size_t k = options.k;
   const detail::DuplicateGroups dup = detail::find_duplicates(points, stop);
   const std::size_t distinct = dup.point_of_node.size();
   if (distinct < 3)
@@ -63,8 +69,8 @@ IntrinsicDimension intrinsic_dimension(const PointSet& points, std::size_t k, St
   PointSet merged;
   if (dup.extra_rows > 0) merged = detail::select_rows(points, dup.point_of_node);
   const PointSet& rows = dup.extra_rows > 0 ? merged : points;
-  const KnnResult knn = exact_knn(rows, rows, used_k, Search::automatic, true, 512, stop);
-  IntrinsicDimension out = levina_bickel(knn.distance, rows.rows, used_k);
+  const KnnResult knn = exact_knn(rows, rows, {.k = used_k, .exclude_self = true}, stop);
+  IntrinsicDimension out = levina_bickel(knn.distance, rows.rows, {.k = used_k});
   if (used_k < k)
     out.warnings.push_back("intrinsic dimension: k lowered from " + std::to_string(k) + " to " +
                            std::to_string(used_k) + " for " + std::to_string(distinct) +

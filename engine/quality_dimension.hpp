@@ -32,6 +32,12 @@ struct IntrinsicDimension {
   std::vector<std::string> warnings;
 };
 
+struct DimensionOptions {
+  std::size_t k = 10;  // neighbours per point (x itself excluded); at least 2
+  // Throws OptionError naming the field: k < 2.
+  void validate() const;
+};
+
 // The default number of neighbours for `distinct` distinct points: min(10, distinct - 1);
 // 0 (no estimate) below 3 distinct points, as k must be at least 2.
 std::size_t default_dimension_k(std::size_t distinct);
@@ -39,10 +45,11 @@ std::size_t default_dimension_k(std::size_t distinct);
 // knn_distances: n rows of k distances, row i ascending, the k nearest neighbours of point i
 // without i itself (Euclidean, not squared). A point whose nearest distance is 0 has a
 // duplicate: log(T_k / 0) is infinite, so such points are skipped and counted, not guarded
-// with an arbitrary floor. Throws OptionError ("--k") for k < 2, DataError for a wrong size,
-// a negative, non-finite or descending row (named), or when no point can be used.
+// with an arbitrary floor. Throws OptionError (DimensionOptions.k) for k < 2, DataError for
+// a wrong size, a negative, non-finite or descending row (named), or when no point can be
+// used.
 IntrinsicDimension levina_bickel(std::span<const float> knn_distances, std::size_t n,
-                                 std::size_t k);
+                                 const DimensionOptions& options);
 
 // The same from any store of neighbour lists: distance(i, j) is the Euclidean distance from
 // point i to its (j+1)-th nearest neighbour, j < k (for example the graph stage's lists,
@@ -54,7 +61,8 @@ IntrinsicDimension levina_bickel_lists(std::size_t n, std::size_t k, Distance di
 // for callers without neighbour lists (a map scored later, a radius graph). k is lowered to
 // distinct - 1 when there are fewer distinct points (with a warning); below 3 distinct points
 // there is no estimate (DataError).
-IntrinsicDimension intrinsic_dimension(const PointSet& points, std::size_t k, StopToken stop = {});
+IntrinsicDimension intrinsic_dimension(const PointSet& points, const DimensionOptions& options,
+                                       StopToken stop = {});
 
 namespace detail {
 void check_dimension_row(std::size_t row, std::span<const double> t);
@@ -65,7 +73,7 @@ template <class Distance>
 IntrinsicDimension levina_bickel_lists(std::size_t n, std::size_t k, Distance distance) {
   IntrinsicDimension out;
   out.k = k;
-  if (k < 2) return detail::finish_levina_bickel(out, 0);  // throws, naming --k
+  if (k < 2) return detail::finish_levina_bickel(out, 0);  // throws, naming DimensionOptions.k
   std::vector<double> t(k);
   // Summed in row order in double: the result does not depend on any thread count.
   double inverse_sum = 0;

@@ -186,6 +186,10 @@ ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const Poin
   return curve;
 }
 
+void ResidualOptions::validate() const {
+  if (sources < 1) throw OptionError("ResidualOptions.sources", "must be at least 1, got 0");
+}
+
 std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& options,
                                      std::span<const NodeId> draw_order, std::string& drawn) {
   std::vector<NodeId> sources;
@@ -211,6 +215,7 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
                                               const ResidualOptions& options,
                                               std::span<const NodeId> draw_order, StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
+  options.validate();
   detail::require_points(coords, "residual variance map");
   if (coords.rows != graph.nodes())
     throw InternalError("residual variance: a map of " + std::to_string(coords.rows) +
@@ -224,7 +229,7 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
   for (std::size_t first = 0; first < sources.size(); first += kBatch) {
     const std::span<const NodeId> batch(sources.data() + first,
                                         std::min(kBatch, sources.size() - first));
-    append_row_moments(geodesic_rows(graph, batch, stop), coords, rows, stop);
+    append_row_moments(geodesic_rows(graph, {batch}, stop).rows, coords, rows, stop);
   }
   ResidualVarianceCurve curve = finish(merged(rows, coords.cols), coords.cols);
   curve.sampled = sources.size() < graph.nodes();
@@ -277,9 +282,15 @@ ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, con
   return curve;
 }
 
-std::vector<PairDistance> sample_pair_distances(const PointSet& points, std::size_t count,
-                                                std::uint64_t seed) {
-  if (count == 0) throw OptionError("--pairs: must be at least 1, got 0");
+void PairSampleOptions::validate() const {
+  if (count < 1) throw OptionError("PairSampleOptions.count", "must be at least 1, got 0");
+}
+
+std::vector<PairDistance> sample_pair_distances(const PointSet& points,
+                                                const PairSampleOptions& options) {
+  options.validate();
+  const std::size_t count = options.count;
+  const std::uint64_t seed = options.seed;
   detail::require_points(points, "residual variance points");
   if (points.rows < 2) throw DataError("residual variance: fewer than 2 points to pair");
   Random rng(seed);

@@ -37,6 +37,8 @@ struct ResidualOptions {
   std::size_t all_pairs_limit = 2000;  // up to this many nodes: every pair
   std::size_t sources = 256;           // beyond: sampled source rows
   std::uint64_t seed = 1;              // of the source draw
+  // Throws OptionError naming the field: sources < 1 (no row to pair with).
+  void validate() const;
 };
 
 // Over the rows of geodesic_rows from the sources ResidualOptions picks on `graph`; coords
@@ -70,10 +72,17 @@ struct PairDistance {
 ResidualVarianceCurve residual_variance(std::span<const PairDistance> pairs, const PointSet& map,
                                         StopToken stop = {});
 
+struct PairSampleOptions {
+  std::size_t count = 200000;  // pairs drawn; at least 1
+  std::uint64_t seed = 1;      // of the draw
+  // Throws OptionError naming the field: count < 1.
+  void validate() const;
+};
+
 // `count` pairs of distinct rows drawn uniformly (with replacement among pairs) with `seed`,
 // each with its Euclidean distance in `points`: the given distances when there are no geodesic
-// rows. Throws OptionError ("--pairs") when count is 0, DataError for fewer than 2 points.
-std::vector<PairDistance> sample_pair_distances(const PointSet& points, std::size_t count,
-                                                std::uint64_t seed);
+// rows. Throws OptionError for bad options, DataError for fewer than 2 points.
+std::vector<PairDistance> sample_pair_distances(const PointSet& points,
+                                                const PairSampleOptions& options);
 
 }  // namespace unfurl

@@ -141,9 +141,9 @@ const char* node_order_name(NodeOrder order) {
 Renumbering node_order(NodeOrder order, const NeighbourGraph& graph, const PointSet& node_points) {
   const std::size_t n = graph.nodes();
   if ((order == NodeOrder::morton || order == NodeOrder::tree_leaves) && node_points.rows != n)
-    throw OptionError(std::string("--order ") + node_order_name(order) +
-                      ": needs the points of all " + std::to_string(n) + " nodes, got " +
-                      std::to_string(node_points.rows));
+    throw OptionError("EmbedOptions.order", std::string(node_order_name(order)) +
+                                                " needs the points of all " + std::to_string(n) +
+                                                " nodes, got " + std::to_string(node_points.rows));
   switch (order) {
     case NodeOrder::input:
       return {Numbering::identity(n), Numbering::identity(n)};

@@ -20,18 +20,24 @@
 namespace unfurl {
 
 void SpectralOptions::validate(std::size_t order) const {
-  if (dims < 1) throw OptionError("--dims: must be at least 1, got 0");
+  if (dims < 1) throw OptionError("SpectralOptions.dims", "must be at least 1, got 0");
   if (dims >= order)
-    throw OptionError("--dims: must be below the number of landmarks (" + std::to_string(order) +
-                      "), got " + std::to_string(dims));
+    throw OptionError("SpectralOptions.dims", "must be below the number of landmarks (" +
+                                                  std::to_string(order) + "), got " +
+                                                  std::to_string(dims));
   if (krylov != 0 && (krylov <= dims || krylov > order))
-    throw OptionError("spectral krylov: must be above dims (" + std::to_string(dims) +
-                      ") and at most " + std::to_string(order) + ", got " + std::to_string(krylov));
-  if (max_iterations < 1) throw OptionError("spectral max_iterations: must be at least 1, got 0");
+    throw OptionError("SpectralOptions.krylov", "must be above dims (" + std::to_string(dims) +
+                                                    ") and at most " + std::to_string(order) +
+                                                    ", got " + std::to_string(krylov));
+  if (max_iterations < 1)
+    throw OptionError("SpectralOptions.max_iterations", "must be at least 1, got 0");
   if (!(tolerance > 0.0) || !std::isfinite(tolerance))
-    throw OptionError("spectral tolerance: must be a positive number");
-  if (probes < 2) throw OptionError("spectral probes: must be at least 2 (for an error bound)");
-  if (quadrature < 1) throw OptionError("spectral quadrature: must be at least 1 step");
+    throw OptionError("SpectralOptions.tolerance", "must be a positive number");
+  if (probes < 2)
+    throw OptionError("SpectralOptions.probes",
+                      "must be at least 2 (for an error bound), got " + std::to_string(probes));
+  if (quadrature < 1)
+    throw OptionError("SpectralOptions.quadrature", "must be at least 1 step, got 0");
 }
 
 namespace {
@@ -195,7 +201,8 @@ std::vector<double> finish_axes(detail::EigenPairs& pairs, std::size_t dims,
                       short_number(v) + " is at or below the noise floor " + short_number(noise) +
                       " of float32 geodesics"
                 : "axis " + std::to_string(k + 1) +
-                      " carries no structure and is set to 0: --dims " + std::to_string(dims) +
+                      " carries no structure and is set to 0: SpectralOptions.dims " +
+                      std::to_string(dims) +
                       " goes beyond the positive part of the spectrum (eigenvalue " +
                       short_number(v) + ")");
   }

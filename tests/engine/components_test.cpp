@@ -64,7 +64,7 @@ double distance(const PointSet& p, std::size_t a, std::size_t b) {
 TEST_CASE("union-find components equal breadth-first search", "[components]") {
   const auto pts = blobs({50, 7, 1, 120, 3}, 4);
   GraphOptions o;
-  o.k = 2;
+  o.neighbourhood = NearestK{2};
   o.mutual = true;  // mutual graphs split readily, leaving isolated points too
   const auto g = build_neighbour_graph(pts, o).graph;
   const auto c = connected_components(g);
@@ -81,7 +81,7 @@ TEST_CASE("union-find components equal breadth-first search", "[components]") {
 TEST_CASE("fail policy names the component sizes", "[components]") {
   const auto pts = blobs({40, 30, 20, 10, 5, 4, 3}, 1);
   GraphOptions o;
-  o.k = 2;
+  o.neighbourhood = NearestK{2};
   const auto g = build_neighbour_graph(pts, o).graph;
   REQUIRE(connected_components(g).count == 7);
   ComponentOptions c;
@@ -96,7 +96,7 @@ TEST_CASE("largest policy keeps the largest component and lists the dropped node
           "[components]") {
   const auto pts = blobs({30, 80, 20}, 2);
   GraphOptions o;
-  o.k = 3;
+  o.neighbourhood = NearestK{3};
   const auto g = build_neighbour_graph(pts, o).graph;
   ComponentOptions c;
   c.policy = ComponentPolicy::largest;
@@ -129,7 +129,7 @@ TEST_CASE("bridge policy adds the minimum spanning forest over components", "[co
   // Sizes cover both search paths: sets of <= 32 nodes and larger ones.
   const auto pts = blobs({60, 5, 4, 45, 12, 6, 33}, 9);
   GraphOptions o;
-  o.k = 3;
+  o.neighbourhood = NearestK{3};
   const auto g = build_neighbour_graph(pts, o).graph;
   const auto labels = connected_components(g);
   REQUIRE(labels.count == 7);
@@ -174,7 +174,7 @@ TEST_CASE("bridge policy adds the minimum spanning forest over components", "[co
 TEST_CASE("a connected graph passes through every policy unchanged", "[components]") {
   const auto pts = blobs({100}, 3);
   GraphOptions o;
-  o.k = 5;
+  o.neighbourhood = NearestK{5};
   const auto g = build_neighbour_graph(pts, o).graph;
   for (auto p : {ComponentPolicy::fail, ComponentPolicy::largest, ComponentPolicy::bridge}) {
     ComponentOptions c;

@@ -89,7 +89,7 @@ TEST_CASE("node_graph: duplicates share a node whose point is the first copy", "
   PointSet p = stacked(line(6), line(1));
   std::copy_n(p.row(2), 2, p.row(6));  // row 6: an exact copy of row 2
   GraphOptions go;
-  go.k = 2;
+  go.neighbourhood = NearestK{2};
   const NodeGraph g = node_graph(p, go);
   REQUIRE(g.graph.nodes() == 6);  // exact duplicates merged (analytic: 6 distinct points)
   CHECK(g.node_of_point.size() == 7);
@@ -111,7 +111,7 @@ TEST_CASE("order_nodes: the ordered graph keeps every edge of the kept component
   // the largest keeps the 10-point line.
   const PointSet p = stacked(line(10), line(4, 1000.0f));
   GraphOptions go;
-  go.k = 2;
+  go.neighbourhood = NearestK{2};
   const NodeGraph g = node_graph(p, go);
   ComponentOptions co;
   co.policy = ComponentPolicy::largest;
@@ -140,7 +140,7 @@ TEST_CASE("source_rows: all rows of a cycle in exact mode", "[steps]") {
   const NeighbourGraph g = cycle(n);
   const Numbering id = Numbering::identity(n);
   SourceRowsOptions so;
-  so.exact = true;
+  so.landmarks.count = AllLandmarks{};
   const SourceRows s = source_rows(g, id.values(), so);
   REQUIRE(s.all_nodes);
   REQUIRE(s.rows.rows == n);
@@ -155,7 +155,7 @@ TEST_CASE("source_rows: landmark rows of a cycle, the same nodes in any node ord
   const std::size_t n = 16;
   const NeighbourGraph g = cycle(n);
   SourceRowsOptions so;
-  so.landmarks.count = 4;
+  so.landmarks.count = LandmarkCount{4};
   so.landmarks.pick = Pick::random;
   so.landmarks.seed = 7;
   const SourceRows s = source_rows(g, Numbering::identity(n).values(), so);
@@ -200,9 +200,7 @@ TEST_CASE("map_nodes: a path unfolds onto a line in exact and landmark mode", "[
   sp.dims = 1;
   for (bool exact : {true, false}) {
     SourceRowsOptions so;
-    so.exact = exact;
-    so.landmarks.count = 3;
-    so.landmarks.dims = 1;
+    so.landmarks.count = exact ? LandmarkChoice{AllLandmarks{}} : LandmarkChoice{LandmarkCount{3}};
     const SourceRows s = source_rows(g, Numbering::identity(n).values(), so);
     const SpectralResult map = map_nodes(s, sp);
     REQUIRE(map.coords.rows == n);

@@ -32,11 +32,10 @@ TEST_CASE("embed_points: a line with a copy and a far piece maps back to input r
   const PointSet p = line_with_copy_and_outliers();
   for (bool exact : {true, false}) {
     EmbedOptions o;
-    o.graph.k = 2;
+    o.graph.neighbourhood = NearestK{2};
     o.components.policy = ComponentPolicy::largest;
     o.spectral.dims = 1;
-    o.exact = exact;
-    o.landmarks.count = exact ? 0 : 4;
+    o.landmarks.count = exact ? LandmarkChoice{AllLandmarks{}} : LandmarkChoice{LandmarkCount{4}};
     o.keep_geodesics = true;
     const EmbedResult r = embed_points(p, o);
     const std::vector<std::size_t> kept{0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12};
@@ -72,7 +71,7 @@ TEST_CASE("embed_graph: a given cycle and a far path keep the cycle's nodes", "[
   const NeighbourGraph g = graph_from_edges(24, from, to, length);
   EmbedOptions o;
   o.components.policy = ComponentPolicy::largest;
-  o.landmarks.count = 5;
+  o.landmarks.count = LandmarkCount{5};
   o.keep_geodesics = true;
   const EmbedResult r = embed_graph(g, o);
   CHECK(r.dropped == std::vector<std::size_t>{20, 21, 22, 23});

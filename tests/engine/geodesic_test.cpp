@@ -23,7 +23,7 @@ TEST_CASE("dijkstra on a path graph gives the prefix sums of the lengths", "[geo
   for (NodeId i = 0; i < lengths.size(); ++i) edges.push_back({i, i + 1, lengths[i]});
   const auto g = unfurl::test::graph_from_edges(5, edges);
   const std::vector<NodeId> sources{0, 4, 2};
-  const auto rows = unfurl::geodesic_rows(g, sources);
+  const auto rows = unfurl::geodesic_rows(g, {sources}).rows;
   REQUIRE(rows.rows == 3);
   REQUIRE(rows.cols == 5);
   CHECK(rows.sources == sources);
@@ -39,7 +39,7 @@ TEST_CASE("dijkstra rows equal Floyd-Warshall on random graphs", "[geodesic]") {
   for (std::uint64_t seed : {1u, 2u, 3u}) {
     const auto g = unfurl::test::random_connected_graph(60, 120, seed);
     const auto oracle = unfurl::test::floyd_warshall(g);  // Floyd 1962, see test_util.hpp
-    const auto rows = unfurl::all_geodesic_rows(g);
+    const auto rows = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
     REQUIRE(rows.rows == 60);
     for (std::size_t i = 0; i < 60; ++i)
       for (std::size_t j = 0; j < 60; ++j)
@@ -51,9 +51,9 @@ TEST_CASE("rows do not depend on the thread count", "[geodesic]") {
   const auto g = unfurl::test::random_connected_graph(300, 900, 9);
   const int before = omp_get_max_threads();
   omp_set_num_threads(1);
-  const auto one = unfurl::all_geodesic_rows(g);
+  const auto one = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
   omp_set_num_threads(2);
-  const auto two = unfurl::all_geodesic_rows(g);
+  const auto two = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
   omp_set_num_threads(before);
   CHECK(one.values == two.values);
 }
@@ -63,12 +63,12 @@ TEST_CASE("an unreachable node is an error that says how many", "[geodesic]") {
   // and must reach the caller.
   const auto g = unfurl::test::graph_from_edges(5, {{0, 1, 1.f}, {1, 2, 1.f}, {3, 4, 1.f}});
   const std::vector<NodeId> sources{0, 1, 2, 3};
-  CHECK_THROWS_AS(unfurl::geodesic_rows(g, sources), unfurl::DataError);
+  CHECK_THROWS_AS(unfurl::geodesic_rows(g, {sources}).rows, unfurl::DataError);
   const std::vector<NodeId> first{0};
-  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, first),
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, {first}).rows,
                     Catch::Contains("2 of 5 graph nodes are unreachable from node 0"));
   // All pairs: checked from node 0 before any run, so one message whatever the threads.
-  CHECK_THROWS_WITH(unfurl::all_geodesic_rows(g),
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows,
                     Catch::Contains("2 of 5 graph nodes are unreachable from node 0"));
 }
 
@@ -80,44 +80,47 @@ TEST_CASE("path lengths beyond float32's range are refused for the range", "[geo
   const auto huge = unfurl::test::graph_from_edges(
       5, {{0, 1, 1e38f}, {1, 2, 1e38f}, {2, 3, 1e38f}, {3, 4, 1e38f}});
   const std::vector<NodeId> first{0};
-  CHECK_THROWS_AS(unfurl::geodesic_rows(huge, first), unfurl::DataError);
-  CHECK_THROWS_WITH(unfurl::geodesic_rows(huge, first), Catch::Contains("float32's range") &&
-                                                            Catch::Contains("longest edge 1e+38") &&
-                                                            !Catch::Contains("unreachable"));
-  CHECK_THROWS_WITH(unfurl::all_geodesic_rows(huge), Catch::Contains("float32's range"));
+  CHECK_THROWS_AS(unfurl::geodesic_rows(huge, {first}).rows, unfurl::DataError);
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(huge, {first}).rows,
+                    Catch::Contains("float32's range") && Catch::Contains("longest edge 1e+38") &&
+                        !Catch::Contains("unreachable"));
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(huge, {unfurl::EveryNode{}}).rows,
+                    Catch::Contains("float32's range"));
   // One long edge among short ones: no path can exceed the sum of all edges (3e38 + 3), so
   // the rows are computed, and they are exact prefix sums.
   const auto one_long =
       unfurl::test::graph_from_edges(5, {{0, 1, 3e38f}, {1, 2, 1.f}, {2, 3, 1.f}, {3, 4, 1.f}});
-  const auto rows = unfurl::geodesic_rows(one_long, first);
+  const auto rows = unfurl::geodesic_rows(one_long, {first}).rows;
   CHECK(rows.row(0)[1] == 3e38f);
   CHECK(std::isfinite(rows.row(0)[4]));
 }
 
-TEST_CASE("bad sources and malformed graphs are data errors", "[geodesic]") {
+TEST_CASE("bad sources are option errors, malformed graphs data errors", "[geodesic]") {
   auto g = unfurl::test::graph_from_edges(3, {{0, 1, 1.f}, {1, 2, 1.f}});
   const std::vector<NodeId> beyond{3};
-  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, beyond), Catch::Contains("source 0 is node 3"));
+  CHECK_THROWS_AS(unfurl::geodesic_rows(g, {beyond}), unfurl::OptionError);
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, {beyond}).rows, Catch::Contains("source 0 is node 3"));
   g.targets[0] = 7;
   const std::vector<NodeId> ok{0};
-  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, ok), Catch::Contains("points to node 7"));
+  CHECK_THROWS_WITH(unfurl::geodesic_rows(g, {ok}).rows, Catch::Contains("points to node 7"));
   g.targets[0] = 1;
   g.lengths[1] = std::nanf("");
-  CHECK_THROWS_AS(unfurl::geodesic_rows(g, ok), unfurl::DataError);
+  CHECK_THROWS_AS(unfurl::geodesic_rows(g, {ok}).rows, unfurl::DataError);
 }
 
 TEST_CASE("a stop request stops dijkstra", "[geodesic]") {
   const auto g = unfurl::test::random_connected_graph(200, 400, 4);
   std::atomic<bool> flag{true};
-  CHECK_THROWS_AS(unfurl::all_geodesic_rows(g, unfurl::StopToken{&flag}), unfurl::InterruptedError);
+  CHECK_THROWS_AS(unfurl::geodesic_rows(g, {unfurl::EveryNode{}}, unfurl::StopToken{&flag}),
+                  unfurl::InterruptedError);
   flag = false;
-  CHECK_NOTHROW(unfurl::all_geodesic_rows(g, unfurl::StopToken{&flag}));
+  CHECK_NOTHROW(unfurl::geodesic_rows(g, {unfurl::EveryNode{}}, unfurl::StopToken{&flag}));
 }
 
 TEST_CASE("duplicate points: zero-length edges give zero distances", "[geodesic]") {
   const auto g = unfurl::test::graph_from_edges(3, {{0, 1, 0.f}, {1, 2, 2.f}});
   const std::vector<NodeId> s{0};
-  const auto rows = unfurl::geodesic_rows(g, s);
+  const auto rows = unfurl::geodesic_rows(g, {s}).rows;
   CHECK(rows.row(0)[1] == 0.0f);
   CHECK(rows.row(0)[2] == 2.0f);
 }
@@ -158,10 +161,10 @@ TEST_CASE("all-pairs rows are exactly symmetric and take each pair from a full r
   for (float& w : ties.lengths) w = std::round(w * 4.0f) / 4.0f + 0.25f;
   for (const auto& g : {unfurl::test::random_connected_graph(250, 700, 11), ties}) {
     const std::size_t n = g.nodes();
-    const auto all = unfurl::all_geodesic_rows(g);
+    const auto all = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
     std::vector<NodeId> every(n);
     std::iota(every.begin(), every.end(), NodeId{0});
-    const auto full = unfurl::geodesic_rows(g, every);
+    const auto full = unfurl::geodesic_rows(g, {every}).rows;
     for (std::size_t i = 0; i < n; ++i) {
       REQUIRE(all.row(i)[i] == 0.0f);
       for (std::size_t j = 0; j < n; ++j) {
@@ -198,7 +201,7 @@ TEST_CASE("Dial's buckets and the radix heap both give Floyd-Warshall's distance
   REQUIRE_FALSE(unfurl::detail::DijkstraWorkspace(zero).uses_buckets());
   for (const auto* g : {&spread, &tiny, &zero}) {
     const auto oracle = unfurl::test::floyd_warshall(*g);
-    const auto rows = unfurl::all_geodesic_rows(*g);
+    const auto rows = unfurl::geodesic_rows(*g, {unfurl::EveryNode{}}).rows;
     for (std::size_t i = 0; i < 300; ++i)
       for (std::size_t j = 0; j < 300; ++j)
         REQUIRE(rows.row(i)[j] == Approx(oracle[i * 300 + j]).epsilon(1e-5).margin(1e-6));
@@ -222,8 +225,25 @@ TEST_CASE("bucket runs that float32 keys make inexact are redone with the heap",
   CHECK_FALSE(work.uses_buckets());  // the first run found it out and fell back
   const auto oracle = unfurl::test::floyd_warshall(g);
   for (std::size_t j = 0; j < n; ++j) REQUIRE(row[j] == Approx(oracle[j]).epsilon(1e-5));
-  const auto rows = unfurl::all_geodesic_rows(g);
+  const auto rows = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
   for (std::size_t i = 0; i < n; ++i)
     for (std::size_t j = 0; j < n; ++j)
       REQUIRE(rows.row(i)[j] == Approx(oracle[i * n + j]).epsilon(1e-5).margin(1e-6));
+}
+
+TEST_CASE("the geodesic stage returns its summary with the rows", "[geodesic]") {
+  const auto g = unfurl::test::random_connected_graph(30, 30, 1);
+  const std::vector<NodeId> three{4, 0, 4};
+  const auto listed = unfurl::geodesic_rows(g, {three});
+  CHECK(listed.rows.sources == three);
+  CHECK(listed.summary.sources == 3);
+  CHECK(listed.summary.nodes == 30);
+  CHECK(listed.summary.threads >= 1);
+  const auto every = unfurl::geodesic_rows(g, {unfurl::EveryNode{}});
+  CHECK(every.rows.rows == 30);
+  CHECK(every.summary.sources == 30);
+  // A listed source's row matches that node's row among all of them, up to float32 rounding
+  // of sums taken along different runs (see the all-pairs test above).
+  for (std::size_t j = 0; j < 30; ++j)
+    CHECK(every.rows.row(4)[j] == Approx(listed.rows.row(0)[j]).epsilon(1e-5));
 }

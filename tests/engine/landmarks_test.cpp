@@ -1,4 +1,5 @@
 #include "engine/landmarks.hpp"
+#include "engine/embedding.hpp"
 
 #include <omp.h>
 
@@ -47,7 +48,7 @@ TEST_CASE("maxmin picks follow the greedy farthest-point definition", "[landmark
   for (std::uint64_t seed : {1u, 5u, 8u}) {
     const auto g = unfurl::test::random_connected_graph(80, 150, seed);
     unfurl::LandmarkOptions o;
-    o.count = 12;
+    o.count = unfurl::LandmarkCount{12};
     o.seed = seed;
     const auto r = unfurl::pick_landmarks(g, o);
     CHECK(r.rows.sources == maxmin_by_definition(g, 12, seed));
@@ -68,7 +69,7 @@ TEST_CASE("maxmin on a path picks the far end, then the middle", "[landmarks]") 
   std::uint64_t seed = 1;
   while (unfurl::Random(seed).below(11) != 0) ++seed;  // a seed whose first draw is node 0
   unfurl::LandmarkOptions o;
-  o.count = 3;
+  o.count = unfurl::LandmarkCount{3};
   o.seed = seed;
   const auto r = unfurl::pick_landmarks(g, o);
   CHECK(r.rows.sources == std::vector<NodeId>{0, 10, 5});
@@ -78,7 +79,7 @@ TEST_CASE("maxmin on a path picks the far end, then the middle", "[landmarks]") 
 TEST_CASE("random picks are distinct and follow the seed", "[landmarks]") {
   const auto g = unfurl::test::random_connected_graph(100, 200, 2);
   unfurl::LandmarkOptions o;
-  o.count = 30;
+  o.count = unfurl::LandmarkCount{30};
   o.pick = unfurl::Pick::random;
   o.seed = 4;
   const auto a = unfurl::pick_landmarks(g, o);
@@ -92,7 +93,7 @@ TEST_CASE("random picks are distinct and follow the seed", "[landmarks]") {
 TEST_CASE("landmark rows do not depend on the thread count", "[landmarks]") {
   const auto g = unfurl::test::random_connected_graph(2000, 6000, 3);
   unfurl::LandmarkOptions o;
-  o.count = 40;
+  o.count = unfurl::LandmarkCount{40};
   const int before = omp_get_max_threads();
   omp_set_num_threads(1);
   const auto one = unfurl::pick_landmarks(g, o);
@@ -105,22 +106,29 @@ TEST_CASE("landmark rows do not depend on the thread count", "[landmarks]") {
 
 TEST_CASE("landmark options are validated with the field named", "[landmarks]") {
   unfurl::LandmarkOptions o;
-  o.count = 2;
-  CHECK_THROWS_WITH(o.validate(100), Catch::Contains("--landmarks: must be at least dims + 1"));
-  o.count = 101;
-  CHECK_THROWS_WITH(o.validate(100), Catch::Contains("--landmarks: must be at most"));
-  o.count = 0;
+  o.count = unfurl::LandmarkCount{1};
+  CHECK_THROWS_WITH(o.validate(100), Catch::Contains("LandmarkOptions.count: must be at least 2"));
+  o.count = unfurl::LandmarkCount{101};
+  CHECK_THROWS_WITH(o.validate(100), Catch::Contains("LandmarkOptions.count: must be at most"));
+  o.count = unfurl::AutomaticLandmarks{};
   CHECK(o.resolved_count(100) == 100);
   CHECK(o.resolved_count(100000) == 256);
-  o.dims = 0;
-  CHECK_THROWS_WITH(o.validate(100), Catch::Contains("--dims"));
+  o.count = unfurl::AllLandmarks{};
+  CHECK(o.resolved_count(100) == 100);
+  // At least dims + 1 landmarks: checked where the map's dims are known, by the embedding.
+  unfurl::EmbedOptions e;
+  e.landmarks.count = unfurl::LandmarkCount{2};
+  CHECK_THROWS_WITH(e.validate(100), Catch::Contains("LandmarkOptions.count: must be at least "
+                                                     "SpectralOptions.dims + 1 = 3"));
+  e.spectral.dims = 0;
+  CHECK_THROWS_WITH(e.validate(100), Catch::Contains("SpectralOptions.dims"));
 }
 
 TEST_CASE("landmarks on a disconnected graph or after a stop request throw", "[landmarks]") {
   const auto split =
       unfurl::test::graph_from_edges(6, {{0, 1, 1.f}, {1, 2, 1.f}, {3, 4, 1.f}, {4, 5, 1.f}});
   unfurl::LandmarkOptions o;
-  o.count = 3;
+  o.count = unfurl::LandmarkCount{3};
   CHECK_THROWS_WITH(unfurl::pick_landmarks(split, o), Catch::Contains("3 of 6 graph nodes"));
   o.pick = unfurl::Pick::random;
   CHECK_THROWS_AS(unfurl::pick_landmarks(split, o), unfurl::DataError);
@@ -138,11 +146,10 @@ TEST_CASE("maxmin warns when a landmark coincides with an earlier one", "[landma
   // needed, one pick lies at distance 0 from an earlier one.
   const auto g = unfurl::test::graph_from_edges(3, {{0, 1, 0.f}, {1, 2, 1.f}});
   unfurl::LandmarkOptions o;
-  o.count = 3;
+  o.count = unfurl::LandmarkCount{3};
   const auto r = unfurl::pick_landmarks(g, o);
   REQUIRE(r.summary.warnings.size() == 1);
   CHECK_THAT(r.summary.warnings[0], Catch::Contains("duplicate points"));
-  o.count = 2;
-  o.dims = 1;
+  o.count = unfurl::LandmarkCount{2};
   CHECK(unfurl::pick_landmarks(g, o).summary.warnings.empty());
 }

@@ -73,7 +73,8 @@ TEST_CASE("PCA refuses bad options and values", "[linear]") {
   unfurl::PointSet p(10, 3);
   unfurl::LinearOptions o;
   o.dims = 4;
-  CHECK_THROWS_WITH(unfurl::linear_map(p, o), Catch::Contains("--dims: must be at most"));
+  CHECK_THROWS_WITH(unfurl::linear_map(p, o),
+                    Catch::Contains("LinearOptions.dims: must be at most"));
   o.dims = 2;
   p.row(4)[1] = std::nanf("");
   CHECK_THROWS_WITH(unfurl::linear_map(p, o), Catch::Contains("row 4, column 1"));

@@ -99,8 +99,12 @@ TEST_CASE("tree and scan equal brute force, ties and duplicates included", "[nei
         const auto other = brute_knn(data, queries, k, false);
         for (const Search s : {Search::tree, Search::scan}) {
           INFO("grid " << grid << " d " << d << " k " << k << " " << search_name(s));
-          check_equal(exact_knn(data, data, k, s, true, 64), self);
-          check_equal(exact_knn(data, queries, k, s, false, 7), other);
+          check_equal(
+              exact_knn(data, data, {.k = k, .search = s, .exclude_self = true, .block_rows = 64}),
+              self);
+          check_equal(exact_knn(data, queries,
+                                {.k = k, .search = s, .exclude_self = false, .block_rows = 7}),
+                      other);
         }
       }
     }
@@ -113,7 +117,9 @@ TEST_CASE("scan stays exact when the data sit far from the origin", "[neighbours
   auto data = random_points(200, 30, 5, false);
   for (std::size_t i = 0; i < data.rows; ++i)
     for (std::size_t j = 0; j < data.cols; ++j) data.row(i)[j] = 1000.0f + 0.01f * data.row(i)[j];
-  check_equal(exact_knn(data, data, 5, Search::scan, true, 16), brute_knn(data, data, 5, true));
+  check_equal(exact_knn(data, data,
+                        {.k = 5, .search = Search::scan, .exclude_self = true, .block_rows = 16}),
+              brute_knn(data, data, 5, true));
 }
 
 TEST_CASE("points whose squared distances overflow float32 are refused, not searched",
@@ -124,14 +130,16 @@ TEST_CASE("points whose squared distances overflow float32 are refused, not sear
   pts.row(7)[0] = -1.0e28f;
   for (const Search s : {Search::tree, Search::scan}) {
     GraphOptions o;
-    o.k = 5;
+    o.neighbourhood = NearestK{5};
     o.search = s;
     CHECK_THROWS_AS(build_neighbour_graph(pts, o), unfurl::DataError);
-    CHECK_THROWS_AS(exact_knn(pts, pts, 5, s, true, 16), unfurl::DataError);
+    CHECK_THROWS_AS(
+        exact_knn(pts, pts, {.k = 5, .search = s, .exclude_self = true, .block_rows = 16}),
+        unfurl::DataError);
   }
   pts.row(7)[0] = -1.0e18f;  // squares to 1e36: still searched
   GraphOptions o;
-  o.k = 5;
+  o.neighbourhood = NearestK{5};
   CHECK(build_neighbour_graph(pts, o).graph.nodes() == 40);
 }
 
@@ -152,7 +160,7 @@ TEST_CASE("kNN graph is the union or mutual symmetrisation of the brute-force li
     }
   for (const Search s : {Search::tree, Search::scan}) {
     GraphOptions o;
-    o.k = k;
+    o.neighbourhood = NearestK{k};
     o.search = s;
     const auto u = build_neighbour_graph(pts, o);
     check_csr(u.graph);
@@ -174,14 +182,13 @@ TEST_CASE("radius graph is inclusive at the boundary", "[neighbours]") {
   for (std::size_t i = 0; i < 4; ++i) p.row(i)[0] = xs[i];
   for (const Search s : {Search::tree, Search::scan}) {
     GraphOptions o;
-    o.k = 0;
-    o.radius = 2.0;
+    o.neighbourhood = WithinRadius{2.0};
     o.search = s;
     const auto g = build_neighbour_graph(p, o);
     CHECK(edges_of(g.graph) == EdgeSet{{0, 1}, {1, 0}, {1, 2}, {2, 1}});
     CHECK(g.summary.isolated_nodes == 1);
     CHECK(!g.summary.warnings.empty());
-    o.radius = std::nextafter(2.0, 0.0);
+    o.neighbourhood = WithinRadius{std::nextafter(2.0, 0.0)};
     CHECK(edges_of(build_neighbour_graph(p, o).graph) == EdgeSet{{0, 1}, {1, 0}});
   }
 }
@@ -198,8 +205,7 @@ TEST_CASE("radius graph equals brute force on random data", "[neighbours]") {
     REQUIRE(!expect.empty());
     for (const Search s : {Search::tree, Search::scan}) {
       GraphOptions o;
-      o.k = 0;
-      o.radius = r;
+      o.neighbourhood = WithinRadius{r};
       o.search = s;
       const auto g = build_neighbour_graph(pts, o);
       check_csr(g.graph);
@@ -219,7 +225,7 @@ TEST_CASE("duplicate rows are merged, counted and mapped to their first row", "[
   all.row(6)[1] = all.row(5)[1];
   all.row(6)[2] = all.row(5)[2];
   GraphOptions o;
-  o.k = 5;
+  o.neighbourhood = NearestK{5};
   const auto g = build_neighbour_graph(all, o);
   CHECK(g.summary.duplicate_groups == 11);
   CHECK(g.summary.duplicate_rows == 21);
@@ -256,7 +262,7 @@ TEST_CASE("rows equal only in float32 (different row keys) are not merged", "[ne
   all.row_keys[base] = 7;
   all.row_keys[base + 1] = all.row_keys[4];
   GraphOptions o;
-  o.k = 4;
+  o.neighbourhood = NearestK{4};
   const auto g = build_neighbour_graph(all, o);
   CHECK(g.summary.duplicate_rows == 1);
   CHECK(g.graph.nodes() == base + 1);
@@ -271,24 +277,24 @@ TEST_CASE("rows equal only in float32 (different row keys) are not merged", "[ne
 TEST_CASE("bad options and data are refused with the field named", "[neighbours]") {
   const auto pts = random_points(20, 3, 1, false);
   GraphOptions o;
-  o.k = 0;
-  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), "--k: must be at least 1, got 0");
-  o.k = 20;
+  o.neighbourhood = NearestK{0};
+  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), "NearestK.k: must be at least 1, got 0");
+  o.neighbourhood = NearestK{20};
   CHECK_THROWS_AS(build_neighbour_graph(pts, o), OptionError);
-  o.k = 3;
-  o.radius = 1.0;
-  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), Catch::Contains("--radius"));
-  o.k = 0;
-  o.radius = -1.0;
+  // k and radius together cannot be written (Neighbourhood holds one); a zero radius, which
+  // once meant "no radius", is refused like any other non-positive one.
+  o.neighbourhood = WithinRadius{0.0};
+  CHECK_THROWS_WITH(build_neighbour_graph(pts, o), Catch::Contains("WithinRadius.radius"));
+  o.neighbourhood = WithinRadius{-1.0};
   CHECK_THROWS_AS(build_neighbour_graph(pts, o), OptionError);
   // A radius under which every point is isolated is an error, not an empty graph.
-  o.radius = 1e-6;
+  o.neighbourhood = WithinRadius{1e-6};
   CHECK_THROWS_WITH(build_neighbour_graph(pts, o), Catch::Contains("closest pair"));
   CHECK_THROWS_AS(build_neighbour_graph(pts, o), DataError);
   // Too few distinct points for k.
   PointSet same(10, 2);
   GraphOptions k3;
-  k3.k = 3;
+  k3.neighbourhood = NearestK{3};
   CHECK_THROWS_AS(build_neighbour_graph(same, k3), DataError);
   auto bad = pts;
   bad.row(7)[2] = std::nanf("");
@@ -320,15 +326,17 @@ TEST_CASE("results do not depend on the thread count", "[neighbours]") {
   // chunks (1 << 16 edges each), whose rows fill in a thread-dependent order before sorting.
   const auto pts = random_points(20000, 3, 8, false);
   GraphOptions o;
-  o.k = 8;
+  o.neighbourhood = NearestK{8};
   const int threads = omp_get_max_threads();
   const auto wide = random_points(700, 60, 8, true);  // grid values: many ties
   omp_set_num_threads(1);
   const auto one = build_neighbour_graph(pts, o);
-  const auto scan_one = exact_knn(wide, wide, 9, Search::scan, true, 64);
+  const auto scan_one = exact_knn(
+      wide, wide, {.k = 9, .search = Search::scan, .exclude_self = true, .block_rows = 64});
   omp_set_num_threads(std::max(2, threads));
   const auto many = build_neighbour_graph(pts, o);
-  const auto scan_many = exact_knn(wide, wide, 9, Search::scan, true, 64);
+  const auto scan_many = exact_knn(
+      wide, wide, {.k = 9, .search = Search::scan, .exclude_self = true, .block_rows = 64});
   omp_set_num_threads(threads);
   CHECK(one.graph.targets == many.graph.targets);
   CHECK(one.graph.lengths == many.graph.lengths);

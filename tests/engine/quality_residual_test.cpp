@@ -21,7 +21,7 @@ struct Roll {
 Roll roll(std::size_t n, std::uint64_t seed) {
   const auto set = unfurl::swiss_roll(n, seed);
   unfurl::GraphOptions go;
-  go.k = 10;
+  go.neighbourhood = unfurl::NearestK{10};
   auto g = unfurl::build_neighbour_graph(set.points, go);
   REQUIRE(g.graph.nodes() == n);  // no duplicates: node v is point v
   return {std::move(g.graph), set.truth};
@@ -50,7 +50,7 @@ double all_pairs(const unfurl::DistanceRows& d, const unfurl::PointSet& map, std
 
 TEST_CASE("residual variance over all pairs equals the direct all-pairs formula", "[quality]") {
   const Roll r = roll(400, 31);
-  const auto all = unfurl::all_geodesic_rows(r.graph);
+  const auto all = unfurl::geodesic_rows(r.graph, {unfurl::EveryNode{}}).rows;
   unfurl::ResidualOptions o;  // 400 nodes: under the all-pairs limit
   const auto curve = unfurl::graph_residual_variance(r.graph, r.truth, o, {});
   CHECK(!curve.sampled);
@@ -63,7 +63,7 @@ TEST_CASE("residual variance over all pairs equals the direct all-pairs formula"
 TEST_CASE("random source rows estimate the all-pairs residual variance within their error",
           "[quality]") {
   const Roll r = roll(1500, 32);
-  const auto all = unfurl::all_geodesic_rows(r.graph);
+  const auto all = unfurl::geodesic_rows(r.graph, {unfurl::EveryNode{}}).rows;
   unfurl::ResidualOptions o;
   o.all_pairs_limit = 1000;  // force the sampled path
   o.sources = 256;

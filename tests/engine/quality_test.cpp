@@ -315,7 +315,7 @@ TEST_CASE("residual variance vanishes for an isometric 2-D map", "[quality]") {
   CHECK(curve.by_dims[1] < 1e-6);  // float32 coordinates: rounding only
   CHECK(curve.by_dims[0] > 0.01);
   // The same from a seeded sample of pairs with input-space distances.
-  const auto pairs = sample_pair_distances(plane, 5000, 3);
+  const auto pairs = sample_pair_distances(plane, {.count = 5000, .seed = 3});
   const auto sampled = residual_variance(pairs, map);
   CHECK(sampled.sampled);
   CHECK(sampled.pairs == 5000);
@@ -355,11 +355,11 @@ TEST_CASE("Levina-Bickel recovers the dimension of a plane and of a Gaussian", "
   PointSet gauss(2000, 5);
   for (float& v : gauss.values) v = static_cast<float>(rng.normal());
   const std::size_t k = 10;
-  const auto p = levina_bickel(knn_distances(plane, k), plane.rows, k);
+  const auto p = levina_bickel(knn_distances(plane, k), plane.rows, {.k = k});
   CHECK(p.estimate == Approx(2.0).margin(0.15));
   CHECK(p.points_used == 2000);
   CHECK(p.averaging == "inverse");
-  const auto g = levina_bickel(knn_distances(gauss, k), gauss.rows, k);
+  const auto g = levina_bickel(knn_distances(gauss, k), gauss.rows, {.k = k});
   CHECK(g.estimate == Approx(5.0).margin(0.3));
 }
 
@@ -367,7 +367,7 @@ TEST_CASE("Levina-Bickel skips points with duplicates", "[quality]") {
   // Point 1 has a twin (distance 0): log(T_k / 0) is infinite, so the point is left out.
   // The other rows give inverses log(4/1)/2 + log(4/2)/2 = 1.5 log 2 each (k = 3).
   const std::vector<float> d = {1, 2, 4, 0, 2, 4, 1, 2, 4};
-  const auto r = levina_bickel(d, 3, 3);
+  const auto r = levina_bickel(d, 3, {.k = 3});
   CHECK(r.points_used == 2);
   CHECK(r.points_skipped == 1);
   CHECK(r.estimate == Approx(1.0 / (1.5 * std::log(2.0))).epsilon(1e-12));
@@ -388,24 +388,24 @@ TEST_CASE("the intrinsic dimension is taken on distinct points", "[quality]") {
     std::copy_n(distinct.row(from), 2, rows.row(i));
   }
   const std::size_t k = 10;
-  const auto truth = levina_bickel(knn_distances(distinct, k), distinct.rows, k);
-  const auto merged = intrinsic_dimension(rows, k);
+  const auto truth = levina_bickel(knn_distances(distinct, k), distinct.rows, {.k = k});
+  const auto merged = intrinsic_dimension(rows, {.k = k});
   CHECK(merged.estimate == Approx(truth.estimate).epsilon(1e-12));
   CHECK(merged.points_used == 300);
   CHECK(merged.points == "distinct");
   GraphOptions go;
-  go.k = k;
+  go.neighbourhood = NearestK{k};
   const GraphResult graph = build_neighbour_graph(rows, go);
   REQUIRE(graph.dimension.has_value());
   CHECK(graph.dimension->estimate == Approx(truth.estimate).epsilon(1e-12));
   CHECK(graph.dimension->points_used == 300);
   // Too few distinct points for k: k is lowered, with a warning; below 3 there is no estimate.
-  const auto small = intrinsic_dimension(rows, 400);
+  const auto small = intrinsic_dimension(rows, {.k = 400});
   CHECK(small.k == 299);
   CHECK(small.warnings.size() == 1);
   PointSet two(10, 2);
   for (std::size_t i = 0; i < 10; ++i) two.row(i)[0] = static_cast<float>(i % 2);
-  CHECK_THROWS_WITH(intrinsic_dimension(two, 5), Catch::Contains("3 distinct points"));
+  CHECK_THROWS_WITH(intrinsic_dimension(two, {.k = 5}), Catch::Contains("3 distinct points"));
 }
 
 TEST_CASE("quality stages refuse bad input with a message naming the fault", "[quality]") {
@@ -413,14 +413,14 @@ TEST_CASE("quality stages refuse bad input with a message naming the fault", "[q
   PointSet short_map(39, 2);
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, short_map, options_for({3})), DataError);
   CHECK_THROWS_WITH(neighbourhood_scores(roll.points, roll.truth, options_for({20})),
-                    Catch::Contains("--k") && Catch::Contains("got 20"));
+                    Catch::Contains("QualityOptions.ks") && Catch::Contains("got 20"));
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, roll.truth, options_for({20})), OptionError);
   CHECK_NOTHROW(neighbourhood_scores(roll.points, roll.truth, options_for({19})));
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, roll.truth, options_for({0})), OptionError);
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, roll.truth, options_for({})), OptionError);
   CHECK_THROWS_WITH(
       neighbourhood_scores(roll.points, roll.truth, options_for({3}, ScoreMethod::sampled, 1)),
-      Catch::Contains("--sample"));
+      Catch::Contains("QualityOptions.sample"));
   PointSet bad = roll.truth;
   bad.row(13)[1] = std::numeric_limits<float>::quiet_NaN();
   CHECK_THROWS_WITH(neighbourhood_scores(roll.points, bad, options_for({3})),
@@ -436,12 +436,13 @@ TEST_CASE("quality stages refuse bad input with a message naming the fault", "[q
   nan_rows.values[40 + 7] = std::numeric_limits<float>::quiet_NaN();
   CHECK_THROWS_WITH(residual_variance(nan_rows, roll.truth),
                     Catch::Contains("row 1") && Catch::Contains("column 7"));
-  CHECK_THROWS_AS(sample_pair_distances(roll.points, 0, 1), OptionError);
+  CHECK_THROWS_AS(sample_pair_distances(roll.points, {.count = 0, .seed = 1}), OptionError);
 
   // Levina-Bickel: k < 2, wrong size, a descending row.
-  CHECK_THROWS_AS(levina_bickel(std::vector<float>(40, 1.0f), 40, 1), OptionError);
-  CHECK_THROWS_AS(levina_bickel(std::vector<float>(41, 1.0f), 20, 2), DataError);
-  CHECK_THROWS_WITH(levina_bickel(std::vector<float>{1, 2, 3, 2}, 2, 2), Catch::Contains("row 1"));
+  CHECK_THROWS_AS(levina_bickel(std::vector<float>(40, 1.0f), 40, {.k = 1}), OptionError);
+  CHECK_THROWS_AS(levina_bickel(std::vector<float>(41, 1.0f), 20, {.k = 2}), DataError);
+  CHECK_THROWS_WITH(levina_bickel(std::vector<float>{1, 2, 3, 2}, 2, {.k = 2}),
+                    Catch::Contains("row 1"));
 }
 
 TEST_CASE("quality scoring stops on request", "[quality]") {

@@ -38,7 +38,7 @@ std::set<std::tuple<NodeId, NodeId, float>> mapped_edges(const NeighbourGraph& g
 TEST_CASE("every node order is a permutation that preserves the graph", "[reorder]") {
   const auto roll = swiss_roll(3000, 5);
   GraphOptions o;
-  o.k = 6;
+  o.neighbourhood = NearestK{6};
   const auto g = build_neighbour_graph(roll.points, o).graph;
   std::vector<NodeId> identity(g.nodes());
   for (std::size_t i = 0; i < identity.size(); ++i) identity[i] = static_cast<NodeId>(i);

@@ -87,7 +87,7 @@ TEST_CASE("the 4-cycle's geodesics are non-Euclidean with a known spectrum", "[s
   // Schoenberg 1935.
   const auto g =
       unfurl::test::graph_from_edges(4, {{0, 1, 1.f}, {1, 2, 1.f}, {2, 3, 1.f}, {3, 0, 1.f}});
-  const auto rows = unfurl::all_geodesic_rows(g);
+  const auto rows = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
   unfurl::SpectralOptions o;
   o.dims = 2;
   const auto r = unfurl::exact_mds(rows, o);
@@ -128,9 +128,9 @@ TEST_CASE("each axis' sign is fixed by its largest landmark coordinate", "[spect
 TEST_CASE("landmark and exact MDS give the same bytes on 1 and 2 threads", "[spectral]") {
   const auto g = unfurl::test::random_connected_graph(1500, 4000, 6);
   unfurl::LandmarkOptions lo;
-  lo.count = 30;
+  lo.count = unfurl::LandmarkCount{30};
   const auto landmarks = unfurl::pick_landmarks(g, lo);
-  const auto all = unfurl::all_geodesic_rows(g);
+  const auto all = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
   unfurl::SpectralOptions o;
   const int before = omp_get_max_threads();
   omp_set_num_threads(1);
@@ -149,9 +149,9 @@ TEST_CASE("landmark and exact MDS give the same bytes on 1 and 2 threads", "[spe
 TEST_CASE("spectral options and rows are validated", "[spectral]") {
   unfurl::SpectralOptions o;
   o.dims = 0;
-  CHECK_THROWS_WITH(o.validate(10), Catch::Contains("--dims: must be at least 1"));
+  CHECK_THROWS_WITH(o.validate(10), Catch::Contains("SpectralOptions.dims: must be at least 1"));
   o.dims = 10;
-  CHECK_THROWS_WITH(o.validate(10), Catch::Contains("--dims: must be below"));
+  CHECK_THROWS_WITH(o.validate(10), Catch::Contains("SpectralOptions.dims: must be below"));
   o.dims = 2;
   o.krylov = 2;
   CHECK_THROWS_WITH(o.validate(10), Catch::Contains("krylov"));
@@ -181,7 +181,7 @@ TEST_CASE("exact mode's implicit operator agrees with the dense solver, triangle
   // triangle (exactly symmetric rows, as all_geodesic_rows returns) or the whole matrix
   // (rows a last bit apart across the diagonal, as two separate Dijkstra runs can give).
   const auto g = unfurl::test::random_connected_graph(400, 1200, 4);
-  const auto rows = unfurl::all_geodesic_rows(g);
+  const auto rows = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
   for (std::size_t i = 0; i < rows.rows; ++i)
     for (std::size_t j = 0; j < i; ++j) REQUIRE(rows.row(i)[j] == rows.row(j)[i]);
   auto skewed = rows;

@@ -60,9 +60,9 @@ Whole whole_spectrum(const unfurl::DistanceRows& rows) {
 unfurl::DistanceRows roll_geodesics(std::size_t n, std::uint64_t seed) {
   const auto roll = unfurl::swiss_roll(n, seed);
   unfurl::GraphOptions go;
-  go.k = 10;
+  go.neighbourhood = unfurl::NearestK{10};
   const auto graph = unfurl::build_neighbour_graph(roll.points, go);
-  return unfurl::all_geodesic_rows(graph.graph);
+  return unfurl::geodesic_rows(graph.graph, {unfurl::EveryNode{}}).rows;
 }
 
 // A random n x n table of non-negative floats; symmetric with a zero diagonal (the layout
@@ -208,7 +208,7 @@ TEST_CASE("an axis beyond the positive part of the spectrum is named, warned abo
       5, {{0, 1, 1.f}, {1, 2, 1.f}, {2, 3, 1.f}, {3, 4, 1.f}, {4, 0, 1.f}});
   unfurl::SpectralOptions o;
   o.dims = 4;
-  const auto r = unfurl::exact_mds(unfurl::all_geodesic_rows(g), o);
+  const auto r = unfurl::exact_mds(unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows, o);
   REQUIRE(r.spectrum.size() == 5);
   CHECK(r.spectrum[0] == Approx(2.927051).epsilon(1e-5));
   CHECK(r.spectrum[3] == Approx(-0.427051).epsilon(1e-5));

@@ -75,9 +75,9 @@ void print_summary(const unfurl::SpectralResult& r) {
 int run(const std::vector<std::string>& a) {
   const std::string mode = a.size() > 1 ? a[1] : "";
   if (mode == "rows" && a.size() == 4) {
-    write_floats(a[3], unfurl::all_geodesic_rows(read_graph(a[2])).values);
+    write_floats(a[3], unfurl::geodesic_rows(read_graph(a[2]), {unfurl::EveryNode{}}).rows.values);
   } else if (mode == "exact" && a.size() == 5) {
-    const auto rows = unfurl::all_geodesic_rows(read_graph(a[2]));
+    const auto rows = unfurl::geodesic_rows(read_graph(a[2]), {unfurl::EveryNode{}}).rows;
     unfurl::SpectralOptions o;
     o.dims = std::stoul(a[4]);
     const auto r = unfurl::exact_mds(rows, o);
@@ -85,13 +85,12 @@ int run(const std::vector<std::string>& a) {
     write_floats(a[3], r.coords.values);
   } else if (mode == "landmark" && a.size() == 8) {
     unfurl::LandmarkOptions lo;
-    lo.dims = std::stoul(a[4]);
-    lo.count = std::stoul(a[5]);
+    lo.count = unfurl::LandmarkCount{std::stoul(a[5])};
     lo.seed = std::stoull(a[6]);
     lo.pick = a[7] == "random" ? unfurl::Pick::random : unfurl::Pick::maxmin;
     const auto picked = unfurl::pick_landmarks(read_graph(a[2]), lo);
     unfurl::SpectralOptions o;
-    o.dims = lo.dims;
+    o.dims = std::stoul(a[4]);
     const auto r = unfurl::landmark_mds(picked.rows, o);
     print_summary(r);
     write_floats(a[3], r.coords.values);

@@ -70,7 +70,8 @@ void write_edges(const NeighbourGraph& g, const std::string& path, bool with_len
 int run(const std::vector<std::string>& a) {
   if (a.size() == 5 && a[0] == "knn") {
     const auto p = read_points(a[1]);
-    const auto r = exact_knn(p, p, std::stoul(a[2]), search_of(a[3]), true);
+    const auto r =
+        exact_knn(p, p, {.k = std::stoul(a[2]), .search = search_of(a[3]), .exclude_self = true});
     std::ofstream out(a[4], std::ios::binary);
     const std::uint64_t head[2] = {p.rows, r.k};
     write(out, head, 2);
@@ -81,10 +82,9 @@ int run(const std::vector<std::string>& a) {
   if (a.size() == 5 && (a[0] == "radius" || a[0] == "union")) {
     GraphOptions o;
     if (a[0] == "radius") {
-      o.k = 0;
-      o.radius = std::stod(a[2]);
+      o.neighbourhood = WithinRadius{std::stod(a[2])};
     } else {
-      o.k = std::stoul(a[2]);
+      o.neighbourhood = NearestK{std::stoul(a[2])};
     }
     o.search = search_of(a[3]);
     const auto g = build_neighbour_graph(read_points(a[1]), o);

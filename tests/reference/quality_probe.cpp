@@ -154,7 +154,7 @@ int run(int argc, char** argv) {
   }
   if (cmd == "dimension" && argc == 4) {
     const PointSet knn = read_points(argv[2]);
-    const auto d = levina_bickel(knn.values, knn.rows, std::stoul(argv[3]));
+    const auto d = levina_bickel(knn.values, knn.rows, {.k = std::stoul(argv[3])});
     std::cout << "{\"estimate\": " << num(d.estimate) << ", \"used\": " << d.points_used
               << ", \"skipped\": " << d.points_skipped << "}\n";
     return 0;
