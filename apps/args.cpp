@@ -37,6 +37,12 @@ io::PointReadOptions to_read_options(const PointInputArgs& a) {
   return o;
 }
 
+void old_spelling_notice(const std::string& command, const std::string& old_name,
+                         const std::string& current) {
+  fmt::print(stderr, "unfurl: note: {} {} is now {}; the old spelling goes in the next release\n",
+             command, old_name, current);
+}
+
 void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
   // Whether --k and --radius were given is recorded: 0 or a negative radius must be refused,
   // not read as "no radius", and --k beside --radius must not be dropped silently.
@@ -177,17 +183,6 @@ void adapt_graph_k(const GraphArgs& a, std::size_t points, GraphOptions& o) {
 
 void adapt_score_k(const ScoreArgs& a, std::size_t points, AssessOptions& o) {
   if (!a.ks_given && points >= 3) o.neighbourhoods.ks = {default_score_k(points)};
-}
-
-void validate_score_options(const AssessOptions& o, std::size_t points) {
-  try {
-    o.validate(points);
-  } catch (const OptionError& e) {
-    // The engine names its field --k; on the command line it is --score-k.
-    const std::string message = e.what();
-    if (message.rfind("--k:", 0) == 0) throw OptionError("--score-k:" + message.substr(4));
-    throw;
-  }
 }
 
 namespace {

@@ -96,13 +96,6 @@ void check_points_identity(Notes& notes, const ScoreCommandArgs& a,
                   a.points.file, a.map, differences));
 }
 
-bool is_unfurl_map(const std::string& file) {
-  if (io::detect_point_format(file) != "hdf5") return false;
-  const io::H5Reader r(file);
-  return r.has_dataset("/coords") && r.has_dataset("/rows") &&
-         r.has_attribute("/", "format_version");
-}
-
 void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
   apply_globals(g);
   io::OutputSet outputs(stop_token());  // the output checked before any work
@@ -168,7 +161,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
         fmt::format("{}: {} points; score needs at least 3", a.points.file, input.rows));
   adapt_score_k(a.score, input.rows, options);
   options.dimension_k = a.dimension_k_given ? a.dimension_k : default_dimension_k(input.rows);
-  validate_score_options(options, input.rows);
+  options.validate(input.rows);
   print_notes(g, notes);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
                      map.cols, input.rows, input.cols));

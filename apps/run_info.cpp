@@ -7,6 +7,7 @@
 
 #include <fmt/core.h>
 
+#include "io/hdf5_file.hpp"
 #include "io/map_file.hpp"
 
 namespace unfurl::app {
@@ -49,4 +50,11 @@ std::uint64_t default_memory_limit() {
   if (pages <= 0 || page <= 0) return std::uint64_t{16} << 30;
   return static_cast<std::uint64_t>(pages) * static_cast<std::uint64_t>(page) / 5 * 4;
 }
+bool is_unfurl_map(const std::filesystem::path& file) {
+  if (io::detect_point_format(file) != "hdf5") return false;
+  const io::H5Reader r(file);
+  return r.has_dataset("/coords") && r.has_dataset("/rows") &&
+         r.has_attribute("/", "format_version");
+}
+
 }  // namespace unfurl::app

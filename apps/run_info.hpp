@@ -23,4 +23,8 @@ std::uint64_t default_memory_limit();
 // "columns"), which `score` compares with the points it gets.
 nlohmann::json point_input_identity(const std::filesystem::path& file,
                                     const io::PointReadResult& read);
+
+// Whether `file` is a map written by unfurl: HDF5 with /coords, /rows and a format_version.
+bool is_unfurl_map(const std::filesystem::path& file);
+
 }  // namespace unfurl::app

@@ -33,14 +33,14 @@ std::size_t default_score_k(std::size_t n) {
 }
 
 void QualityOptions::validate(std::size_t n) const {
-  if (ks.empty()) throw OptionError("--k: give at least one neighbourhood size");
+  if (ks.empty()) throw OptionError("QualityOptions.ks", "give at least one neighbourhood size");
   for (std::size_t k : ks) {
-    if (k < 1) throw OptionError("--k: must be at least 1, got 0");
+    if (k < 1) throw OptionError("QualityOptions.ks", "must be at least 1, got 0");
     // 2k < N is k < N/2 without rounding; T and C leave [0, 1] beyond it.
     if (2 * k >= n)
-      throw OptionError("--k: must be less than N/2 = " + std::to_string(n / 2) +
-                        (n % 2 ? ".5" : "") + " for " + std::to_string(n) + " points, got " +
-                        std::to_string(k));
+      throw OptionError("QualityOptions.ks", "must be less than N/2 = " + std::to_string(n / 2) +
+                                                 (n % 2 ? ".5" : "") + " for " + std::to_string(n) +
+                                                 " points, got " + std::to_string(k));
   }
   if (sample < 2)
     throw OptionError("--sample: must be at least 2 query points, got " + std::to_string(sample));

@@ -16,6 +16,7 @@
 #include <string>
 #include <vector>
 
+#include "apps/exit_codes.hpp"
 #include "engine/error.hpp"
 #include "engine/random.hpp"
 #include "io/csv_writer.hpp"
@@ -171,7 +172,7 @@ int main(int argc, char** argv) {
     return run(argc, argv);
   } catch (const unfurl::Error& e) {
     std::cerr << e.what() << "\n";
-    return static_cast<int>(e.code());
+    return static_cast<int>(unfurl::app::exit_code_of(e));
   } catch (const std::exception& e) {
     std::cerr << "map_probe: " << e.what() << "\n";
     return 70;
