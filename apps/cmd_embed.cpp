@@ -85,13 +85,16 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
   auto* cmd = app.add_subcommand("embed", "Unfold points into a map that follows their geodesics");
   auto args = std::make_shared<EmbedArgs>();
   add_point_input(cmd, args->input, "INPUT");
-  cmd->add_option("--input", args->input_kind,
-                  "What INPUT holds: points, an edge list (i, j, length), a distance matrix "
-                  "with missing entries, or a graph saved by `unfurl graph`")
-      ->check(CLI::IsMember({"points", "edges", "distances", "graph"}))
-      ->capture_default_str();
+  const auto kinds = CLI::IsMember({"points", "edges", "distances", "graph"});
+  auto* kind = cmd->add_option("--input-kind", args->input_kind,
+                               "What INPUT holds: points, an edge list (i, j, length), a distance "
+                               "matrix with missing entries, or a graph saved by `unfurl graph`")
+                   ->check(kinds)
+                   ->capture_default_str();
+  add_old_spelling(cmd, "--input", kind, args->input_kind)->check(kinds);
   cmd->add_option("--missing", args->missing,
-                  "--input distances: the value that marks a missing entry (NaN always does)");
+                  "--input-kind distances: the value that marks a missing entry (NaN always "
+                  "does)");
   cmd->add_option("-o,--out", args->output, "Map file to write (HDF5)")->required();
   add_embed_job_options(cmd, *args);
   cmd->callback([&g, args, cmd] {
