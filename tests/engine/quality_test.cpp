@@ -413,7 +413,7 @@ TEST_CASE("quality stages refuse bad input with a message naming the fault", "[q
   PointSet short_map(39, 2);
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, short_map, options_for({3})), DataError);
   CHECK_THROWS_WITH(neighbourhood_scores(roll.points, roll.truth, options_for({20})),
-                    Catch::Contains("--k") && Catch::Contains("got 20"));
+                    Catch::Contains("QualityOptions.ks") && Catch::Contains("got 20"));
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, roll.truth, options_for({20})), OptionError);
   CHECK_NOTHROW(neighbourhood_scores(roll.points, roll.truth, options_for({19})));
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, roll.truth, options_for({0})), OptionError);
