@@ -37,6 +37,12 @@ io::PointReadOptions to_read_options(const PointInputArgs& a) {
   return o;
 }
 
+void old_spelling_notice(const std::string& command, const std::string& old_name,
+                         const std::string& current) {
+  fmt::print(stderr, "unfurl: note: {} {} is now {}; the old spelling goes in the next release\n",
+             command, old_name, current);
+}
+
 void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
   // Each fills the one neighbourhood choice; CLI11 refuses the two together.
   CLI::Option* k = cmd->add_option_function<std::size_t>(
@@ -187,10 +193,6 @@ void adapt_graph_k(const GraphArgs& a, std::size_t points, GraphOptions& o) {
 
 void adapt_score_k(const ScoreArgs& a, std::size_t points, AssessOptions& o) {
   if (!a.ks_given && points >= 3) o.neighbourhoods.ks = {default_score_k(points)};
-}
-
-void validate_score_options(const AssessOptions& o, std::size_t points) {
-  o.validate(points);
 }
 
 namespace {

@@ -71,9 +71,26 @@ AssessOptions to_assess_options(const ScoreArgs& args, std::uint64_t seed);
 // the score k min(12, (N - 1) / 2).
 void adapt_graph_k(const GraphArgs& args, std::size_t points, GraphOptions& options);
 void adapt_score_k(const ScoreArgs& args, std::size_t points, AssessOptions& options);
-// Checks the score options against `points` points before any work is done. Throws
-// OptionError naming the field.
-void validate_score_options(const AssessOptions& options, std::size_t points);
+
+// An old spelling of `current` kept for one release (README "Changes in this release"): it
+// sets `target` as `current` does, is refused together with it, stays out of --help, and
+// prints a one-line notice on stderr when used. Returns it for the validators `current` has.
+void old_spelling_notice(const std::string& command, const std::string& old_name,
+                         const std::string& current);
+template <class T>
+CLI::Option* add_old_spelling(CLI::App* cmd, const std::string& old_name, CLI::Option* current,
+                              T& target) {
+  CLI::Option* old = cmd->add_option(old_name, target)
+                         ->each([old_name, current, command = cmd->get_name()](const std::string&) {
+                           // Beside the new name it is refused: the refusal is then the one line.
+                           if (current->count() == 0)
+                             old_spelling_notice(command, old_name, current->get_name());
+                         })
+                         ->excludes(current)
+                         ->group("");
+  current->remove_excludes(old);  // one side is enough; --help of the new name stays clean
+  return old;
+}
 
 // The value among `values` whose engine name (`name_of`, e.g. search_name) is `text`;
 // `fallback` when none is (CLI11's IsMember checks have already limited the text).

@@ -69,7 +69,7 @@ void check_demo(const GlobalOptions& g, const CLI::App& cmd, const DemoArgs& a) 
                                   : parse_bytes("--max-memory", a.embed.max_memory);
   if (need > limit)
     throw ResourceError(fmt::format(
-        "--points {}: the demo would need about {}, over the limit of {} ({}); use fewer "
+        "--point-count {}: the demo would need about {}, over the limit of {} ({}); use fewer "
         "points{}",
         a.points, human_bytes(need), human_bytes(limit),
         a.embed.max_memory.empty() ? "80% of the memory" : "--max-memory",
@@ -119,15 +119,15 @@ void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
   apply_globals(g);
   check_demo(g, cmd, a);
   namespace fs = std::filesystem;
-  CreatedFolder folder(a.out, "--out");
+  CreatedFolder folder(a.out, "--out-dir");
   // The scenario, its map and its report are one output set, committed together.
   io::OutputSet outputs(stop_token());
   const fs::path data = fs::path(a.out) / (a.scenario + ".h5");
-  const std::size_t data_out = outputs.add(data, "--out");
+  const std::size_t data_out = outputs.add(data, "--out-dir");
   a.embed.output = (fs::path(a.out) / (a.scenario + "-map.h5")).string();
   a.embed.json = (fs::path(a.out) / (a.scenario + "-report.json")).string();
   const JobOutputs where =
-      a.data_only ? JobOutputs{} : add_job_outputs(outputs, a.embed, "--out", "--out");
+      a.data_only ? JobOutputs{} : add_job_outputs(outputs, a.embed, "--out-dir", "--out-dir");
 
   const SyntheticSet set = generate(a, g.seed);
   write_scenario(outputs, data_out, a, set, g.seed);
@@ -181,15 +181,19 @@ void add_demo_command(CLI::App& app, GlobalOptions& g) {
   cmd->add_option("--scenario", a->scenario, "Which invented scenario to generate")
       ->check(CLI::IsMember({"ocean-buoys", "swiss-roll", "s-curve"}))
       ->capture_default_str();
-  cmd->add_option("--points", a->points, "Number of points (records) to generate")
-      ->transform(whole_number(3, std::uint64_t{1} << 31))
-      ->capture_default_str();
+  auto* count =
+      cmd->add_option("--point-count", a->points, "Number of points (records) to generate")
+          ->transform(whole_number(3, std::uint64_t{1} << 31))
+          ->capture_default_str();
+  add_old_spelling(cmd, "--points", count, a->points)
+      ->transform(whole_number(3, std::uint64_t{1} << 31));
   cmd->add_option("--noise", a->noise,
                   "Standard deviation of the added noise (default: 0.02 for ocean-buoys, 0 "
                   "otherwise)")
       ->check(non_negative_number());
-  cmd->add_option("--out", a->out, "Folder for the scenario, its map and report")
-      ->capture_default_str();
+  auto* folder = cmd->add_option("--out-dir", a->out, "Folder for the scenario, its map and report")
+                     ->capture_default_str();
+  add_old_spelling(cmd, "--out", folder, a->out);
   cmd->add_flag("--data-only", a->data_only, "Write the scenario's point file and stop");
   add_embed_job_options(cmd, a->embed);
   cmd->callback([&g, a, cmd] { run_demo(g, *cmd, *a); });

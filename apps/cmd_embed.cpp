@@ -87,16 +87,19 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
   auto* cmd = app.add_subcommand("embed", "Unfold points into a map that follows their geodesics");
   auto args = std::make_shared<EmbedArgs>();
   add_point_input(cmd, args->input, "INPUT");
-  cmd->add_option("--input", args->input_kind,
-                  "What INPUT holds: points, an edge list (i, j, length), a distance matrix "
-                  "with missing entries, or a graph saved by `unfurl graph`")
-      ->check(CLI::IsMember({"points", "edges", "distances", "graph"}))
-      ->capture_default_str();
+  const auto kinds = CLI::IsMember({"points", "edges", "distances", "graph"});
+  auto* kind = cmd->add_option("--input-kind", args->input_kind,
+                               "What INPUT holds: points, an edge list (i, j, length), a distance "
+                               "matrix with missing entries, or a graph saved by `unfurl graph`")
+                   ->check(kinds)
+                   ->capture_default_str();
+  add_old_spelling(cmd, "--input", kind, args->input_kind)->check(kinds);
   cmd->add_option("--missing", args->missing,
-                  "--input distances: the value that marks a missing entry (NaN always does)");
+                  "--input-kind distances: the value that marks a missing entry (NaN always "
+                  "does)");
   cmd->add_option("-o,--out", args->output, "Map file to write (HDF5)")->required();
   auto plots_folder = std::make_shared<std::string>();
-  cmd->add_option("--plots-folder", *plots_folder,
+  cmd->add_option("--plots-dir", *plots_folder,
                   "Also write the run's figures (PNG) and report.html into this folder "
                   "(created when missing)");
   add_embed_job_options(cmd, *args);
@@ -111,7 +114,7 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
     JobOutputs where = add_job_outputs(outputs, *args);
     std::optional<CreatedFolder> folder;
     if (!plots_folder->empty()) {
-      folder.emplace(*plots_folder, "--plots-folder");
+      folder.emplace(*plots_folder, "--plots-dir");
       where.plots =
           add_run_plots(outputs, *plots_folder, !args->no_score && args->input_kind == "points");
     }

@@ -1,6 +1,6 @@
 // `unfurl graph POINTS -o GRAPH.h5`: builds the neighbour graph alone, prints its summary
 // (size, degrees, edge lengths, duplicates, components) and saves it so that `unfurl embed
-// --input graph` can start from it.
+// --input-kind graph` can start from it.
 #include <fmt/core.h>
 
 #include <algorithm>

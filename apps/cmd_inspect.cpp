@@ -1,14 +1,20 @@
 // `unfurl inspect FILE`: what a point file holds (every HDF5 dataset with its shape, type,
 // storage, filters and attributes; the shape and type of a CSV/TSV/NPY file), then the point
-// input a command would read from it, read whole and summarised per column.
+// input a command would read from it, read whole and summarised per column; on a map written
+// by unfurl, the map's record (what it holds, how and from what it was made) instead.
 #include <fmt/core.h>
 
 #include <memory>
 #include <nlohmann/json.hpp>
+#include <optional>
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
+#include "apps/report.hpp"
+#include "apps/run_info.hpp"
+#include "io/atomic_output.hpp"
 #include "io/file_description.hpp"
+#include "io/map_file.hpp"
 #include "io/points_reader.hpp"
 
 namespace unfurl::app {
@@ -16,8 +22,9 @@ namespace unfurl::app {
 namespace {
 
 struct InspectArgs {
-  PointInputArgs input;  // the same point-input options as every other command
-  bool json = false;
+  PointInputArgs input;         // the same point-input options as every other command
+  std::string json;             // file for the JSON document
+  bool json_to_stdout = false;  // the old spelling: --json with no file (one release)
 };
 
 std::string shape_text(const std::vector<std::uint64_t>& shape) {
@@ -66,8 +73,7 @@ void print_points(const GlobalOptions& g, const io::PointReadResult& r, const io
                        stats[j].mean));
 }
 
-nlohmann::json to_json(const io::FileDescription& d, const io::PointReadResult& r,
-                       const std::vector<io::ColumnStats>& stats) {
+nlohmann::json to_json(const io::FileDescription& d) {
   using nlohmann::json;
   auto attributes = [](const std::vector<io::AttributeText>& list) {
     json out = json::object();
@@ -84,26 +90,68 @@ nlohmann::json to_json(const io::FileDescription& d, const io::PointReadResult& 
                       {"filters", a.filters},
                       {"attributes", attributes(a.attributes)},
                       {"points_candidate", a.points_candidate}});
-  json columns = json::array();
-  for (const auto& s : stats) columns.push_back({{"min", s.min}, {"max", s.max}, {"mean", s.mean}});
   return {{"file", d.file.string()},
           {"format", d.format},
           {"bytes", d.bytes},
           {"detail", d.detail},
           {"attributes", attributes(d.root_attributes)},
           {"arrays", arrays},
-          {"column_names", d.column_names},
-          {"points",
-           {{"dataset", r.dataset},
-            {"rows", r.points.rows},
-            {"cols", r.points.cols},
-            {"file_rows", r.file_rows},
-            {"first_row", r.rows.empty() ? 0 : r.rows.front()},
-            {"source_type", r.source_type},
-            {"nonfinite_values", r.nonfinite_values},
-            {"dropped_rows", r.dropped_rows.size()},
-            {"read_seconds", r.read_seconds},
-            {"columns", columns}}}};
+          {"column_names", d.column_names}};
+}
+
+nlohmann::json points_json(const io::PointReadResult& r,
+                           const std::vector<io::ColumnStats>& stats) {
+  nlohmann::json columns = nlohmann::json::array();
+  for (const auto& s : stats) columns.push_back({{"min", s.min}, {"max", s.max}, {"mean", s.mean}});
+  return {{"dataset", r.dataset},
+          {"rows", r.points.rows},
+          {"cols", r.points.cols},
+          {"file_rows", r.file_rows},
+          {"first_row", r.rows.empty() ? 0 : r.rows.front()},
+          {"source_type", r.source_type},
+          {"nonfinite_values", r.nonfinite_values},
+          {"dropped_rows", r.dropped_rows.size()},
+          {"read_seconds", r.read_seconds},
+          {"columns", columns}};
+}
+
+// The map's record: what it holds and the attributes that say how and from what it was made.
+nlohmann::json map_record(const io::MapContents& m) {
+  return {{"rows", m.coords.rows},
+          {"dims", m.coords.cols},
+          {"landmarks", m.landmark_rows.size()},
+          {"eigenvalues", m.spectrum.size()},
+          {"landmark_geodesics", m.landmark_geodesic.has_value()},
+          {"extras", m.extras.size()},
+          {"attributes", m.attributes}};
+}
+
+std::string record_text(const nlohmann::json& value) {
+  if (value.is_string()) return value.get<std::string>();
+  if (!value.is_object()) return value.dump();
+  std::string out;
+  for (auto it = value.begin(); it != value.end(); ++it)
+    out += (out.empty() ? "" : ", ") + it.key() + " " + record_text(it.value());
+  return out;
+}
+
+void print_map_record(const GlobalOptions& g, const io::MapContents& m) {
+  say(g, fmt::format("map: {} rows x {} dims, {} landmarks, {} eigenvalues{}, {} further datasets",
+                     m.coords.rows, m.coords.cols, m.landmark_rows.size(), m.spectrum.size(),
+                     m.landmark_geodesic ? ", landmark geodesics kept" : "", m.extras.size()));
+  for (const char* key :
+       {"command", "program_version", "creation_time", "seed", "seconds", "input", "parameters"})
+    if (m.attributes.contains(key))
+      say(g, fmt::format("  {}: {}", key, record_text(m.attributes[key])));
+}
+
+// Options that choose the points a command would read, which a map's record does not use.
+void refuse_point_options_on_map(const CLI::App& cmd, const std::string& file) {
+  for (const char* name : {"--rows", "--drop-nonfinite"})
+    if (const CLI::Option* o = cmd.get_option_no_throw(name); o && o->count() > 0)
+      throw OptionError(std::string(name) + ": not used on " + file +
+                        ", a map: inspect shows its record (give --dataset to read one of its "
+                        "datasets as points)");
 }
 
 }  // namespace
@@ -113,21 +161,46 @@ void add_inspect_command(CLI::App& app, GlobalOptions& g) {
       "inspect", "Describe a point file (HDF5, CSV/TSV, NPY) and check the points it holds");
   auto args = std::make_shared<InspectArgs>();
   add_point_input(cmd, args->input, "FILE");
-  cmd->add_flag("--json", args->json, "Print one JSON document instead of text");
-  cmd->callback([&g, args] {
+  auto* json = cmd->add_option("--json", args->json, "Also write the description as JSON");
+  // Before this release --json was a flag printing the JSON on stdout: still so, with a note,
+  // when no file follows.
+  json->expected(0, 1);
+  cmd->callback([&g, args, cmd, json] {
     apply_globals(g);
+    if (json->count() > 0 && args->json.empty()) {
+      args->json_to_stdout = true;
+      old_spelling_notice("inspect", "--json (no file)", "--json FILE");
+    }
+    io::OutputSet outputs(stop_token());
+    outputs.add_input(args->input.file, "FILE");
+    std::optional<std::size_t> json_out;
+    if (!args->json.empty()) json_out = outputs.add(args->json, "--json");
     io::PointReadOptions options = to_read_options(args->input);
     options.stop = stop_token();
     const io::FileDescription description =
         io::describe_file(args->input.file, args->input.format, options.stop);
+    const bool text = !args->json_to_stdout;
     // Text shows the description before reading, so it is there when the points are not.
-    if (!args->json) print_description(g, description);
-    const io::PointReadResult result = io::read_points(args->input.file, options);
-    const auto stats = io::column_stats(result.points, result.centres);
-    if (args->json)
-      say(g, to_json(description, result, stats).dump(2));
-    else
-      print_points(g, result, options.rows.value_or(io::RowRange{}), stats);
+    if (text) print_description(g, description);
+    nlohmann::json document;
+    if (args->input.dataset.empty() && io::is_map_file(args->input.file)) {
+      refuse_point_options_on_map(*cmd, args->input.file);
+      const io::MapContents m = io::read_map(args->input.file);
+      if (text) print_map_record(g, m);
+      document = to_json(description);
+      document["map"] = map_record(m);
+    } else {
+      const io::PointReadResult result = io::read_points(args->input.file, options);
+      const auto stats = io::column_stats(result.points, result.centres);
+      if (text) print_points(g, result, options.rows.value_or(io::RowRange{}), stats);
+      document = to_json(description);
+      document["points"] = points_json(result, stats);
+    }
+    if (args->json_to_stdout) say(g, document.dump(2));
+    if (json_out) {
+      write_json_file(outputs, *json_out, document);
+      outputs.commit();
+    }
   });
 }
 

@@ -132,7 +132,7 @@ void run_score(const GlobalOptions& g, const ScoreCommandArgs& a) {
     options.dimension = DimensionOptions{.k = dimension_k};
   else
     options.dimension.reset();
-  validate_score_options(options, input.rows);
+  options.validate(input.rows);
   print_notes(g, notes);
   say(g, fmt::format("scoring a map of {} rows x {} dims against {} points x {} columns", map.rows,
                      map.cols, input.rows, input.cols));

@@ -1,4 +1,4 @@
-// An output folder a command creates when it is missing (demo --out, embed --plots-folder),
+// An output folder a command creates when it is missing (demo --out-dir, embed --plots-dir),
 // removed again, with every parent the run created, when the run fails before anything was
 // put in it.
 #pragma once

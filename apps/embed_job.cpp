@@ -162,7 +162,7 @@ void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t r
     options.validate(rows);
     if (options.exact()) check_exact_memory(a, options, rows);
   }
-  if (!a.no_score) validate_score_options(job_assess_options(g, a, rows), rows);
+  if (!a.no_score) job_assess_options(g, a, rows).validate(rows);
 }
 
 JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std::string& map_label,
@@ -208,7 +208,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
 
   if (options.exact() && !a.linear) check_exact_memory(a, options, n);
   // Refuse bad score options now, not after the embedding has run.
-  if (!a.no_score && !given_graph) validate_score_options(assess, n);
+  if (!a.no_score && !given_graph) assess.validate(n);
   EmbedResult result = a.linear      ? linear_result(in.points, a.map.dims)
                        : given_graph ? embed_graph(*in.graph, options, stop_token())
                                      : embed_points(in.points, options, stop_token());

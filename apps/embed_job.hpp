@@ -57,7 +57,7 @@ void check_job_options(const GlobalOptions& g, const EmbedArgs& args, std::size_
 struct JobOutputs {
   std::size_t map = 0;
   std::optional<std::size_t> csv, json;
-  std::optional<RunPlots> plots;  // embed --plots-folder
+  std::optional<RunPlots> plots;  // embed --plots-dir
 };
 
 // Declares the map (named by `map_label` in messages), --csv and --json in `outputs`: an

@@ -15,8 +15,9 @@
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
+#include "apps/exit_codes.hpp"
+#include "apps/option_flags.hpp"
 #include "apps/usage_errors.hpp"
-#include "engine/error.hpp"
 
 namespace unfurl::app {
 
@@ -38,7 +39,7 @@ extern "C" void request_stop(int) {
   unfurl::app::g_stop_requested.store(true);
 }
 
-int fail(unfurl::ExitCode code, const char* message) {
+int fail(unfurl::app::ExitCode code, const char* message) {
   std::fflush(stdout);
   fmt::print(stderr, "unfurl: {}\n", message);
   return static_cast<int>(code);
@@ -47,7 +48,7 @@ int fail(unfurl::ExitCode code, const char* message) {
 // A report that could not be printed is a failed run too (`unfurl inspect x >/dev/full`).
 int stdout_failed(int err) {
   std::clearerr(stdout);
-  return fail(unfurl::ExitCode::io_error,
+  return fail(unfurl::app::ExitCode::io_error,
               (std::string("standard output: write failed: ") + std::strerror(err)).c_str());
 }
 
@@ -76,6 +77,7 @@ int finish(int code) {
 
 int main(int argc, char** argv) {
   using namespace unfurl;
+  using app::ExitCode;
   // First of all: a stop request (Ctrl-C, a scheduler's SIGTERM or SIGUSR1 warning, a closed
   // terminal) ends the run with exit 75 at the next check; outputs are committed whole or not
   // at all.
@@ -117,8 +119,11 @@ int main(int argc, char** argv) {
     // fmt reports a failed write to stdout this way.
     if (std::ferror(stdout)) return stdout_failed(e.code().value());
     return fail(ExitCode::internal, (std::string("internal error: ") + e.what()).c_str());
+  } catch (const OptionError& e) {
+    // Named by its options-struct field in engine/ and io/: shown as the flag typed.
+    return fail(app::exit_code_of(e), app::option_message(cli, e).c_str());
   } catch (const Error& e) {
-    return fail(e.code(), e.what());
+    return fail(app::exit_code_of(e), e.what());
   } catch (const std::bad_alloc&) {
     return fail(ExitCode::unavailable, "out of memory (try fewer landmarks or --rows)");
   } catch (const std::exception& e) {

@@ -10,7 +10,7 @@ namespace unfurl::app {
 namespace {
 
 // Options with no effect in one situation of a run. `situation` returns how the user asked
-// for that situation ("--input edges"), or "" when the run is not in it.
+// for that situation ("--input-kind edges"), or "" when the run is not in it.
 struct Rule {
   std::function<std::string(const RunShape&)> situation;
   std::vector<std::string> options;
@@ -24,7 +24,7 @@ std::string when(bool active, const std::string& text) {
 
 const std::vector<Rule>& rules() {
   const auto given_graph = [](const RunShape& s) {
-    return when(s.input_kind != "points", "--input " + s.input_kind);
+    return when(s.input_kind != "points", "--input-kind " + s.input_kind);
   };
   static const std::vector<Rule> table = {
       {given_graph,
@@ -44,14 +44,14 @@ const std::vector<Rule>& rules() {
        {"--score-k", "--score-method", "--sample"},
        "trustworthiness and continuity need points; a given graph gets the residual variance "
        "only"},
-      {[](const RunShape& s) { return when(s.input_kind == "graph", "--input graph"); },
+      {[](const RunShape& s) { return when(s.input_kind == "graph", "--input-kind graph"); },
        {"--dataset", "--format"},
        "a graph saved by `unfurl graph` is read from its own HDF5 layout"},
       {[](const RunShape& s) {
-         return when(s.input_kind != "distances", "--input " + s.input_kind);
+         return when(s.input_kind != "distances", "--input-kind " + s.input_kind);
        },
        {"--missing"},
-       "it marks the missing entries of --input distances only"},
+       "it marks the missing entries of --input-kind distances only"},
       {[](const RunShape& s) {
          return when(!s.input_format.empty() && s.input_format != "hdf5",
                      "a " + s.input_format + " input file");
@@ -79,7 +79,7 @@ const std::vector<Rule>& rules() {
        "every point is a query, none is sampled"},
       {[](const RunShape& s) { return when(s.demo, "unfurl demo"); },
        {"--json"},
-       "the demo writes its report into the --out folder"},
+       "the demo writes its report into the --out-dir folder"},
       {[](const RunShape& s) { return when(s.data_only, "--data-only"); },
        {"--k",
         "--radius",

@@ -22,7 +22,7 @@ struct RunShape {
   bool exact = false;                 // --landmarks all: every node a source
   bool no_score = false;              // --no-score
   bool score_exact = false;           // --score-method exact: every point a query
-  bool demo = false;                  // unfurl demo: outputs named by its --out folder
+  bool demo = false;                  // unfurl demo: outputs named by its --out-dir folder
   bool data_only = false;             // demo --data-only: no embedding at all
 };
 
@@ -31,7 +31,7 @@ struct RunShape {
 RunShape embed_run_shape(const EmbedArgs& args);
 
 // Throws OptionError for the first option given on `cmd`'s command line that has no effect
-// in a run of this shape: "--k 5: not used with --input edges (...)".
+// in a run of this shape: "--k 5: not used with --input-kind edges (...)".
 void refuse_unused_options(const CLI::App& cmd, const RunShape& shape);
 
 // Whether `option` ("--k") takes effect in a run of this shape.

@@ -8,6 +8,7 @@
 
 #include <fmt/core.h>
 
+#include "io/hdf5_file.hpp"
 #include "io/map_file.hpp"
 
 namespace unfurl::app {

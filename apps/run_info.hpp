@@ -28,4 +28,5 @@ nlohmann::json point_input_identity(const std::filesystem::path& file,
 // ("rows 200 (the map records 300), ..."); empty when nothing both record differs. The path
 // is not compared: the same file may be reached by another name or copied with its time.
 std::string input_differences(const nlohmann::json& recorded, const nlohmann::json& now);
+
 }  // namespace unfurl::app

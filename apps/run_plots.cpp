@@ -82,7 +82,7 @@ RunPlots add_run_plots(io::OutputSet& outputs, const std::filesystem::path& fold
                        bool with_terms) {
   RunPlots p;
   p.folder = folder;
-  const std::string label = "--plots-folder";
+  const std::string label = "--plots-dir";
   p.map = outputs.add(folder / "map.png", label);
   if (with_terms) p.map_by_terms = outputs.add(folder / "map_trustworthiness.png", label);
   p.residual = outputs.add(folder / "residual_variance.png", label);

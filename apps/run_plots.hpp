@@ -1,4 +1,4 @@
-// `embed --plots-folder DIR`: the run's figures (PNG) and its report page, written into the
+// `embed --plots-dir DIR`: the run's figures (PNG) and its report page, written into the
 // run's output set beside the map and committed with it.
 #pragma once
 

@@ -18,7 +18,7 @@ mkdir -p "$work"
 source "$(cd "$(dirname "$0")" && pwd)/timed_run.sh"
 
 for n in 10000 20000; do
-  "$unfurl" --quiet demo --scenario swiss-roll --points $n --out "$work/roll$n" --data-only
+  "$unfurl" --quiet demo --scenario swiss-roll --point-count $n --out-dir "$work/roll$n" --data-only
 done
 echo "| run | wall s | peak MiB |"
 echo "|---|---|---|"
@@ -31,7 +31,7 @@ if [ $skip20 = 0 ]; then
   run reference-isomap-20k /usr/bin/python3 "$here/reference_isomap.py" "$work/roll20000/swiss-roll.h5" "$work/ref20k.h5" --k 10
 fi
 if [ $skip1m = 0 ]; then
-  "$unfurl" --quiet demo --scenario swiss-roll --points 1000000 --out "$work/roll1m" --data-only
+  "$unfurl" --quiet demo --scenario swiss-roll --point-count 1000000 --out-dir "$work/roll1m" --data-only
   run unfurl-landmarks256-1m "$unfurl" --quiet embed "$work/roll1m/swiss-roll.h5" -o "$work/lm1m.h5" --k 10 --landmarks 256
   run unfurl-landmarks256-1m-noscore "$unfurl" --quiet embed "$work/roll1m/swiss-roll.h5" -o "$work/lm1m-ns.h5" --k 10 --landmarks 256 --no-score
 fi

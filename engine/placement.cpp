@@ -95,7 +95,7 @@ double typical_neighbour_distance(const PointSet& reference, const PlaceOptions&
     std::copy_n(reference.row(which[i]), reference.cols, sample.row(i));
   }
   const std::size_t k = std::min(o.k, n - 1) + 1;  // one of them is the point itself
-  const KnnResult knn = exact_knn(reference, sample, k, search, false, 512, stop);
+  const KnnResult knn = exact_knn(reference, sample, KnnOptions{k, search, false, 512}, stop);
   std::vector<float> pooled;
   pooled.reserve(count * (k - 1));
   for (std::size_t i = 0; i < count; ++i) {
@@ -155,7 +155,7 @@ PlaceResult place_points(const PointSet& reference, const LandmarkColumns& colum
     const std::size_t width = std::min(o.block_rows, n - b0);
     PointSet block(width, points.cols);
     std::copy_n(points.row(b0), width * points.cols, block.values.data());
-    const KnnResult knn = exact_knn(reference, block, k, s.search_used, false, 512, stop);
+    const KnnResult knn = exact_knn(reference, block, KnnOptions{k, s.search_used, false, 512}, stop);
     ExceptionCollector errors;
 #pragma omp parallel
     {

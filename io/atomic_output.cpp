@@ -7,6 +7,7 @@
 
 #include <cerrno>
 #include <cstring>
+#include <exception>
 #include <string>
 #include <vector>
 
@@ -55,27 +56,10 @@ std::string replace_all(std::string text, const std::string& from, const std::st
   return text;
 }
 
-// Rethrows `e` as the same kind of error (same exit code) with `temp` renamed to `shown`.
+// Rethrows `e` as the same kind of error with `temp` renamed to `shown`.
 [[noreturn]] void rethrow_named(const Error& e, const std::string& temp, const std::string& shown) {
-  std::string m = replace_all(e.what(), temp, shown);
-  switch (e.code()) {
-    case ExitCode::usage:
-      throw OptionError(m);
-    case ExitCode::bad_data:
-      throw DataError(m);
-    case ExitCode::no_input:
-      throw MissingInputError(m);
-    case ExitCode::unavailable:
-      throw ResourceError(m);
-    case ExitCode::cant_create:
-      throw OutputError(m);
-    case ExitCode::interrupted:
-      throw InterruptedError(m);
-    case ExitCode::internal:
-      throw InternalError(m);
-    default:
-      throw IoError(m);
-  }
+  e.rethrow_with(replace_all(e.what(), temp, shown));
+  std::terminate();  // not reached: every rethrow_with throws (the compiler cannot see it)
 }
 
 // Holds back the asynchronous stop signals of the calling thread for its lifetime.

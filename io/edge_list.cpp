@@ -3,6 +3,7 @@
 #include <cmath>
 #include <limits>
 #include <string>
+#include <utility>
 
 #include "engine/error.hpp"
 #include "io/detail/graph_input_format.hpp"
@@ -191,14 +192,22 @@ EdgeList read_hdf5(const std::filesystem::path& path, const EdgeListOptions& o) 
 
 void EdgeListOptions::validate() const {
   if (format == GraphInputFormat::npy)
-    throw OptionError("--format: npy holds matrices, not edge lists; use csv or hdf5");
+    throw OptionError("EdgeListOptions.format",
+                      "npy holds matrices, not edge lists; use csv or hdf5");
   if (nodes > 2147483647u)
-    throw OptionError("--nodes: at most 2147483647 nodes, got " + std::to_string(nodes));
-  for (const std::string* d : {&i_dataset, &j_dataset, &length_dataset, &table_dataset})
+    throw OptionError("EdgeListOptions.nodes",
+                      "at most 2147483647 nodes, got " + std::to_string(nodes));
+  const std::pair<const char*, const std::string*> datasets[] = {
+      {"EdgeListOptions.i_dataset", &i_dataset},
+      {"EdgeListOptions.j_dataset", &j_dataset},
+      {"EdgeListOptions.length_dataset", &length_dataset},
+      {"EdgeListOptions.table_dataset", &table_dataset}};
+  for (const auto& [field, d] : datasets)
     if (!d->empty() && d->front() != '/')
-      throw OptionError("--dataset: HDF5 dataset paths start with '/', got '" + *d + "'");
+      throw OptionError(field, "HDF5 dataset paths start with '/', got '" + *d + "'");
   if (table_dataset.empty() && (i_dataset.empty() || j_dataset.empty() || length_dataset.empty()))
-    throw OptionError("--dataset: i, j and length datasets must all be named");
+    throw OptionError("EdgeListOptions.table_dataset",
+                      "i, j and length datasets must all be named");
 }
 
 EdgeList read_edge_list(const std::filesystem::path& path, const EdgeListOptions& options) {

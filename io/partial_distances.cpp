@@ -102,12 +102,14 @@ Matrix read_hdf5(const std::filesystem::path& path, const std::string& dataset,
 
 void DistanceMatrixOptions::validate() const {
   if (!(symmetry_tolerance >= 0.0) || !(symmetry_tolerance < 1.0))
-    throw OptionError("--symmetry-tolerance: must be in [0, 1), got " +
-                      std::to_string(symmetry_tolerance));
+    throw OptionError("DistanceMatrixOptions.symmetry_tolerance",
+                      "must be in [0, 1), got " + std::to_string(symmetry_tolerance));
   if (dataset.empty() || dataset.front() != '/')
-    throw OptionError("--dataset: HDF5 dataset paths start with '/', got '" + dataset + "'");
+    throw OptionError("DistanceMatrixOptions.dataset",
+                      "HDF5 dataset paths start with '/', got '" + dataset + "'");
   if (missing_value && std::isnan(*missing_value))
-    throw OptionError("--missing: NaN always marks a missing entry; give another value or none");
+    throw OptionError("DistanceMatrixOptions.missing_value",
+                      "NaN always marks a missing entry; give another value or none");
 }
 
 PartialDistances read_partial_distances(const std::filesystem::path& path,

@@ -23,7 +23,8 @@ std::optional<std::size_t> parse_index(const std::string& text, const std::strin
   std::size_t value = 0;
   const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), value);
   if (ec != std::errc() || end != text.data() + text.size())
-    throw OptionError("--rows: '" + whole + "' is not A:B with non-negative integers A < B");
+    throw OptionError("PointReadOptions.rows",
+                      "'" + whole + "' is not A:B with non-negative integers A < B");
   return value;
 }
 
@@ -85,12 +86,12 @@ void handle_nonfinite(PointReadResult& result, std::size_t first_row, bool drop,
 RowRange parse_row_range(const std::string& text) {
   const auto colon = text.find(':');
   if (colon == std::string::npos || text.find(':', colon + 1) != std::string::npos)
-    throw OptionError("--rows: '" + text + "' is not A:B, A: or :B");
+    throw OptionError("PointReadOptions.rows", "'" + text + "' is not A:B, A: or :B");
   RowRange range;
   range.begin = parse_index(text.substr(0, colon), text).value_or(0);
   range.end = parse_index(text.substr(colon + 1), text);
   if (range.end && *range.end <= range.begin)
-    throw OptionError("--rows: '" + text + "' is empty (A must be less than B)");
+    throw OptionError("PointReadOptions.rows", "'" + text + "' is empty (A must be less than B)");
   return range;
 }
 
@@ -101,11 +102,14 @@ std::string to_string(const RowRange& range) {
 void PointReadOptions::validate() const {
   static const std::array<const char*, 5> formats{"", "hdf5", "csv", "tsv", "npy"};
   if (std::find(formats.begin(), formats.end(), format) == formats.end())
-    throw OptionError("--format: '" + format + "' is not one of hdf5, csv, tsv, npy");
+    throw OptionError("PointReadOptions.format",
+                      "'" + format + "' is not one of hdf5, csv, tsv, npy");
   if (rows && rows->end && *rows->end <= rows->begin)
-    throw OptionError("--rows: '" + to_string(*rows) + "' is empty (A must be less than B)");
+    throw OptionError("PointReadOptions.rows",
+                      "'" + to_string(*rows) + "' is empty (A must be less than B)");
   if (!dataset.empty() && !format.empty() && format != "hdf5")
-    throw OptionError("--dataset: only HDF5 files hold datasets, not " + format + " files");
+    throw OptionError("PointReadOptions.dataset",
+                      "only HDF5 files hold datasets, not " + format + " files");
   if (centres &&
       std::any_of(centres->begin(), centres->end(), [](double c) { return !std::isfinite(c); }))
     throw DataError("/input/centres: holds a value that is not finite");
@@ -134,8 +138,8 @@ PointReadResult read_points(const std::filesystem::path& file, const PointReadOp
   PointReadResult result;
   result.format = detect_point_format(file, options.format);
   if (!options.dataset.empty() && result.format != "hdf5")
-    throw OptionError("--dataset: " + file.string() + " is a " + result.format +
-                      " file, which holds no datasets");
+    throw OptionError("PointReadOptions.dataset",
+                      file.string() + " is a " + result.format + " file, which holds no datasets");
   if (result.format == "hdf5")
     detail::read_hdf5_points(file, options, result);
   else if (result.format == "npy")
@@ -174,8 +178,9 @@ RowWindow resolve_rows(const std::optional<RowRange>& range, std::size_t file_ro
   w.begin = range->begin;
   w.end = range->end.value_or(file_rows);
   if (w.begin >= file_rows || w.end > file_rows)
-    throw OptionError("--rows: " + to_string(*range) + " lies outside " + where + ", which has " +
-                      std::to_string(file_rows) + " rows (0:" + std::to_string(file_rows) + ")");
+    throw OptionError("PointReadOptions.rows", to_string(*range) + " lies outside " + where +
+                                                   ", which has " + std::to_string(file_rows) +
+                                                   " rows (0:" + std::to_string(file_rows) + ")");
   return w;
 }
 

@@ -37,7 +37,7 @@ struct RowRange {
 };
 
 // Parses "A:B", "A:" or ":B" (non-negative integers, A < B when both are given).
-// Throws OptionError("--rows: ...") on anything else.
+// Throws OptionError("PointReadOptions.rows", ...) on anything else.
 RowRange parse_row_range(const std::string& text);
 
 // Renders a range back as the user wrote it ("A:B", "A:").
@@ -52,7 +52,7 @@ struct PointReadOptions {
   // Subtract these column centres (a map's /input/centres) instead of the rows' own mean.
   std::optional<std::vector<double>> centres;
 
-  // Throws OptionError naming the field ("--format: ...", "--rows: ...").
+  // Throws OptionError naming the field ("PointReadOptions.format", "PointReadOptions.rows").
   void validate() const;
 };
 

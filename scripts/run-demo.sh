@@ -6,4 +6,4 @@ bash scripts/setup-debian.sh
 cmake -S . -B build -G Ninja -DCMAKE_BUILD_TYPE=Release
 cmake --build build --target unfurl
 mkdir -p demo-output
-./build/apps/unfurl demo --out demo-output "$@"
+./build/apps/unfurl demo --out-dir demo-output "$@"

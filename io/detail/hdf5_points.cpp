@@ -86,8 +86,9 @@ std::string choose_dataset(const H5Reader& in, const std::string& requested,
     throw MissingInputError(name + ": holds no 2-D numeric dataset (datasets: " +
                             join_paths(in.datasets_under("/")) + ")");
   if (candidates.size() > 1)
-    throw OptionError("--dataset: " + name + " holds " + std::to_string(candidates.size()) +
-                      " 2-D numeric datasets (" + join_paths(candidates) + "); name one");
+    throw OptionError("PointReadOptions.dataset",
+                      name + " holds " + std::to_string(candidates.size()) +
+                          " 2-D numeric datasets (" + join_paths(candidates) + "); name one");
   return candidates.front();
 }
 

@@ -32,7 +32,8 @@ struct RowWindow {
   std::size_t size() const { return end - begin; }
 };
 
-// Throws OptionError("--rows: ...") naming `where` when the range lies outside file_rows.
+// Throws OptionError("PointReadOptions.rows", ...) naming `where` when the range lies outside
+// file_rows.
 RowWindow resolve_rows(const std::optional<RowRange>& range, std::size_t file_rows,
                        const std::string& where);
 

@@ -281,18 +281,18 @@ def main():
         ("missing edge list", d("noedges.csv"), "edges", ["noedges.csv"]),
     ]:
         code = 66 if what.startswith("missing") else 65
-        refused(f"embed --input {kind}, {what}",
-                ["embed", source, "--input", kind, "-o", good_map], code, names, work)
+        refused(f"embed --input-kind {kind}, {what}",
+                ["embed", source, "--input-kind", kind, "-o", good_map], code, names, work)
     with open(d("two-triangles.csv"), "w") as f:
         f.write("0,1,1\n1,2,1\n2,0,1\n3,4,1\n4,5,1\n5,3,1\n")
-    refused("embed --input edges, a disconnected edge list",
-            ["embed", d("two-triangles.csv"), "--input", "edges", "-o", good_map], 65,
+    refused("embed --input-kind edges, a disconnected edge list",
+            ["embed", d("two-triangles.csv"), "--input-kind", "edges", "-o", good_map], 65,
             ["2 components", "--disconnected"], work)
-    refused("embed --input edges --disconnected bridge (needs points)",
-            ["embed", d("two-triangles.csv"), "--input", "edges", "--disconnected", "bridge",
+    refused("embed --input-kind edges --disconnected bridge (needs points)",
+            ["embed", d("two-triangles.csv"), "--input-kind", "edges", "--disconnected", "bridge",
              "-o", good_map], 64, ["--disconnected bridge"], work)
-    refused("embed --input graph given a point file",
-            ["embed", roll, "--input", "graph", "-o", good_map], 65, ["roll.h5"], work)
+    refused("embed --input-kind graph given a point file",
+            ["embed", roll, "--input-kind", "graph", "-o", good_map], 65, ["roll.h5"], work)
 
     refused("embed --rows beyond the file", ["embed", roll, "--rows", "250:400", "-o", good_map],
             64, ["--rows", "250:400"], work)
@@ -303,8 +303,8 @@ def main():
             ["--dataset"], work)
     with open(d("a-file"), "w") as f:
         f.write("not a folder\n")
-    refused("demo --out names a file", ["demo", "--out", d("a-file"), "--points", "50"], 73,
-            ["a-file"], work)
+    refused("demo --out-dir names a file",
+            ["demo", "--out-dir", d("a-file"), "--point-count", "50"], 73, ["a-file"], work)
 
     # Inspect shows a file's description before reading it; bytes of a binary file must not
     # reach the terminal raw (printable ASCII, tabs and newlines only).

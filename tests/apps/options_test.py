@@ -82,30 +82,30 @@ def main():
                          ["--pre-pca", "2"], ["--linear"], ["--score-k", "5"],
                          ["--score-method", "exact"], ["--sample", "10"]]
     for kind, source in graph_inputs.items():
-        base = ["embed", source, "--input", kind, "-o", good_map]
+        base = ["embed", source, "--input-kind", kind, "-o", good_map]
         for option in unused_with_graph:
-            refused(f"embed --input {kind} {' '.join(option)}", base + option, 64,
-                    [" ".join(option), f"--input {kind}"], work)
-        refused(f"embed --input {kind} --node-order tree-leaves",
+            refused(f"embed --input-kind {kind} {' '.join(option)}", base + option, 64,
+                    [" ".join(option), f"--input-kind {kind}"], work)
+        refused(f"embed --input-kind {kind} --node-order tree-leaves",
                 base + ["--node-order", "tree-leaves"], 64,
-                ["--node-order tree-leaves", f"--input {kind}"], work)
+                ["--node-order tree-leaves", f"--input-kind {kind}"], work)
         if kind != "distances":
-            refused(f"embed --input {kind} --missing -1", base + ["--missing", "-1"], 64,
-                    ["--missing -1", f"--input {kind}"], work)
-    refused("embed --input graph --dataset", ["embed", d("graph.h5"), "--input", "graph",
+            refused(f"embed --input-kind {kind} --missing -1", base + ["--missing", "-1"], 64,
+                    ["--missing -1", f"--input-kind {kind}"], work)
+    refused("embed --input-kind graph --dataset", ["embed", d("graph.h5"), "--input-kind", "graph",
                                               "--dataset", "/graph", "-o", good_map], 64,
-            ["--dataset /graph", "--input graph"], work)
-    refused("embed --input graph --format", ["embed", d("graph.h5"), "--input", "graph",
+            ["--dataset /graph", "--input-kind graph"], work)
+    refused("embed --input-kind graph --format", ["embed", d("graph.h5"), "--input-kind", "graph",
                                              "--format", "hdf5", "-o", good_map], 64,
-            ["--format hdf5", "--input graph"], work)
-    refused("embed --input edges --dataset on a CSV edge list",
-            ["embed", d("edges.csv"), "--input", "edges", "--dataset", "/table", "-o", good_map],
+            ["--format hdf5", "--input-kind graph"], work)
+    refused("embed --input-kind edges --dataset on a CSV edge list",
+            ["embed", d("edges.csv"), "--input-kind", "edges", "--dataset", "/table", "-o", good_map],
             64, ["--dataset /table", "csv"], work)
-    refused("embed --input distances --dataset on an NPY matrix",
-            ["embed", d("distances.npy"), "--input", "distances", "--dataset", "/m", "-o",
+    refused("embed --input-kind distances --dataset on an NPY matrix",
+            ["embed", d("distances.npy"), "--input-kind", "distances", "--dataset", "/m", "-o",
              good_map], 64, ["--dataset /m", "npy"], work)
     refused("embed points --missing", ["embed", roll, "--missing", "0", "-o", good_map], 64,
-            ["--missing 0", "--input points"], work)
+            ["--missing 0", "--input-kind points"], work)
     # Options another option makes void.
     base = ["embed", roll, "-o", good_map]
     for option in [["--k", "5"], ["--radius", "2"], ["--mutual"], ["--landmarks", "50"],
@@ -131,14 +131,14 @@ def main():
              good_json], 64, ["--map-dataset /coords", "npy"], work)
 
     # Options that do apply to a graph input are read, not refused.
-    succeeds("embed --input edges --dataset names an E x 3 HDF5 table",
-             ["embed", d("edges.h5"), "--input", "edges", "--dataset", "/table", "-o",
+    succeeds("embed --input-kind edges --dataset names an E x 3 HDF5 table",
+             ["embed", d("edges.h5"), "--input-kind", "edges", "--dataset", "/table", "-o",
               d("out/table.h5"), "--quiet"])
-    succeeds("embed --input distances --dataset on an HDF5 matrix",
-             ["embed", d("distances.h5"), "--input", "distances", "--dataset", "/matrix",
+    succeeds("embed --input-kind distances --dataset on an HDF5 matrix",
+             ["embed", d("distances.h5"), "--input-kind", "distances", "--dataset", "/matrix",
               "-o", d("out/matrix.h5"), "--quiet"])
-    succeeds("embed --input edges --format csv --disconnected largest --dims 3 --node-order bfs",
-             ["embed", d("edges.csv"), "--input", "edges", "--format", "csv", "--disconnected",
+    succeeds("embed --input-kind edges --format csv --disconnected largest --dims 3 --node-order bfs",
+             ["embed", d("edges.csv"), "--input-kind", "edges", "--format", "csv", "--disconnected",
               "largest", "--dims", "3", "--node-order", "bfs", "-o", d("out/edges.h5"),
               "--quiet"])
     with h5py.File(d("out/edges.h5"), "r") as f:
@@ -147,12 +147,12 @@ def main():
     unrecorded = [key for key in ("k", "radius", "mutual", "search", "keep_duplicates", "rows",
                                   "drop_nonfinite", "scale", "metric", "pre_pca", "score_k")
                   if key in parameters]
-    check("embed --input edges: the map records no option the run did not use",
+    check("embed --input-kind edges: the map records no option the run did not use",
           not unrecorded, f"recorded {unrecorded}")
-    check("embed --input edges: the map records the options used (dims 3, largest, bfs)",
+    check("embed --input-kind edges: the map records the options used (dims 3, largest, bfs)",
           parameters.get("dims") == 3 and parameters.get("disconnected") == "largest"
           and parameters.get("node_order") == "bfs", f"{parameters}")
-    check("embed --input edges: the map holds every node", rows.tolist() == list(range(N)),
+    check("embed --input-kind edges: the map holds every node", rows.tolist() == list(range(N)),
           f"{len(rows)} rows")
 
     # 2. Numbers refused as typed.
@@ -173,8 +173,8 @@ def main():
             work)
     refused("score --dimension-k -1", ["score", good_map, "--points", roll, "--dimension-k",
                                        "-1"], 64, ["--dimension-k", "-1"], work)
-    refused("demo --points -5", ["demo", "--out", d("demo"), "--points", "-5"], 64,
-            ["--points", "-5"], work)
+    refused("demo --point-count -5", ["demo", "--out-dir", d("demo"), "--point-count", "-5"], 64,
+            ["--point-count", "-5"], work)
     succeeds("embed --k 010 is ten, not octal eight",
              base[:3] + [d("out/k10.h5"), "--k", "010", "--no-score", "--quiet"])
     with h5py.File(d("out/k10.h5"), "r") as f:
@@ -221,18 +221,18 @@ def main():
                     ["note", "foreign.npy", "roll.h5"])
 
     # 4. demo: refused before anything is written, no folder left.
-    demo = ["demo", "--out", d("demo/sub")]
+    demo = ["demo", "--out-dir", d("demo/sub")]
     for value in ("nan", "-1", "inf", "1e400", "0x1p3"):
         refused(f"demo --noise {value}", demo + ["--noise", value], 64, ["--noise", value], work)
-    refused("demo --points 2^31: memory estimate over the limit", demo + ["--points", str(2**31)],
-            69, ["--points 2147483648", "about", "TiB"], work)
-    refused("demo --data-only --points 2e9: memory estimate over the limit",
-            demo + ["--data-only", "--points", "2000000000"], 69,
-            ["--points 2000000000", "about", "GiB"], work)
+    refused("demo --point-count 2^31: memory estimate over the limit",
+            demo + ["--point-count", str(2**31)], 69, ["--point-count 2147483648", "about", "TiB"], work)
+    refused("demo --data-only --point-count 2e9: memory estimate over the limit",
+            demo + ["--data-only", "--point-count", "2000000000"], 69,
+            ["--point-count 2000000000", "about", "GiB"], work)
     refused("demo --max-memory 1K: the estimate over --max-memory",
-            demo + ["--points", "50", "--max-memory", "1K"], 69, ["--max-memory", "about"], work)
-    refused("demo --points 100 --k 200: refused before the scenario is written",
-            demo + ["--points", "100", "--k", "200"], 64, ["--k", "200"], work)
+            demo + ["--point-count", "50", "--max-memory", "1K"], 69, ["--max-memory", "about"], work)
+    refused("demo --point-count 100 --k 200: refused before the scenario is written",
+            demo + ["--point-count", "100", "--k", "200"], 64, ["--k", "200"], work)
     refused("demo --data-only --k 5", demo + ["--data-only", "--k", "5"], 64,
             ["--k 5", "--data-only"], work)
     refused("demo --json", demo + ["--json", d("x.json")], 64, ["--json", "x.json"], work)
@@ -244,12 +244,12 @@ def main():
         folder = os.path.join(folder, "d" * 200)
     folder = os.path.join(folder, "e" * (4085 - len(folder) - 1))
     refused("demo whose scenario file name is too long: no folder left behind",
-            ["demo", "--out", folder, "--points", "50"], 73, ["ocean-buoys"], work)
-    succeeds("demo, small", demo + ["--points", "200", "--scenario", "swiss-roll", "--noise",
+            ["demo", "--out-dir", folder, "--point-count", "50"], 73, ["ocean-buoys"], work)
+    succeeds("demo, small", demo + ["--point-count", "200", "--scenario", "swiss-roll", "--noise",
                                     "0.05", "--quiet"])
 
     before = snapshot(work)
-    r = run(["embed", roll, "-o", good_map, "--input", "edges", "--k", "5"])
+    r = run(["embed", roll, "-o", good_map, "--input-kind", "edges", "--k", "5"])
     check("nothing changed by the last refusals",
           r.returncode == 64 and before == snapshot(work), snapshot_diff(before, snapshot(work)))
     finish(work)

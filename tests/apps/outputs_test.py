@@ -125,10 +125,10 @@ def refusals(work, d):
                 ["-o", "locked", "not writable"], work)
         os.chmod(d("locked"), 0o755)
     refused("demo --out naming a file the run cannot be a folder of",
-            ["demo", "--out", roll_h5, "--points", "50"], 73, ["--out", "roll.h5"], work)
+            ["demo", "--out-dir", roll_h5, "--point-count", "50"], 73, ["--out-dir", "roll.h5"], work)
     # demo creates its folder, then finds --csv unusable: the new folder goes again.
     refused("demo with a bad --csv leaves no new folder",
-            ["demo", "--out", d("demo-new"), "--points", "50", "--csv", d("nowhere/d.csv")], 73,
+            ["demo", "--out-dir", d("demo-new"), "--point-count", "50", "--csv", d("nowhere/d.csv")], 73,
             ["--csv", "nowhere"], work)
 
 

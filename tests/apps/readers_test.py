@@ -67,7 +67,7 @@ def main():
                 for i, j, length in grid_edges(8):
                     f.write(f"{i}{sep}{j}{sep}{length}\n")
             out = d(name + ".h5")
-            r = subprocess.run([BIN, "embed", d(name), "--input", "edges", "-o", out, "--quiet"],
+            r = subprocess.run([BIN, "embed", d(name), "--input-kind", "edges", "-o", out, "--quiet"],
                                capture_output=True, text=True, timeout=120)
             check(f"edge list with {sep!r} embeds", r.returncode == 0, r.stderr.strip())
             if r.returncode == 0:
@@ -80,22 +80,22 @@ def main():
         out = d("map.h5")
         with open(d("huge-id.csv"), "w") as f:
             f.write("0,1,1\n1,2147483646,1\n")
-        refused("an edge-list id of 2^31 - 2", ["embed", d("huge-id.csv"), "--input", "edges",
+        refused("an edge-list id of 2^31 - 2", ["embed", d("huge-id.csv"), "--input-kind", "edges",
                                                 "-o", out], 69, ["huge-id.csv", "renumber"], work)
         np.save(d("matrix.npy"), np.zeros((3, 3)))
         os.rename(d("matrix.npy"), d("matrix.csv"))
         refused("NPY bytes under a .csv name as an edge list",
-                ["embed", d("matrix.csv"), "--input", "edges", "-o", out], 65,
+                ["embed", d("matrix.csv"), "--input-kind", "edges", "-o", out], 65,
                 ["matrix.csv", "NPY"], work)
         with open(d("nul.csv"), "wb") as f:
             f.write(b"0,1,1\n1,2\x00,1\n")
-        refused("a NUL byte in an edge list", ["embed", d("nul.csv"), "--input", "edges",
+        refused("a NUL byte in an edge list", ["embed", d("nul.csv"), "--input-kind", "edges",
                                                "-o", out], 65, ["nul.csv", "line 2", "NUL"], work)
         with open(d("fake.npy"), "w") as f:
             f.write("0,1\n1,0\n")
         for kind in ["points", "distances"]:
             refused(f"text named .npy read as {kind}",
-                    ["embed", d("fake.npy"), "--input", kind, "-o", out], 65,
+                    ["embed", d("fake.npy"), "--input-kind", kind, "-o", out], 65,
                     ["fake.npy", "not an NPY file"], work)
         with open(d("long.csv"), "w") as f:
             f.write("1,2\n3," + "9" * 400 + "\n")
@@ -104,7 +104,7 @@ def main():
         with open(d("long-d.csv"), "w") as f:
             f.write("0,1\n" + "9" * 400 + ",0\n")
         refused("a 400-digit number in a distance matrix",
-                ["embed", d("long-d.csv"), "--input", "distances", "-o", out], 65,
+                ["embed", d("long-d.csv"), "--input-kind", "distances", "-o", out], 65,
                 ["long-d.csv", "line 2", "field 1"], work)
         trailing = np.lib.format.header_data_from_array_1_0(np.zeros((4, 4)))
         with open(d("tail.npy"), "wb") as f:
@@ -112,7 +112,7 @@ def main():
             f.write(np.zeros((4, 4)).tobytes() + b"\0" * 8)
         for kind in ["points", "distances"]:
             refused(f"bytes after the NPY array read as {kind}",
-                    ["embed", d("tail.npy"), "--input", kind, "-o", out], 65,
+                    ["embed", d("tail.npy"), "--input-kind", kind, "-o", out], 65,
                     ["tail.npy", "trailing data"], work)
     if failures:
         print(f"{len(failures)} check(s) failed: {', '.join(failures)}")

@@ -1,4 +1,4 @@
-"""embed --plots-folder end to end: the figures and report.html are written with the map, the
+"""embed --plots-dir end to end: the figures and report.html are written with the map, the
 page is self-contained (no script, no stylesheet link, every image a data: URI), and it
 renders in headless chromium (Debian's package, a real browser as the outside reference): no
 console errors, every image loaded (natural width as stated), a screenshot that is not blank.
@@ -20,8 +20,8 @@ from png_support import PngError, read_png  # noqa: E402
 work = tempfile.mkdtemp(prefix="unfurl-report-")
 figs = os.path.join(work, "figs", "run1")  # two missing levels: embed creates them
 np.savetxt(os.path.join(work, "roll.csv"), swiss_roll(500, 5), delimiter=",")
-succeeds("embed with --plots-folder", ["embed", os.path.join(work, "roll.csv"), "-o",
-                                       os.path.join(work, "roll.h5"), "--plots-folder", figs,
+succeeds("embed with --plots-dir", ["embed", os.path.join(work, "roll.csv"), "-o",
+                                       os.path.join(work, "roll.h5"), "--plots-dir", figs,
                                        "--quiet"])
 expected = ["map.png", "map_trustworthiness.png", "residual_variance.png", "scores.png",
             "spectrum.png", "report.html"]
@@ -40,7 +40,7 @@ check("report.html loads nothing from elsewhere (no script, link, http)",
 # A failed run leaves no folder behind: the output map's folder does not exist.
 refused("a run whose map cannot be written", [
     "embed", os.path.join(work, "roll.csv"), "-o", os.path.join(work, "no", "m.h5"),
-    "--plots-folder", os.path.join(work, "figs2")], 73, ["m.h5"], work)
+    "--plots-dir", os.path.join(work, "figs2")], 73, ["m.h5"], work)
 
 chromium = shutil.which("chromium")
 if not chromium:

@@ -225,7 +225,7 @@ TEST_CASE("partial distance errors name the entries", "[graph_input]") {
   CHECK_THROWS_AS(read_partial_distances(dir / "near.csv", strict), unfurl::DataError);
   strict.symmetry_tolerance = -1;
   CHECK_THROWS_WITH(read_partial_distances(dir / "near.csv", strict),
-                    Catch::Contains("--symmetry-tolerance"));
+                    Catch::Contains("DistanceMatrixOptions.symmetry_tolerance"));
 }
 
 TEST_CASE("partial distances from HDF5 and NPY", "[graph_input]") {

@@ -103,7 +103,8 @@ void hdf5_round_trip(hid_t file_type, const std::string& type_name) {
 
 }  // namespace
 
-TEST_CASE("parse_row_range reads A:B, A: and :B and names --rows on errors", "[io][points]") {
+TEST_CASE("parse_row_range reads A:B, A: and :B and names the rows field on errors",
+          "[io][points]") {
   const RowRange a = parse_row_range("3:9");
   CHECK(a.begin == 3);
   CHECK(a.end == std::optional<std::size_t>(9));
@@ -113,7 +114,8 @@ TEST_CASE("parse_row_range reads A:B, A: and :B and names --rows on errors", "[i
   CHECK(parse_row_range(":7").end == std::optional<std::size_t>(7));
   for (const char* bad : {"9:3", "3:3", "a:b", "5", "1:2:3", "-1:4", "2:x"}) {
     INFO(bad);
-    CHECK_THROWS_KIND(parse_row_range(bad), OptionError, Catch::Matchers::StartsWith("--rows: "));
+    CHECK_THROWS_KIND(parse_row_range(bad), OptionError,
+                      Catch::Matchers::StartsWith("PointReadOptions.rows: "));
   }
 }
 
@@ -144,9 +146,9 @@ TEST_CASE("HDF5 default dataset is the only 2-D numeric one", "[io][points]") {
   check_values(r, 0, 12, 3, true, false);
 
   write_hdf5(dir / "one.h5", "/other", {12, 3}, H5T_IEEE_F32LE, H5T_NATIVE_FLOAT, values.data());
-  CHECK_THROWS_KIND(
-      read_points(dir / "one.h5"), OptionError,
-      Catch::Matchers::Contains("--dataset") && Catch::Matchers::Contains("/data/points, /other"));
+  CHECK_THROWS_KIND(read_points(dir / "one.h5"), OptionError,
+                    Catch::Matchers::Contains("PointReadOptions.dataset") &&
+                        Catch::Matchers::Contains("/data/points, /other"));
   PointReadOptions named;
   named.dataset = "other";  // a leading "/" is optional
   CHECK(read_points(dir / "one.h5", named).dataset == "/other");
@@ -181,7 +183,7 @@ TEST_CASE("HDF5 bad inputs give one-line errors of the right kind", "[io][points
   PointReadOptions outside = with("/good");
   outside.rows = RowRange{4, 11};
   CHECK_THROWS_KIND(read_points(file, outside), OptionError,
-                    Contains("--rows") && Contains("10 rows"));
+                    Contains("PointReadOptions.rows") && Contains("10 rows"));
   outside.rows = RowRange{10, std::nullopt};
   CHECK_THROWS_AS(read_points(file, outside), OptionError);
   CHECK_THROWS_KIND(read_points(dir / "absent.h5"), MissingInputError, Contains("absent.h5"));
@@ -340,7 +342,7 @@ TEST_CASE("CSV bad inputs name the file, line and column", "[io][points]") {
   PointReadOptions outside;
   outside.rows = RowRange{2, 9};
   CHECK_THROWS_KIND(read_points(nan, outside), OptionError,
-                    Contains("--rows") && Contains("4 rows"));
+                    Contains("PointReadOptions.rows") && Contains("4 rows"));
 }
 
 TEST_CASE("Offsets keep their digits: centres in double, keys of the values as read",
@@ -492,11 +494,12 @@ TEST_CASE("The format comes from the magic bytes first, then the extension", "[i
   CHECK(read_points(dir / "points.bin").format == "npy");
   PointReadOptions bad;
   bad.format = "xlsx";
-  CHECK_THROWS_KIND(read_points(dir / "points.bin", bad), OptionError, Contains("--format"));
+  CHECK_THROWS_KIND(read_points(dir / "points.bin", bad), OptionError,
+                    Contains("PointReadOptions.format"));
   PointReadOptions dataset_on_npy;
   dataset_on_npy.dataset = "/x";
   CHECK_THROWS_KIND(read_points(dir / "points.bin", dataset_on_npy), OptionError,
-                    Contains("--dataset"));
+                    Contains("PointReadOptions.dataset"));
 }
 
 TEST_CASE("A stop request ends a read with InterruptedError", "[io][points]") {

@@ -196,11 +196,11 @@ def main():
     unfurl("graph", d("roll.h5"), "-o", d("graph.h5"), "--k", str(K))
 
     def same_map_from(kind, source, tolerance):
-        unfurl("embed", source, "--input", kind, "-o", d(f"from-{kind}.h5"), "--landmarks", "200",
+        unfurl("embed", source, "--input-kind", kind, "-o", d(f"from-{kind}.h5"), "--landmarks", "200",
                "--no-score")
         coords, rows = read_map(d(f"from-{kind}.h5"))
         gap = disparity(landmark, coords) if coords.shape == landmark.shape else np.inf
-        check(f"`embed --input {kind}` vs from points: every row, procrustes disparity < "
+        check(f"`embed --input-kind {kind}` vs from points: every row, procrustes disparity < "
               f"{tolerance:g}", rows.tolist() == list(range(N)) and gap < tolerance,
               f"{len(rows)} rows, disparity {gap:.3e}")
 
@@ -221,11 +221,11 @@ def main():
     # motion (Schoenberg 1935; Young and Householder 1938). Matrix by scipy cdist.
     cloud = np.random.default_rng(5).normal(size=(300, 3))
     np.save(d("distances.npy"), cdist(cloud, cloud))
-    unfurl("embed", d("distances.npy"), "--input", "distances", "-o", d("from-dist.h5"),
+    unfurl("embed", d("distances.npy"), "--input-kind", "distances", "-o", d("from-dist.h5"),
            "--landmarks", "all", "--dims", "3", "--no-score")
     recovered, _ = read_map(d("from-dist.h5"))
     gap = disparity(cloud, recovered)
-    check("`--input distances` on a full Euclidean matrix (scipy cdist) recovers the 300 "
+    check("`--input-kind distances` on a full Euclidean matrix (scipy cdist) recovers the 300 "
           "points, procrustes disparity < 1e-6", gap < 1e-6, f"disparity {gap:.3e}")
 
     # Duplicates: 10% of the rows repeat earlier rows. Every copy must sit exactly on its

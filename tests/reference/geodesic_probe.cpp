@@ -19,6 +19,7 @@
 #include <string>
 #include <vector>
 
+#include "apps/exit_codes.hpp"
 #include "engine/error.hpp"
 #include "engine/geodesic.hpp"
 #include "engine/landmarks.hpp"
@@ -130,7 +131,7 @@ int main(int argc, char** argv) {
     return run(std::vector<std::string>(argv, argv + argc));
   } catch (const unfurl::Error& e) {
     std::cerr << "geodesic_probe: " << e.what() << '\n';
-    return static_cast<int>(e.code());
+    return static_cast<int>(unfurl::app::exit_code_of(e));
   } catch (const std::exception& e) {
     std::cerr << "geodesic_probe: " << e.what() << '\n';
     return 64;

@@ -13,6 +13,7 @@
 #include <string>
 #include <vector>
 
+#include "apps/exit_codes.hpp"
 #include "engine/components.hpp"
 #include "engine/error.hpp"
 #include "engine/graph_build.hpp"
@@ -132,6 +133,6 @@ int main(int argc, char** argv) {
     return run(std::vector<std::string>(argv + 1, argv + argc));
   } catch (const Error& e) {
     std::cerr << "graph_probe: " << e.what() << "\n";
-    return static_cast<int>(e.code());
+    return static_cast<int>(unfurl::app::exit_code_of(e));
   }
 }

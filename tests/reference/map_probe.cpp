@@ -17,6 +17,7 @@
 #include <string>
 #include <vector>
 
+#include "apps/exit_codes.hpp"
 #include "engine/error.hpp"
 #include "engine/preprocess.hpp"
 #include "engine/random.hpp"
@@ -255,7 +256,7 @@ int main(int argc, char** argv) {
     return run(argc, argv);
   } catch (const unfurl::Error& e) {
     std::cerr << e.what() << "\n";
-    return static_cast<int>(e.code());
+    return static_cast<int>(unfurl::app::exit_code_of(e));
   } catch (const std::exception& e) {
     std::cerr << "map_probe: " << e.what() << "\n";
     return 70;

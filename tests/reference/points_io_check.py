@@ -1,6 +1,6 @@
 """Point input read by unfurl against the outside reference: files written by h5py and
 numpy (Debian's python3-h5py and python3-numpy) in several dtypes, chunkings, compressions,
-byte orders and element orders. `unfurl inspect --json` must report numpy's rows, columns and
+byte orders and element orders. `unfurl inspect --json FILE` must report numpy's rows, columns and
 per-column min/max/mean; points_probe dumps what read_points read so that every value is
 compared exactly with numpy's float32 cast (IEEE 754 round to nearest, as C++'s conversion).
 Bad inputs must exit with the project's codes (engine/error.hpp) and one-line messages, and
@@ -8,6 +8,7 @@ inspect must never create a file.
 """
 import json
 import os
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -48,12 +49,16 @@ def compare(tmp, label, path, expected, extra=()):
     want = expected.astype(np.float32)
     empty = tempfile.mkdtemp(dir=tmp)
     before = snapshot(tmp)
-    r = run([UNFURL, "inspect", path, "--json", *extra], cwd=empty)
+    # The JSON document goes to a file outside `tmp`: inspect creates no other file.
+    report = os.path.join(tempfile.mkdtemp(), "inspect.json")
+    r = run([UNFURL, "inspect", path, "--json", report, *extra], cwd=empty)
     check(r.returncode == 0, f"{label}: inspect exit 0 (got {r.returncode}: {r.stderr.strip()})")
     check(snapshot(tmp) == before and not os.listdir(empty), f"{label}: inspect created no file")
     if r.returncode != 0:
         return
-    pts = json.loads(r.stdout)["points"]
+    with open(report) as f:
+        pts = json.load(f)["points"]
+    shutil.rmtree(os.path.dirname(report))
     check((pts["rows"], pts["cols"]) == want.shape,
           f"{label}: shape {pts['rows']} x {pts['cols']} vs numpy {want.shape}")
     mins = np.array([c["min"] for c in pts["columns"]])

@@ -9,6 +9,7 @@
 #include <iostream>
 #include <string>
 
+#include "apps/exit_codes.hpp"
 #include "engine/error.hpp"
 #include "io/points_reader.hpp"
 
@@ -50,7 +51,7 @@ int main(int argc, char** argv) {
     }
   } catch (const unfurl::Error& e) {
     std::cerr << "points_probe: " << e.what() << "\n";
-    return static_cast<int>(e.code());
+    return static_cast<int>(unfurl::app::exit_code_of(e));
   }
   return 0;
 }

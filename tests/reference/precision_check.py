@@ -96,7 +96,7 @@ def main():
         # (not translation-invariant) `score` must read the points back uncentred too
         # (without the record it saw T = 0.957 against embed's 0.991).
         demo = os.path.join(folder, "demo")
-        unfurl("demo", "--scenario", "s-curve", "--points", "600", "--out", demo,
+        unfurl("demo", "--scenario", "s-curve", "--point-count", "600", "--out-dir", demo,
                "--metric", "cosine", "--quiet")
         with open(os.path.join(demo, "s-curve-report.json")) as f:
             t_demo = json.load(f)["quality"]["neighbourhoods"][0]["trustworthiness"]

@@ -189,6 +189,7 @@ def main():
         bad[7, 1] = np.nan
         write_points(f"{tmp}/nan.bin", bad)
         for args, code, word in [
+            # The engine names the options-struct field (apps/ shows it as --score-k).
             (("scores", f"{tmp}/x.bin", f"{tmp}/y.bin", "10", "exact", 2, 1), 64,
              "QualityOptions.ks"),
             (("scores", f"{tmp}/x.bin", f"{tmp}/short.bin", "3", "exact", 2, 1), 65, "19"),

@@ -14,6 +14,7 @@
 #include <string>
 #include <vector>
 
+#include "apps/exit_codes.hpp"
 #include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
 #include "engine/quality.hpp"
@@ -169,7 +170,7 @@ int main(int argc, char** argv) {
     return run(argc, argv);
   } catch (const unfurl::Error& e) {
     std::cerr << e.what() << "\n";
-    return static_cast<int>(e.code());
+    return static_cast<int>(unfurl::app::exit_code_of(e));
   } catch (const std::exception& e) {
     std::cerr << "quality_probe: " << e.what() << "\n";
     return 70;
