@@ -11,7 +11,6 @@
 
 #include "apps/args.hpp"
 #include "apps/command.hpp"
-#include "apps/preprocess_record.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
@@ -19,8 +18,8 @@
 #include "io/atomic_output.hpp"
 #include "io/csv_writer.hpp"
 #include "io/hdf5_file.hpp"
+#include "io/landmark_columns.hpp"
 #include "io/map_file.hpp"
-#include "io/placement_record.hpp"
 
 namespace unfurl::app {
 namespace {
@@ -112,22 +111,17 @@ io::MapContents placed_map(const PlaceCommandArgs& a, const io::MapContents& m, 
   out.spectrum = m.spectrum;
   out.spectrum_attributes = m.spectrum_attributes;
   // The map's preprocessing and centres, so that `score` sees the new points as placed.
-  for (const auto& extra : m.extras)
-    if (extra.path.rfind("/preprocess/", 0) == 0 || extra.path == "/input/centres")
-      out.extras.push_back(extra);
-  std::vector<double> ratio(r.nearest_ratio.begin(), r.nearest_ratio.end());
-  std::vector<double> far;
+  out.preprocess = m.preprocess;
+  out.input.centres = m.input.centres;
+  out.input.dropped_nonfinite_rows = std::move(r.dropped_rows);
+  io::MapPlacedRecord placed{.nearest_ratio = std::move(r.nearest_ratio),
+                             .far_rows = {},
+                             .typical_distance = r.summary.typical_distance,
+                             .far_ratio = o.far_ratio};
   for (std::size_t i = 0; i < r.far.size(); ++i)
-    if (r.far[i]) far.push_back(static_cast<double>(r.rows[i]));
-  const nlohmann::json why = {{"typical_distance", r.summary.typical_distance},
-                              {"far_ratio", o.far_ratio}};
-  out.extras.push_back({"/placement/nearest_ratio", ratio, {ratio.size()}, why});
-  out.extras.push_back({"/placement/far_rows", far, {far.size()}, why});
-  std::vector<double> dropped(r.dropped_rows.begin(), r.dropped_rows.end());
-  out.extras.push_back({"/input/dropped_nonfinite_rows",
-                        dropped,
-                        {dropped.size()},
-                        {{"meaning", "input rows dropped for NaN or infinite values"}}});
+    if (r.far[i]) placed.far_rows.push_back(r.rows[i]);
+  out.placement =
+      io::MapPlacementRecord{.triangulation = std::nullopt, .placed = std::move(placed)};
   out.attributes = {{"command", "place"},
                     {"input", r.identity},
                     {"map", io::input_identity(a.map, "")},
@@ -159,12 +153,13 @@ void print_summary(const GlobalOptions& g, const PlaceSummary& s) {
 // Reads and places the new points block by block (PlaceOptions::block_rows rows of the file
 // at a time), so that memory holds the map, one block and the placed coordinates.
 Placed place_in_blocks(const PlaceCommandArgs& a, const PointSet& reference,
-                       const io::PlacementRecord& record, const PreprocessModel* model,
-                       io::PointReadOptions ro, const PlaceOptions& o) {
+                       const LandmarkColumns& columns, const Triangulation& triangulation,
+                       const PreprocessModel* model, io::PointReadOptions ro,
+                       const PlaceOptions& o) {
   const auto start = std::chrono::steady_clock::now();
   const io::RowRange asked = ro.rows.value_or(io::RowRange{});
   Placed out;
-  out.coords = PointSet(0, record.triangulation.dims);
+  out.coords = PointSet(0, triangulation.dims);
   // The file's length first, from one row (the reader checks --rows against it).
   io::PointReadOptions probe = ro;
   probe.rows = io::RowRange{asked.begin, asked.begin + 1};
@@ -182,8 +177,7 @@ Placed place_in_blocks(const PlaceCommandArgs& a, const PointSet& reference,
     out.dropped_rows.insert(out.dropped_rows.end(), in.dropped_rows.begin(), in.dropped_rows.end());
     if (in.points.rows == 0) continue;
     const PointSet block = model ? apply_preprocess(*model, in.points) : std::move(in.points);
-    const PlaceResult r =
-        place_points(reference, record.columns, record.triangulation, block, o, stop_token());
+    const PlaceResult r = place_points(reference, columns, triangulation, block, o, stop_token());
     out.coords.values.insert(out.coords.values.end(), r.coords.values.begin(),
                              r.coords.values.end());
     out.coords.rows += r.coords.rows;
@@ -234,14 +228,14 @@ void run_place(const GlobalOptions& g, const PlaceCommandArgs& a) {
         !probe.has_attribute("/", "format_version"))
       throw DataError(a.map + ": not an unfurl map (no /coords, /rows or format_version)");
   }
-  if (!io::has_placement_record(a.map))
+  const io::MapContents m = io::read_map(a.map, false);
+  if (!m.placement || !m.placement->triangulation || !io::has_landmark_rows(a.map))
     throw DataError(a.map +
                     ": keeps no placement record (/landmarks/geodesic, /placement/*); make the "
                     "map with embed --keep-geodesics");
-  const io::MapContents m = io::read_map(a.map, false);
   const nlohmann::json params = recorded_parameters(m);
-  std::vector<double> centres = input_centres_from_arrays(m.extras).value_or(std::vector<double>{});
-  const std::optional<PreprocessModel> model = preprocess_from_arrays(m.extras);
+  std::vector<double> centres = m.input.centres.value_or(std::vector<double>{});
+  const std::optional<PreprocessModel>& model = m.preprocess;
 
   PlaceOptions o;
   o.k = a.k ? a.k : params.value("k", std::size_t{10});
@@ -261,12 +255,14 @@ void run_place(const GlobalOptions& g, const PlaceCommandArgs& a) {
                        scale_name(model->scale), metric_name(model->metric), model->components));
   }
   o.validate(reference.rows);
-  const io::PlacementRecord record =
-      io::read_placement_record(a.map, m.coords.rows, m.coords.cols, stop_token());
+  const Triangulation& triangulation = *m.placement->triangulation;
+  const LandmarkColumns columns =
+      io::read_landmark_columns(a.map, m.coords.rows, triangulation.landmarks, stop_token());
   o.typical_distance = typical_neighbour_distance(reference, o, stop_token());
   read_options.centres = centres;
   read_options.stop = stop_token();
-  Placed placed = place_in_blocks(a, reference, record, model ? &*model : nullptr, read_options, o);
+  Placed placed = place_in_blocks(a, reference, columns, triangulation, model ? &*model : nullptr,
+                                  read_options, o);
   print_summary(g, placed.summary);
 
   const PlaceSummary summary = placed.summary;

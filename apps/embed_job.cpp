@@ -10,7 +10,6 @@
 #include "engine/placement.hpp"
 #include "io/csv_writer.hpp"
 #include "io/map_file.hpp"
-#include "io/placement_record.hpp"
 
 namespace unfurl::app {
 namespace {
@@ -250,10 +249,11 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   map.spectrum = axis_spectrum(result).top;
   map.spectrum_attributes = spectrum_json(result);
   if (a.map.keep_geodesics && !a.linear) {
-    // What `unfurl place` needs beside the rows (io/placement_record.hpp).
-    io::add_placement_arrays(triangulation_of_map(result.geodesic, result.landmark_coords,
-                                                  result.spectrum, result.coords.cols),
-                             map.extras);
+    // What `unfurl place` needs beside the rows (io/map_record.hpp, /placement).
+    map.placement = io::MapPlacementRecord{
+        .triangulation = triangulation_of_map(result.geodesic, result.landmark_coords,
+                                              result.spectrum, result.coords.cols),
+        .placed = std::nullopt};
     map.landmark_geodesic = std::move(result.geodesic);
   }
   report["parameters"] = without_unused(embed_run_shape(a), parameters_json(g, a, options, result));

@@ -62,6 +62,7 @@ struct Triangulation {
   std::size_t dims = 0, landmarks = 0;
   std::vector<double> p;             // dims x L, row k = v_k / sqrt(lambda_k) (0 when lambda <= 0)
   std::vector<double> mean_squared;  // L: each landmark's mean squared distance to the landmarks
+  bool operator==(const Triangulation&) const = default;
 };
 
 // From the map's landmark rows (L x N, sources = the landmarks' map rows), its landmark

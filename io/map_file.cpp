@@ -49,6 +49,13 @@ void check_sizes(const fs::path& path, const MapContents& c) {
         (q > 0 && (p.pca_mean.size() != d || p.axes.size() != q * d || p.variances.size() != q)))
       fail("/preprocess: the arrays disagree with input_cols and components");
   }
+  if (c.placement && c.placement->triangulation) {
+    const Triangulation& t = *c.placement->triangulation;
+    if (t.dims != m || t.landmarks != l || t.p.size() != m * l || t.mean_squared.size() != l)
+      fail("/placement: the triangulation is not m x L with L mean squared distances");
+  }
+  if (c.placement && c.placement->placed && c.placement->placed->nearest_ratio.size() != n)
+    fail("/placement/nearest_ratio: not one per map row");
   if (!c.attributes.is_object()) fail("attributes are not an object");
 }
 
@@ -102,6 +109,7 @@ void write_map(OutputSet& outputs, std::size_t output, const MapContents& c, H5W
     detail::write_quality_group(out, c.quality);
     if (c.preprocess) detail::write_preprocess_group(out, *c.preprocess);
     detail::write_input_group(out, c.input);
+    if (c.placement) detail::write_placement_group(out, *c.placement);
     for (const MapArray& extra : c.extras) {
       if (extra.path.empty() || extra.path[0] != '/')
         throw InternalError(path.string() + ": extra dataset path '" + extra.path +
@@ -190,6 +198,7 @@ MapContents read_map(const fs::path& path, bool with_geodesic) {
   c.quality = detail::read_quality_group(in, version, n, known);
   c.preprocess = detail::read_preprocess_group(in, known);
   c.input = detail::read_input_group(in, version, known);
+  c.placement = detail::read_placement_group(in, version, n, m, l, known);
   for (const std::string& name : all) {
     // A full graph saved into the map is read_graph's business, not an extra.
     if (known.count(name) || graph_datasets.count(name) || name.rfind("/graph/nodes/", 0) == 0)

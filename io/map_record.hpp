@@ -32,12 +32,26 @@
 //   /preprocess/variances          p float64
 //   /input/centres           d float64      column centres the reader subtracted (optional)
 //   /input/dropped_nonfinite_rows  int64    input rows dropped for NaN or infinite values
+//   /placement/triangulation   m x L float64  P, row k = v_k / sqrt(lambda_k)  } with the
+//   /placement/landmark_mean_squared  L float64  mu: each landmark's mean      } geodesic
+//                              squared geodesic distance to the landmarks      } rows
+//   /placement/nearest_ratio   N float32    nearest reference point's distance over the
+//                                           typical neighbour distance     } in a map `place`
+//   /placement/far_rows        F int64      input rows flagged far from    } wrote; attributes
+//                                           the map                        } typical_distance,
+//                                                                          } far_ratio on both
 //   /graph/offsets, targets, lengths, rows, nodes/*   a full graph (io/graph_file.hpp) when
 //                                           one is saved here: read_graph's, not the record's
 //   attributes on /  format_version (2), program_version, creation_time (UTC ISO 8601), host,
 //                    peak_memory_bytes, and the caller's (command, input identity, parameters,
 //                    seed, seconds) by the rules of io/detail/h5_json.hpp.
 // Most datasets also carry a "meaning" attribute in words. Row ids are int64 everywhere.
+//
+// Placing new points (`unfurl place`, engine/placement.hpp) reads /placement/triangulation and
+// /placement/landmark_mean_squared with /landmarks/geodesic and /landmarks/nodes (the latter
+// column block by column block: io/landmark_columns.hpp), /rows, /preprocess/*, /input/centres
+// and the attributes "input" (path and identity of the reference points) and "parameters"
+// (the neighbour search: k, search, metric, scale).
 //
 // Version 1 (read, never written) differs only in types: /graph/dropped_rows,
 // /graph/component_sizes, /graph/degree, /quality/kK/scored_rows and
@@ -62,6 +76,7 @@
 #include <vector>
 
 #include "engine/distance_rows.hpp"
+#include "engine/placement.hpp"
 #include "engine/points.hpp"
 #include "engine/preprocess.hpp"
 #include "io/map_array.hpp"
@@ -135,6 +150,21 @@ struct MapInputRecord {
   bool operator==(const MapInputRecord&) const = default;
 };
 
+// /placement: what placing new points needs besides the landmark rows, and what placing did.
+struct MapPlacedRecord {               // a map written by `unfurl place`
+  std::vector<float> nearest_ratio;    // per map row
+  std::vector<std::int64_t> far_rows;  // input rows beyond far_ratio
+  double typical_distance = 0;         // the reference map's typical neighbour distance
+  double far_ratio = 0;                // the threshold, in typical distances
+  bool operator==(const MapPlacedRecord&) const = default;
+};
+
+struct MapPlacementRecord {
+  std::optional<Triangulation> triangulation;  // m x L; with the landmark rows (embed)
+  std::optional<MapPlacedRecord> placed;
+  bool operator==(const MapPlacementRecord&) const = default;
+};
+
 struct MapContents {
   PointSet coords;                                                // N x m map coordinates
   std::vector<std::int64_t> rows;                                 // N input row indices
@@ -147,6 +177,7 @@ struct MapContents {
   MapQualityRecord quality;                                       // empty with --no-score
   std::optional<PreprocessModel> preprocess;                      // warnings are not stored
   MapInputRecord input;
+  std::optional<MapPlacementRecord> placement;  // absent: neither of the two
   // Datasets no field above describes (none that unfurl writes), read as float64 so that a
   // map from a newer minor layout keeps them; written back as they are.
   std::vector<MapArray> extras;

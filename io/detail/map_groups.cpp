@@ -394,4 +394,76 @@ MapInputRecord read_input_group(const H5Reader& in, std::int64_t version,
   return input;
 }
 
+namespace {
+
+const char* const kTriangulation = "/placement/triangulation";
+const char* const kMeanSquared = "/placement/landmark_mean_squared";
+const char* const kNearestRatio = "/placement/nearest_ratio";
+const char* const kFarRows = "/placement/far_rows";
+
+}  // namespace
+
+void write_placement_group(H5Writer& out, const MapPlacementRecord& p) {
+  if (p.triangulation) {
+    const Triangulation& t = *p.triangulation;
+    out.write(kTriangulation, t.p, {t.dims, t.landmarks});
+    write_with_meaning(out, kTriangulation,
+                       "landmark MDS triangulation: x = -1/2 P (delta^2 - mu), row k of P the "
+                       "k-th eigenvector of the landmark Gram matrix over sqrt(eigenvalue)");
+    write_vector(out, kMeanSquared, t.mean_squared,
+                 "mu: each landmark's mean squared geodesic distance to the landmarks");
+  }
+  if (p.placed) {
+    const MapPlacedRecord& r = *p.placed;
+    const json why = {{"typical_distance", r.typical_distance}, {"far_ratio", r.far_ratio}};
+    out.write(kNearestRatio, r.nearest_ratio, {r.nearest_ratio.size()});
+    write_json_attributes(out, kNearestRatio, why);
+    write_with_meaning(out, kNearestRatio,
+                       "distance to the nearest reference point over the map's typical "
+                       "neighbour distance");
+    out.write(kFarRows, r.far_rows, {r.far_rows.size()});
+    write_json_attributes(out, kFarRows, why);
+    write_with_meaning(out, kFarRows, "input rows whose nearest_ratio exceeds far_ratio");
+  }
+}
+
+std::optional<MapPlacementRecord> read_placement_group(const H5Reader& in, std::int64_t version,
+                                                       std::size_t n, std::size_t m, std::size_t l,
+                                                       std::set<std::string>& known) {
+  MapPlacementRecord p;
+  if (in.has_dataset(kTriangulation)) {
+    const auto dims = in.require_rank(kTriangulation, 2).dims;
+    if (dims[0] != m || dims[1] != l)
+      bad(in, kTriangulation,
+          "is " + std::to_string(dims[0]) + " x " + std::to_string(dims[1]) +
+              ", expected m x L = " + std::to_string(m) + " x " + std::to_string(l));
+    if (!in.has_dataset(kMeanSquared))
+      bad(in, kMeanSquared, "missing (the triangulation needs it)");
+    Triangulation t;
+    t.dims = m;
+    t.landmarks = l;
+    t.p = in.read<double>(kTriangulation);
+    known.insert(kTriangulation);
+    t.mean_squared = read_vector(in, kMeanSquared, known);
+    expect_size(in, kMeanSquared, t.mean_squared.size(), l, "one per landmark");
+    p.triangulation = std::move(t);
+  }
+  if (in.has_dataset(kNearestRatio)) {
+    MapPlacedRecord r;
+    in.require_rank(kNearestRatio, 1);
+    r.nearest_ratio = in.read<float>(kNearestRatio);
+    known.insert(kNearestRatio);
+    expect_size(in, kNearestRatio, r.nearest_ratio.size(), n, "one per map row");
+    const json at = read_json_attributes(in, kNearestRatio);
+    r.typical_distance = attribute<double>(in, kNearestRatio, at, "typical_distance");
+    r.far_ratio = attribute<double>(in, kNearestRatio, at, "far_ratio");
+    if (!in.has_dataset(kFarRows)) bad(in, kFarRows, "missing (with nearest_ratio)");
+    r.far_rows = read_ids(in, kFarRows, version);
+    known.insert(kFarRows);
+    p.placed = std::move(r);
+  }
+  if (!p.triangulation && !p.placed) return std::nullopt;
+  return p;
+}
+
 }  // namespace unfurl::io::detail

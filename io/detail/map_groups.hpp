@@ -1,6 +1,6 @@
 // Internal: the groups of a map file beyond the map itself (/graph, /quality, /preprocess,
-// /input), each written and read in full. Layout: io/map_record.hpp. Readers take the file's
-// format version and convert what version 1 stored otherwise.
+// /input, /placement), each written and read in full. Layout: io/map_record.hpp. Readers take the
+// file's format version and convert what version 1 stored otherwise.
 #pragma once
 
 #include <cstdint>
@@ -18,6 +18,7 @@ void write_graph_group(H5Writer& out, const MapGraphRecord& graph);
 void write_quality_group(H5Writer& out, const MapQualityRecord& quality);
 void write_preprocess_group(H5Writer& out, const PreprocessModel& model);
 void write_input_group(H5Writer& out, const MapInputRecord& input);
+void write_placement_group(H5Writer& out, const MapPlacementRecord& placement);
 
 // Each reader adds the datasets it consumed to `known`, so that the rest become extras;
 // `n` is the number of map rows, which scored rows must name.
@@ -29,6 +30,10 @@ std::optional<PreprocessModel> read_preprocess_group(const H5Reader& in,
                                                      std::set<std::string>& known);
 MapInputRecord read_input_group(const H5Reader& in, std::int64_t version,
                                 std::set<std::string>& known);
+// `n`, `m` and `l`: the map's rows, axes and landmarks, which the arrays must match.
+std::optional<MapPlacementRecord> read_placement_group(const H5Reader& in, std::int64_t version,
+                                                       std::size_t n, std::size_t m, std::size_t l,
+                                                       std::set<std::string>& known);
 
 // Row ids (or counts) of a 1-D dataset: int64 storage in version 2, float64 holding whole
 // numbers >= 0 in version 1. DataError naming the dataset and the entry otherwise.

@@ -9,21 +9,6 @@
 #include "io/plot/detail/chart.hpp"
 
 namespace unfurl::io::plot {
-namespace {
-
-double scalar(const MapArray& a) {
-  return a.values.empty() ? NAN : a.values.front();
-}
-
-void interval(const MapArray& a, double& low, double& high) {
-  const auto it = a.attributes.find("interval_95");
-  if (it == a.attributes.end() || !it->is_array() || it->size() != 2) return;
-  low = (*it)[0].is_number() ? (*it)[0].get<double>() : NAN;
-  high = (*it)[1].is_number() ? (*it)[1].get<double>() : NAN;
-}
-
-}  // namespace
-
 PlotMap plot_map_from(io::MapContents c, std::string name) {
   PlotMap m;
   m.name = std::move(name);
@@ -32,44 +17,23 @@ PlotMap plot_map_from(io::MapContents c, std::string name) {
   m.spectrum = std::move(c.spectrum);
   m.spectrum_attributes = std::move(c.spectrum_attributes);
   m.attributes = std::move(c.attributes);
-  for (MapArray& a : c.extras) {
-    if (a.path == "/quality/residual_variance") {
-      m.residual_variance = a.values;
-    } else if (a.path.rfind("/graph/", 0) == 0) {
-      m.graph.push_back(std::move(a));
-    } else if (a.path.rfind("/quality/k", 0) == 0) {
-      const std::size_t slash = a.path.find('/', 10);
-      if (slash == std::string::npos) continue;
-      std::size_t k = 0;
-      try {
-        k = std::stoul(a.path.substr(10, slash - 10));
-      } catch (const std::exception&) {
-        continue;  // not a neighbourhood group this build writes
-      }
-      auto it = std::find_if(m.scores.begin(), m.scores.end(),
-                             [k](const StoredScores& s) { return s.k == k; });
-      if (it == m.scores.end()) {
-        StoredScores fresh;
-        fresh.k = k;
-        it = m.scores.insert(m.scores.end(), fresh);
-      }
-      const std::string leaf = a.path.substr(slash + 1);
-      if (leaf == "trustworthiness") {
-        it->t = scalar(a);
-        interval(a, it->t_low, it->t_high);
-        it->method = a.attributes.value("method", "");
-        it->sample_size = a.attributes.value("sample_size", std::size_t{0});
-      } else if (leaf == "continuity") {
-        it->c = scalar(a);
-        interval(a, it->c_low, it->c_high);
-      } else if (leaf == "scored_rows") {
-        it->scored_rows = a.values;
-      } else if (leaf == "trustworthiness_terms") {
-        it->t_terms = a.values;
-      } else if (leaf == "continuity_terms") {
-        it->c_terms = a.values;
-      }
-    }
+  if (c.quality.residual) m.residual_variance = std::move(c.quality.residual->by_dims);
+  m.graph = std::move(c.graph);
+  for (io::MapScoreRecord& s : c.quality.by_k) {
+    StoredScores stored;
+    stored.k = static_cast<std::size_t>(s.k);
+    stored.t = s.trustworthiness;
+    stored.t_low = s.trustworthiness_95[0];
+    stored.t_high = s.trustworthiness_95[1];
+    stored.c = s.continuity;
+    stored.c_low = s.continuity_95[0];
+    stored.c_high = s.continuity_95[1];
+    stored.method = std::move(s.method);
+    stored.sample_size = static_cast<std::size_t>(s.sample_size);
+    stored.scored_rows = std::move(s.scored_rows);
+    stored.t_terms = std::move(s.trustworthiness_terms);
+    stored.c_terms = std::move(s.continuity_terms);
+    m.scores.push_back(std::move(stored));
   }
   std::sort(m.scores.begin(), m.scores.end(),
             [](const StoredScores& a, const StoredScores& b) { return a.k < b.k; });
@@ -88,8 +52,9 @@ PointColours term_colours(const PlotMap& map, TermColour which) {
     PointColours out;
     out.values.assign(map.coords.rows, NAN);
     for (std::size_t i = 0; i < terms.size(); ++i) {
-      const double r = s.scored_rows[i];
-      if (r >= 0 && r < double(map.coords.rows)) out.values[static_cast<std::size_t>(r)] = terms[i];
+      const std::int64_t r = s.scored_rows[i];
+      if (r >= 0 && static_cast<std::size_t>(r) < map.coords.rows)
+        out.values[static_cast<std::size_t>(r)] = terms[i];
     }
     out.label = fmt::format("term of 1 - {}(k = {})",
                             which == TermColour::trustworthiness ? "T" : "C", s.k);

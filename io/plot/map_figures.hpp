@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdint>
 #include <filesystem>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -22,7 +23,7 @@ struct StoredScores {
   double c = NAN, c_low = NAN, c_high = NAN;
   std::string method;  // "exact" | "sampled"
   std::size_t sample_size = 0;
-  std::vector<double> scored_rows;  // map row of each term
+  std::vector<std::int64_t> scored_rows;  // map row of each term
   std::vector<double> t_terms, c_terms;
 };
 
@@ -34,7 +35,7 @@ struct PlotMap {
   nlohmann::json spectrum_attributes = nlohmann::json::object();
   std::vector<double> residual_variance;  // by dimension, 1..
   std::vector<StoredScores> scores;       // by k, ascending
-  std::vector<MapArray> graph;            // /graph/* summaries
+  std::optional<MapGraphRecord> graph;    // absent for a linear map
   nlohmann::json attributes = nlohmann::json::object();
 };
 

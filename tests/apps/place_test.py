@@ -72,6 +72,33 @@ with h5py.File(placed, "r") as f:
           str(f["/coords"].shape))
     check("placed map: rows and diagnostics", f["/rows"].shape == (100,) and
           f["/placement/nearest_ratio"].shape == (100,), str(list(f["/placement"])))
+# The /placement datasets have the types io/map_record.hpp and README "The map file" document.
+with h5py.File(path("map.h5"), "r") as f:
+    tri, mu = f["/placement/triangulation"], f["/placement/landmark_mean_squared"]
+    check("map: triangulation m x L float64", tri.shape == (2, 40) and tri.dtype == np.float64,
+          f"{tri.shape} {tri.dtype}")
+    check("map: landmark_mean_squared L float64", mu.shape == (40,) and mu.dtype == np.float64,
+          f"{mu.shape} {mu.dtype}")
+    check("map: no placed-map diagnostics", "nearest_ratio" not in f["/placement"],
+          str(list(f["/placement"])))
+with h5py.File(placed, "r") as f:
+    ratio, far = f["/placement/nearest_ratio"], f["/placement/far_rows"]
+    check("placed map: nearest_ratio float32, far_rows int64",
+          ratio.dtype == np.float32 and far.dtype == np.int64 and far.ndim == 1,
+          f"{ratio.dtype} {far.dtype} {far.shape}")
+    check("placed map: ratio attributes", ratio.attrs["far_ratio"] == 3.0 and
+          ratio.attrs["typical_distance"] > 0 and far.attrs["far_ratio"] == 3.0,
+          str(dict(ratio.attrs)))
+    far_rows = set(far[...].tolist())
+    check("placed map: far_rows are the input rows above far_ratio",
+          far_rows == set(f["/rows"][...][ratio[...] > 3.0].tolist()), str(sorted(far_rows)))
+    with h5py.File(path("map.h5"), "r") as g:
+        same_centres = np.array_equal(f["/input/centres"][...], g["/input/centres"][...])
+    check("placed map: no triangulation; the map's centres; int64 dropped rows",
+          "triangulation" not in f["/placement"] and same_centres and
+          f["/input/dropped_nonfinite_rows"].dtype == np.int64,
+          str(list(f["/placement"])) + str(list(f["/input"])))
+
 # Blocks and --rows: the same coordinates whatever the block size, rows kept as input rows.
 small = os.path.join(out, "small_blocks.h5")
 succeeds("place in blocks of 7", ["place", "--map", path("map.h5"), new, "-o", small,

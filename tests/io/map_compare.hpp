@@ -1,5 +1,5 @@
-// Comparison of two map records' groups (/graph, /quality, /preprocess, /input), field by
-// field, for the map file tests.
+// Comparison of two map records' groups (/graph, /quality, /preprocess, /input, /placement), field
+// by field, for the map file tests.
 #pragma once
 
 #include <catch2/catch.hpp>
@@ -25,6 +25,7 @@ inline void check_same_groups(const io::MapContents& a, const io::MapContents& b
   CHECK(a.graph == b.graph);
   CHECK(a.quality == b.quality);
   CHECK(a.input == b.input);
+  CHECK(a.placement == b.placement);
   REQUIRE(b.preprocess.has_value() == a.preprocess.has_value());
   if (a.preprocess) check_same_preprocess(*a.preprocess, *b.preprocess);
 }

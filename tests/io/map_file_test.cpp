@@ -100,6 +100,16 @@ MapContents sample_map(std::size_t n, std::size_t m, std::size_t l, bool geodesi
   c.preprocess = pre;
   c.input.centres = std::vector<double>{10.5, -3.25, 0.0};
   c.input.dropped_nonfinite_rows = {huge, 0};
+  unfurl::Triangulation t;
+  t.dims = m;
+  t.landmarks = l;
+  for (std::size_t k = 0; k < m * l; ++k) t.p.push_back(rng.uniform() - 0.5);
+  for (std::size_t j = 0; j < l; ++j) t.mean_squared.push_back(rng.uniform() * 4.0);
+  unfurl::io::MapPlacedRecord placed{
+      .nearest_ratio = {}, .far_rows = {huge, 5}, .typical_distance = 0.375, .far_ratio = 8.0};
+  for (std::size_t i = 0; i < n; ++i)
+    placed.nearest_ratio.push_back(static_cast<float>(rng.uniform() * 12.0));
+  c.placement = unfurl::io::MapPlacementRecord{.triangulation = t, .placed = placed};
   c.extras.push_back({"/notes/degree_histogram", {0, 3, 5, 1, 0, 2}, {3, 2}, {{"bins", 3}}});
   c.attributes = {{"seed", 12345},
                   {"input", {{"path", "/data/buoys.h5"}, {"dataset", "/points"}, {"bytes", 999}}},
@@ -216,6 +226,12 @@ TEST_CASE("a failed map write leaves the earlier map byte-identical", "[map_file
   MapContents thin_axes = sample_map(10, 2, 3, false);
   thin_axes.preprocess->axes.pop_back();
   CHECK_THROWS_AS(unfurl::io::write_map(path, thin_axes), unfurl::InternalError);
+  MapContents thin_triangulation = sample_map(10, 2, 3, false);
+  thin_triangulation.placement->triangulation->p.pop_back();
+  CHECK_THROWS_AS(unfurl::io::write_map(path, thin_triangulation), unfurl::InternalError);
+  MapContents short_ratio = sample_map(10, 2, 3, false);
+  short_ratio.placement->placed->nearest_ratio.pop_back();
+  CHECK_THROWS_AS(unfurl::io::write_map(path, short_ratio), unfurl::InternalError);
 
   CHECK(unfurl::test::file_bytes(path) == before);
   CHECK(dir.entries() == std::vector<std::string>{"map.h5"});  // no temporary file left
@@ -281,6 +297,35 @@ TEST_CASE("map reader rejects damaged and foreign files", "[map_file]") {
       out.close();
     }
     CHECK_THROWS_AS(unfurl::io::read_map(dir / "flat.h5"), unfurl::DataError);
+  }
+  SECTION("a placement record that disagrees with the map") {
+    {
+      unfurl::io::H5Writer out(dir / "placement.h5");
+      out.write("/coords", std::vector<float>{1, 2, 3, 4}, {2, 2});
+      out.write("/rows", std::vector<std::int64_t>{0, 1}, {2});
+      out.write("/landmarks/rows", std::vector<std::int64_t>{0}, {1});
+      out.write("/landmarks/coords", std::vector<double>{1, 2}, {1, 2});
+      out.write("/placement/triangulation", std::vector<double>{1, 2, 3}, {1, 3});
+      out.write("/placement/landmark_mean_squared", std::vector<double>{1}, {1});
+      out.set_int_attribute("/", "format_version", 2);
+      out.close();
+    }
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "placement.h5"), unfurl::DataError);
+    CHECK_THROWS_WITH(
+        unfurl::io::read_map(dir / "placement.h5"),
+        Catch::Contains("/placement/triangulation: is 1 x 3, expected m x L = 2 x 1"));
+    {
+      unfurl::io::H5Writer out(dir / "placed.h5");
+      out.write("/coords", std::vector<float>{1, 2, 3, 4}, {2, 2});
+      out.write("/rows", std::vector<std::int64_t>{0, 1}, {2});
+      out.write("/placement/nearest_ratio", std::vector<float>{0.5f, 1.5f}, {2});
+      out.set_double_attribute("/placement/nearest_ratio", "typical_distance", 0.25);
+      out.set_double_attribute("/placement/nearest_ratio", "far_ratio", 8);
+      out.set_int_attribute("/", "format_version", 2);
+      out.close();
+    }
+    CHECK_THROWS_WITH(unfurl::io::read_map(dir / "placed.h5"),
+                      Catch::Contains("/placement/far_rows: missing"));
   }
   SECTION("not a map at all") {
     unfurl::io::H5Writer out(dir / "other.h5");

@@ -1,4 +1,4 @@
-#include "io/placement_record.hpp"
+#include "io/landmark_columns.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -10,8 +10,6 @@
 namespace unfurl::io {
 namespace {
 
-const char* const kTriangulation = "/placement/triangulation";
-const char* const kMeanSquared = "/placement/landmark_mean_squared";
 const char* const kGeodesic = "/landmarks/geodesic";
 
 void expect_dims(const H5Reader& in, const std::string& dataset,
@@ -29,45 +27,18 @@ void expect_dims(const H5Reader& in, const std::string& dataset,
 
 }  // namespace
 
-void add_placement_arrays(const Triangulation& t, std::vector<MapArray>& extras) {
-  extras.push_back({kTriangulation,
-                    t.p,
-                    {t.dims, t.landmarks},
-                    {{"meaning",
-                      "landmark MDS triangulation: x = -1/2 P (delta^2 - mu), row k of P the "
-                      "k-th eigenvector of the landmark Gram matrix over sqrt(eigenvalue)"}}});
-  extras.push_back({kMeanSquared,
-                    t.mean_squared,
-                    {t.landmarks},
-                    {{"meaning",
-                      "mu: each landmark's mean squared geodesic distance to the "
-                      "landmarks"}}});
-}
-
-bool has_placement_record(const std::filesystem::path& map) {
+bool has_landmark_rows(const std::filesystem::path& map) {
   const H5Reader in(map);
-  return in.has_dataset(kTriangulation) && in.has_dataset(kMeanSquared) &&
-         in.has_dataset(kGeodesic) && in.has_dataset("/landmarks/nodes");
+  return in.has_dataset(kGeodesic) && in.has_dataset("/landmarks/nodes");
 }
 
-PlacementRecord read_placement_record(const std::filesystem::path& map, std::size_t n,
-                                      std::size_t dims, StopToken stop) {
+LandmarkColumns read_landmark_columns(const std::filesystem::path& map, std::size_t n,
+                                      std::size_t l, StopToken stop) {
   const H5Reader in(map, stop);
-  for (const char* name : {kTriangulation, kMeanSquared, kGeodesic})
-    if (!in.has_dataset(name))
-      throw MissingInputError(map.string() + ": " + name + ": missing (placement needs it)");
-  const std::size_t l = in.require_rank(kGeodesic, 2).dims[0];
+  if (!in.has_dataset(kGeodesic))
+    throw MissingInputError(map.string() + ": " + kGeodesic + ": missing (placement needs it)");
   expect_dims(in, kGeodesic, {l, n});
-  expect_dims(in, kTriangulation, {dims, l});
-  expect_dims(in, kMeanSquared, {l});
-  PlacementRecord r;
-  Triangulation& t = r.triangulation;
-  t.dims = dims;
-  t.landmarks = l;
-  t.p = in.read<double>(kTriangulation);
-  t.mean_squared = in.read<double>(kMeanSquared);
-
-  LandmarkColumns& c = r.columns;
+  LandmarkColumns c;
   c.nodes = n;
   c.landmarks = l;
   c.values.resize(n * l);
@@ -94,7 +65,7 @@ PlacementRecord read_placement_record(const std::filesystem::path& map, std::siz
   for (float v : c.values)
     if (!(v >= 0.0f) || !std::isfinite(v))
       throw DataError(data.where + ": holds a negative, infinite or NaN distance");
-  return r;
+  return c;
 }
 
 }  // namespace unfurl::io
