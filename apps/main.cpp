@@ -119,11 +119,9 @@ int main(int argc, char** argv) {
     // fmt reports a failed write to stdout this way.
     if (std::ferror(stdout)) return stdout_failed(e.code().value());
     return fail(ExitCode::internal, (std::string("internal error: ") + e.what()).c_str());
-  } catch (const OptionError& e) {
-    // Named by its options-struct field in engine/ and io/: shown as the flag typed.
-    return fail(app::exit_code_of(e), app::option_message(cli, e).c_str());
   } catch (const Error& e) {
-    return fail(app::exit_code_of(e), e.what());
+    // engine/ and io/ name options-struct fields: shown as the flags typed.
+    return fail(app::exit_code_of(e), app::user_message(cli, e.what()).c_str());
   } catch (const std::bad_alloc&) {
     return fail(ExitCode::unavailable, "out of memory (try fewer landmarks or --rows)");
   } catch (const std::exception& e) {

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <array>
+#include <cctype>
 #include <string_view>
 
 namespace unfurl::app {
@@ -16,24 +17,31 @@ struct FieldFlag {
 // Rows for one field are tried in order: a row for the command in use before the row for all.
 constexpr std::array kTable{
     // engine/: the neighbour graph and its components
-    FieldFlag{"GraphOptions.k", "", "--k"},
-    FieldFlag{"GraphOptions.radius", "", "--radius"},
+    FieldFlag{"NearestK.k", "", "--k"},
+    FieldFlag{"WithinRadius.radius", "", "--radius"},
     FieldFlag{"GraphOptions.mutual", "", "--mutual"},
     FieldFlag{"GraphOptions.search", "", "--search"},
     FieldFlag{"GraphOptions.keep_duplicates", "", "--keep-duplicates"},
     FieldFlag{"GraphOptions.block_rows", "", ""},
     FieldFlag{"GraphOptions.duplicate_epsilon", "", ""},
+    FieldFlag{"KnnOptions.k", "", ""},
+    FieldFlag{"KnnOptions.block_rows", "", ""},
     FieldFlag{"ComponentOptions.policy", "", "--disconnected"},
-    // engine/: preprocessing, landmarks, the spectrum, the embedding
+    FieldFlag{"ComponentOptions.sizes_in_message", "", ""},
+    // engine/: preprocessing, landmarks, geodesics, the spectrum, the embedding
     FieldFlag{"PreprocessOptions.scale", "", "--scale"},
     FieldFlag{"PreprocessOptions.metric", "", "--metric"},
     FieldFlag{"PreprocessOptions.pca", "", "--pre-pca"},
     FieldFlag{"LandmarkOptions.count", "", "--landmarks"},
-    FieldFlag{"LandmarkOptions.dims", "", "--dims"},
     FieldFlag{"LandmarkOptions.pick", "", "--pick"},
+    FieldFlag{"GeodesicOptions.sources", "", ""},
     FieldFlag{"SpectralOptions.dims", "", "--dims"},
+    FieldFlag{"SpectralOptions.krylov", "", ""},
+    FieldFlag{"SpectralOptions.max_iterations", "", ""},
+    FieldFlag{"SpectralOptions.tolerance", "", ""},
+    FieldFlag{"SpectralOptions.probes", "", ""},
+    FieldFlag{"SpectralOptions.quadrature", "", ""},
     FieldFlag{"LinearOptions.dims", "", "--dims"},
-    FieldFlag{"EmbedOptions.exact", "", "--landmarks"},
     FieldFlag{"EmbedOptions.order", "", "--node-order"},
     FieldFlag{"EmbedOptions.keep_geodesics", "", "--keep-geodesics"},
     // engine/: the scores (the neighbourhood sizes are --score-k: --k is the graph's)
@@ -43,9 +51,19 @@ constexpr std::array kTable{
     FieldFlag{"QualityOptions.threads", "", "--threads"},
     FieldFlag{"QualityOptions.exact_limit", "", ""},
     // embed and demo take the intrinsic dimension's k from the graph's --k; score has its own
-    FieldFlag{"AssessOptions.dimension_k", "embed demo", "--k"},
-    FieldFlag{"AssessOptions.dimension_k", "", "--dimension-k"},
+    FieldFlag{"DimensionOptions.k", "embed demo", "--k"},
+    FieldFlag{"DimensionOptions.k", "", "--dimension-k"},
     FieldFlag{"AssessOptions.residual_pairs", "", ""},
+    FieldFlag{"PairSampleOptions.count", "", ""},
+    FieldFlag{"ResidualOptions.sources", "", ""},
+    // engine/: placing new points (place)
+    FieldFlag{"PlaceOptions.k", "", "--k"},
+    FieldFlag{"PlaceOptions.search", "", "--search"},
+    FieldFlag{"PlaceOptions.far_ratio", "", "--far-ratio"},
+    FieldFlag{"PlaceOptions.block_rows", "", "--block-rows"},
+    FieldFlag{"PlaceOptions.worst", "", ""},
+    FieldFlag{"PlaceOptions.typical_sample", "", ""},
+    FieldFlag{"PlaceOptions.typical_distance", "", ""},
     // io/: point files
     FieldFlag{"PointReadOptions.dataset", "", "--dataset"},
     FieldFlag{"PointReadOptions.rows", "", "--rows"},
@@ -62,6 +80,11 @@ constexpr std::array kTable{
     FieldFlag{"DistanceMatrixOptions.dataset", "", "--dataset"},
     FieldFlag{"DistanceMatrixOptions.missing_value", "", "--missing"},
     FieldFlag{"DistanceMatrixOptions.symmetry_tolerance", "", ""},
+    // io/plot: figures (plot)
+    FieldFlag{"FigureSize.width", "", "--size"},
+    FieldFlag{"FigureSize.height", "", "--size"},
+    FieldFlag{"MapFigure.axis_x", "", "--axes"},
+    FieldFlag{"MapFigure.axis_y", "", "--axes"},
 };
 
 bool applies(std::string_view commands, const std::string& command) {
@@ -88,14 +111,32 @@ bool field_known(const std::string& field) {
                      [&](const FieldFlag& row) { return row.field == field; });
 }
 
-std::string option_message(const CLI::App& cli, const OptionError& e) {
-  const std::string what = e.what();
-  const std::string& field = e.field();
+std::string user_message(const CLI::App& cli, const std::string& what) {
   const std::vector<CLI::App*> parsed = cli.get_subcommands();
   const std::string command = parsed.empty() ? std::string() : parsed.front()->get_name();
-  const std::string flag = field.empty() ? std::string() : flag_of(command, field);
-  if (flag.empty() || what.rfind(field + ": ", 0) != 0) return what;
-  return flag + what.substr(field.size());
+  // Every field the table knows is shown as the flag typed, wherever the text names it: the
+  // field at fault of an OptionError, and hints such as "use a larger NearestK.k" in a
+  // DataError. A field without a flag in this command stays as named.
+  std::string out = what;
+  for (const FieldFlag& row : kTable) {
+    const std::string field(row.field);
+    const std::string flag = flag_of(command, field);
+    if (flag.empty()) continue;
+    for (std::size_t at = out.find(field); at != std::string::npos;
+         at = out.find(field, at + flag.size())) {
+      const std::size_t end = at + field.size();
+      const auto word = [](char c) {
+        return std::isalnum(static_cast<unsigned char>(c)) || c == '_';
+      };
+      if ((at > 0 && (word(out[at - 1]) || out[at - 1] == '.')) ||
+          (end < out.size() && word(out[end]))) {
+        at += 1;  // part of a longer name
+        continue;
+      }
+      out.replace(at, field.size(), flag);
+    }
+  }
+  return out;
 }
 
 }  // namespace unfurl::app

@@ -2,7 +2,7 @@
 // field at fault (OptionError("GraphOptions.k", "must be at least 1, got 0")); the user typed
 // a flag of the command in use, and the same field can have different flags in different
 // commands (the score stage's QualityOptions.ks is --score-k). main()'s handler prints the
-// flag through option_message().
+// flag through user_message().
 #pragma once
 
 #include <string>
@@ -22,8 +22,10 @@ std::string flag_of(const std::string& command, const std::string& field);
 // io/ name in an OptionError must have one (tests/apps/option_flags_test.cpp checks).
 bool field_known(const std::string& field);
 
-// The message of `e` as the user of `cli`'s command reads it: "--k: must be at least 1, got
-// 0". A field without a flag is shown as named; a message without a field as it is.
-std::string option_message(const CLI::App& cli, const OptionError& e);
+// An error message as the user of `cli`'s command reads it: every field of the table named in
+// it becomes the command's flag ("NearestK.k: must be at least 1, got 0" -> "--k: must be at
+// least 1, got 0"; "use a larger NearestK.k" -> "use a larger --k"). A field without a flag
+// in that command is shown as named.
+std::string user_message(const CLI::App& cli, const std::string& what);
 
 }  // namespace unfurl::app

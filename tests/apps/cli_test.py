@@ -290,7 +290,7 @@ def main():
             ["2 components", "--disconnected"], work)
     refused("embed --input-kind edges --disconnected bridge (needs points)",
             ["embed", d("two-triangles.csv"), "--input-kind", "edges", "--disconnected", "bridge",
-             "-o", good_map], 64, ["--disconnected bridge"], work)
+             "-o", good_map], 64, ["--disconnected", "bridge needs points"], work)
     refused("embed --input-kind graph given a point file",
             ["embed", roll, "--input-kind", "graph", "-o", good_map], 65, ["roll.h5"], work)
 

@@ -65,41 +65,49 @@ TEST_CASE("every field engine/ and io/ name in an OptionError has a row in the f
 
 TEST_CASE("the field table knows an unknown field as unknown", "[option_flags]") {
   CHECK_FALSE(unfurl::app::field_known("NoSuchOptions.k"));
-  CHECK(unfurl::app::field_known("GraphOptions.k"));
+  CHECK(unfurl::app::field_known("NearestK.k"));
   CHECK(unfurl::app::flag_of("embed", "NoSuchOptions.k").empty());
 }
 
 TEST_CASE("a field's flag depends on the command that uses it", "[option_flags]") {
   using unfurl::app::flag_of;
-  CHECK(flag_of("embed", "GraphOptions.k") == "--k");
+  CHECK(flag_of("embed", "NearestK.k") == "--k");
   CHECK(flag_of("embed", "QualityOptions.ks") == "--score-k");
   CHECK(flag_of("score", "QualityOptions.ks") == "--score-k");
   // The intrinsic dimension's k is the graph's --k in embed, --dimension-k in score.
-  CHECK(flag_of("embed", "AssessOptions.dimension_k") == "--k");
-  CHECK(flag_of("demo", "AssessOptions.dimension_k") == "--k");
-  CHECK(flag_of("score", "AssessOptions.dimension_k") == "--dimension-k");
+  CHECK(flag_of("embed", "DimensionOptions.k") == "--k");
+  CHECK(flag_of("demo", "DimensionOptions.k") == "--k");
+  CHECK(flag_of("score", "DimensionOptions.k") == "--dimension-k");
   CHECK(flag_of("embed", "PointReadOptions.rows") == "--rows");
   CHECK(flag_of("embed", "DistanceMatrixOptions.missing_value") == "--missing");
   // A field no flag sets keeps its name.
   CHECK(flag_of("embed", "GraphOptions.block_rows").empty());
 }
 
-TEST_CASE("option messages show the flag of the command in use", "[option_flags]") {
+TEST_CASE("messages show the flag of the command in use", "[option_flags]") {
   using unfurl::OptionError;
-  using unfurl::app::option_message;
+  using unfurl::app::user_message;
   ParsedApp score("score");
-  CHECK(option_message(score.cli, OptionError("QualityOptions.ks", "must be at least 1, got 0")) ==
+  CHECK(user_message(score.cli,
+                     OptionError("QualityOptions.ks", "must be at least 1, got 0").what()) ==
         "--score-k: must be at least 1, got 0");
-  CHECK(option_message(score.cli, OptionError("AssessOptions.dimension_k", "must be 0 or 2+")) ==
+  CHECK(user_message(score.cli, OptionError("DimensionOptions.k", "must be 0 or 2+").what()) ==
         "--dimension-k: must be 0 or 2+");
   ParsedApp embed("embed");
-  CHECK(option_message(embed.cli, OptionError("AssessOptions.dimension_k", "must be 0 or 2+")) ==
+  CHECK(user_message(embed.cli, OptionError("DimensionOptions.k", "must be 0 or 2+").what()) ==
         "--k: must be 0 or 2+");
-  CHECK(option_message(embed.cli, OptionError("GraphOptions.block_rows", "must be at least 1")) ==
+  CHECK(user_message(embed.cli,
+                     OptionError("GraphOptions.block_rows", "must be at least 1").what()) ==
         "GraphOptions.block_rows: must be at least 1");
   // A message that names its option itself is shown as it is.
-  CHECK(option_message(embed.cli, OptionError("--radius: must be positive")) ==
-        "--radius: must be positive");
+  CHECK(user_message(embed.cli, "--radius: must be positive") == "--radius: must be positive");
+  // Hints inside other errors name flags too; a longer name that ends like a field is kept.
+  CHECK(user_message(embed.cli, unfurl::DataError("the graph has 3 components: use a larger "
+                                                  "NearestK.k or WithinRadius.radius, or "
+                                                  "ComponentOptions.policy largest")
+                                    .what()) ==
+        "the graph has 3 components: use a larger --k or --radius, or --disconnected largest");
+  CHECK(user_message(embed.cli, "XNearestK.k and NearestK.kk") == "XNearestK.k and NearestK.kk");
 }
 
 TEST_CASE("each error class has its exit code, and a rethrown error keeps class and field",
