@@ -87,14 +87,9 @@ GraphOptions to_graph_options(const GraphArgs& a) {
   return o;
 }
 
-std::size_t recorded_k(const Neighbourhood& n) {
-  const auto* nearest = std::get_if<NearestK>(&n);
-  return nearest ? nearest->k : 0;
-}
-
-double recorded_radius(const Neighbourhood& n) {
-  const auto* within = std::get_if<WithinRadius>(&n);
-  return within ? within->radius : 0.0;
+nlohmann::json neighbourhood_json(const Neighbourhood& n) {
+  if (const auto* within = std::get_if<WithinRadius>(&n)) return {{"radius", within->radius}};
+  return {{"k", std::get<NearestK>(n).k}};
 }
 
 ComponentOptions to_component_options(const GraphArgs& a) {

@@ -6,6 +6,7 @@
 
 #include <cstdint>
 #include <initializer_list>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
 
@@ -42,9 +43,9 @@ struct GraphArgs {
 void add_graph_options(CLI::App* cmd, GraphArgs& args, bool with_components = true);
 GraphOptions to_graph_options(const GraphArgs& args);
 ComponentOptions to_component_options(const GraphArgs& args);
-// k and radius as the map and graph files record them: 0 for the rule not chosen.
-std::size_t recorded_k(const Neighbourhood& neighbourhood);
-double recorded_radius(const Neighbourhood& neighbourhood);
+// The neighbourhood as map and graph files record it: {"k": K} or {"radius": R}, only the
+// rule chosen (no sentinel for the other).
+nlohmann::json neighbourhood_json(const Neighbourhood& neighbourhood);
 
 // Landmarks and the spectral stage.
 struct MapArgs {

@@ -47,7 +47,8 @@ std::size_t scenario_columns(const DemoArgs& a) {
 std::uint64_t demo_bytes(const DemoArgs& a) {
   const double n = static_cast<double>(a.points), d = static_cast<double>(scenario_columns(a));
   if (a.data_only) return static_cast<std::uint64_t>(n * (8 * d + 8));
-  const double k = static_cast<double>(recorded_k(a.embed.graph.neighbourhood));
+  const auto* nearest = std::get_if<NearestK>(&a.embed.graph.neighbourhood);
+  const double k = nearest ? static_cast<double>(nearest->k) : 0.0;
   const auto* given = std::get_if<LandmarkCount>(&a.embed.map.landmarks);
   const double landmarks = static_cast<double>(
       given ? given->count : default_landmark_count(a.points, a.embed.map.dims));

@@ -53,14 +53,13 @@ void run_graph(const GlobalOptions& g, const GraphCommandArgs& a) {
   summary["components"] = parts.count;
   summary["component_sizes_top"] = std::vector<std::size_t>(
       sizes.begin(), sizes.begin() + std::min<std::size_t>(10, sizes.size()));
+  nlohmann::json parameters = {{"mutual", options.mutual},
+                               {"search", a.graph.search},
+                               {"keep_duplicates", options.keep_duplicates},
+                               {"rows", a.input.rows}};
+  parameters.update(neighbourhood_json(options.neighbourhood));
   const nlohmann::json attributes = {{"input", io::input_identity(a.input.file, in.dataset)},
-                                     {"parameters",
-                                      {{"k", recorded_k(options.neighbourhood)},
-                                       {"radius", recorded_radius(options.neighbourhood)},
-                                       {"mutual", options.mutual},
-                                       {"search", a.graph.search},
-                                       {"keep_duplicates", options.keep_duplicates},
-                                       {"rows", a.input.rows}}},
+                                     {"parameters", parameters},
                                      {"summary", summary}};
   std::vector<std::int64_t> rows;
   rows.reserve(built.point_of_node.size());

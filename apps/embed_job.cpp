@@ -46,28 +46,28 @@ PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
 
 nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const EmbedOptions& o,
                                const EmbedResult& r) {
-  return {{"input_kind", a.input_kind},
-          {"k", recorded_k(o.graph.neighbourhood)},
-          {"radius", recorded_radius(o.graph.neighbourhood)},
-          {"mutual", o.graph.mutual},
-          {"search", a.graph.search},
-          {"keep_duplicates", o.graph.keep_duplicates},
-          {"disconnected", a.graph.disconnected},
-          {"scale", a.scale},
-          {"metric", a.metric},
-          {"pre_pca", a.pre_pca},
-          {"linear", a.linear},
-          {"dims", o.spectral.dims},
-          {"landmarks", a.linear    ? std::string("none")
-                        : o.exact() ? std::string("all")
-                                    : std::to_string(r.landmarks.landmarks)},
-          {"pick", a.map.pick},
-          {"node_order", node_order_name(r.order)},  // morton is bfs for a graph
-          {"drop_nonfinite", a.input.drop_nonfinite},
-          {"rows", a.input.rows},
-          {"score", !a.no_score},
-          {"score_k", a.score.ks},
-          {"threads", g.threads}};
+  nlohmann::json p = {{"input_kind", a.input_kind},
+                      {"mutual", o.graph.mutual},
+                      {"search", a.graph.search},
+                      {"keep_duplicates", o.graph.keep_duplicates},
+                      {"disconnected", a.graph.disconnected},
+                      {"scale", a.scale},
+                      {"metric", a.metric},
+                      {"pre_pca", a.pre_pca},
+                      {"linear", a.linear},
+                      {"dims", o.spectral.dims},
+                      {"landmarks", a.linear    ? std::string("none")
+                                    : o.exact() ? std::string("all")
+                                                : std::to_string(r.landmarks.landmarks)},
+                      {"pick", a.map.pick},
+                      {"node_order", node_order_name(r.order)},  // morton is bfs for a graph
+                      {"drop_nonfinite", a.input.drop_nonfinite},
+                      {"rows", a.input.rows},
+                      {"score", !a.no_score},
+                      {"score_k", a.score.ks},
+                      {"threads", g.threads}};
+  p.update(neighbourhood_json(o.graph.neighbourhood));
+  return p;
 }
 
 // The engine's options for a run on n points (or nodes of a given graph): the defaults that
