@@ -155,7 +155,8 @@ PlaceResult place_points(const PointSet& reference, const LandmarkColumns& colum
     const std::size_t width = std::min(o.block_rows, n - b0);
     PointSet block(width, points.cols);
     std::copy_n(points.row(b0), width * points.cols, block.values.data());
-    const KnnResult knn = exact_knn(reference, block, KnnOptions{k, s.search_used, false, 512}, stop);
+    const KnnResult knn =
+        exact_knn(reference, block, KnnOptions{k, s.search_used, false, 512}, stop);
     ExceptionCollector errors;
 #pragma omp parallel
     {
