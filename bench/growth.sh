@@ -73,7 +73,7 @@ EOF
 [ $with10m = 1 ] && sizes="$sizes 10000000"
 for n in $sizes; do
   roll="$work/roll$n/swiss-roll.h5"
-  [ -f "$roll" ] || "$unfurl" --quiet demo --scenario swiss-roll --points "$n" --out "$work/roll$n" --data-only
+  [ -f "$roll" ] || "$unfurl" --quiet demo --scenario swiss-roll --point-count "$n" --out-dir "$work/roll$n" --data-only
   run swiss-roll "$n" 3 "$roll"
 done
 if [ $fashion = 1 ] && [ -d /usr/share/datasets/fashion-mnist ]; then

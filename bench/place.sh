@@ -12,8 +12,8 @@ mkdir -p "$work"
 
 source "$(cd "$(dirname "$0")" && pwd)/timed_run.sh"
 
-"$unfurl" --quiet --seed 1 demo --scenario swiss-roll --points "$n" --out "$work/map-points" --data-only
-"$unfurl" --quiet --seed 2 demo --scenario swiss-roll --points "$n" --out "$work/new-points" --data-only
+"$unfurl" --quiet --seed 1 demo --scenario swiss-roll --point-count "$n" --out-dir "$work/map-points" --data-only
+"$unfurl" --quiet --seed 2 demo --scenario swiss-roll --point-count "$n" --out-dir "$work/new-points" --data-only
 echo "| run | wall s | peak MiB |"
 echo "|---|---|---|"
 run embed-keep-geodesics "$unfurl" --quiet embed "$work/map-points/swiss-roll.h5" -o "$work/map.h5" \
