@@ -8,6 +8,7 @@
 
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
+#include "engine/spectral.hpp"
 
 namespace unfurl {
 
@@ -50,17 +51,7 @@ Triangulation triangulation_of_map(const DistanceRows& rows,
     if (!(lambda > 0.0)) continue;  // an axis beyond the positive spectrum stays 0, as in the map
     for (std::size_t i = 0; i < l; ++i) t.p[k * l + i] = landmark_coords[i * dims + k] / lambda;
   }
-  // The symmetrised landmark block, as landmark MDS builds its Gram matrix.
-  t.mean_squared.assign(l, 0.0);
-  for (std::size_t i = 0; i < l; ++i) {
-    double sum = 0.0;
-    for (std::size_t j = 0; j < l; ++j) {
-      const double a = rows.row(i)[rows.sources[j]];
-      const double c = rows.row(j)[rows.sources[i]];
-      sum += 0.5 * (a * a + c * c);
-    }
-    t.mean_squared[i] = sum / static_cast<double>(l);
-  }
+  t.mean_squared = landmark_mean_squared(rows);
   return t;
 }
 

@@ -327,6 +327,10 @@ SpectralResult landmark_mds(const DistanceRows& landmark_rows, const SpectralOpt
   return out;
 }
 
+std::vector<double> landmark_mean_squared(const DistanceRows& landmark_rows) {
+  return centred_gram(landmark_rows, landmark_rows.sources).row_means;
+}
+
 SpectralResult exact_mds(const DistanceRows& all_rows, const SpectralOptions& options,
                          StopToken stop) {
   const auto start = Clock::now();

@@ -113,6 +113,11 @@ SpectrumMass whole_spectrum_mass(const std::vector<double>& spectrum);
 SpectralResult landmark_mds(const DistanceRows& landmark_rows, const SpectralOptions& options,
                             StopToken stop = {});
 
+// Each landmark's mean symmetrised squared distance to the landmarks (the row means of S that
+// landmark_mds's triangulation subtracts), computed as landmark_mds computes them, for
+// placing new points into its map. The sources must lie within the rows.
+std::vector<double> landmark_mean_squared(const DistanceRows& landmark_rows);
+
 // Exact mode: all_rows must be N x N with sources 0..N-1 in order (all_geodesic_rows).
 // B stays implicit above dense_limit (see engine/detail/centred_operator.hpp).
 SpectralResult exact_mds(const DistanceRows& all_rows, const SpectralOptions& options,
