@@ -128,7 +128,8 @@ json embed_json(const EmbedResult& r) {
   j["map"] = {{"rows", r.coords.rows}, {"dims", r.coords.cols}};
   j["seconds"] = {{"graph", r.seconds.graph},       {"components", r.seconds.components},
                   {"node_order", r.seconds.order},  {"geodesics", r.seconds.geodesics},
-                  {"spectral", r.seconds.spectral}, {"total", r.seconds.total}};
+                  {"spectral", r.seconds.spectral}, {"residual", r.seconds.residual},
+                  {"map_back", r.seconds.map_back}, {"total", r.seconds.total}};
   j["warnings"] = r.warnings;
   return j;
 }
@@ -255,6 +256,9 @@ void print_embedding(const GlobalOptions& g, const EmbedResult& r) {
                      r.spectral.spectrum_complete ? std::string("all")
                                                   : std::to_string(largest.size()) + " computed",
                      r.spectral.order, ratio, r.seconds.spectral));
+  if (r.residual)
+    say(g, fmt::format("residual variance: {} pairs ({}) in {:.2f} s", r.residual->pairs,
+                       r.residual->drawn, r.seconds.residual));
   say(g, fmt::format("map: {} rows x {} dims in {:.2f} s", r.coords.rows, r.coords.cols,
                      r.seconds.total));
   for (const auto& w : r.warnings) say(g, "warning: " + w);

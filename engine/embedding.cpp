@@ -69,9 +69,11 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   if (sources.all_nodes && !options.keep_geodesics)
     sources.rows = spaced_rows(sources.rows, kExactScoringRows);
   result.seconds.spectral = watch.seconds();
+  watch = Stopwatch();
   if (options.residual)  // map.coords row v is node v of the ordered graph
     result.residual = graph_residual_variance(ordered.graph, map.coords, *options.residual,
                                               order.new_of_old.values(), stop);
+  result.seconds.residual = watch.seconds();
   result.spectral = map.summary;
   append_warnings(result.warnings, "spectral", map.summary.warnings);
   result.spectrum = std::move(map.spectrum);
@@ -79,6 +81,7 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   result.negative_ratio = map.negative_ratio;
   result.landmark_coords = std::move(map.landmark_coords);
 
+  watch = Stopwatch();
   const Numbering ordered_of_point =
       node_of_point.then(connected.old_of_new.inverse()).then(order.new_of_old);
   const Numbering point_of_ordered =
@@ -90,6 +93,7 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   result.dropped = std::move(back.dropped);
   result.landmark_rows = std::move(back.landmark_rows);
   result.geodesic = std::move(back.geodesic);
+  result.seconds.map_back = watch.seconds();
   result.seconds.total = total.seconds();
   return result;
 }

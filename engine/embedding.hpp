@@ -46,8 +46,12 @@ struct EmbedOptions {
   bool exact() const { return std::holds_alternative<AllLandmarks>(landmarks.count); }
 };
 
+// Wall seconds of each step; total also holds what no step names (validation, moves).
 struct StageSeconds {
-  double graph = 0, components = 0, order = 0, geodesics = 0, spectral = 0, total = 0;
+  double graph = 0, components = 0, order = 0, geodesics = 0, spectral = 0;
+  double residual = 0;  // geodesic rows of the residual variance score (options.residual)
+  double map_back = 0;  // coordinates and geodesic rows back to input rows
+  double total = 0;
 };
 
 struct EmbedResult {

@@ -85,3 +85,29 @@ TEST_CASE("embed_graph: a given cycle and a far path keep the cycle's nodes", "[
     }
   }
 }
+
+TEST_CASE("embed_points: the stage seconds name every step, the residual score's rows included",
+          "[embedding]") {
+  // The figures a run prints must account for its time: the named steps run one after the
+  // other, so their sum cannot exceed the total, and the residual variance's own geodesic rows
+  // (sampled sources beyond all_pairs_limit) are a step of their own (common practice, no
+  // source: a stage table whose parts do not add up misleads).
+  PointSet p(400, 2);
+  for (std::size_t i = 0; i < p.rows; ++i) {
+    p.row(i)[0] = static_cast<float>(i % 20);
+    p.row(i)[1] = static_cast<float>(i / 20);
+  }
+  EmbedOptions o;
+  o.graph.neighbourhood = NearestK{6};
+  o.landmarks.count = LandmarkCount{16};
+  o.residual = ResidualOptions{.all_pairs_limit = 100, .sources = 32, .seed = 3};
+  const EmbedResult r = embed_points(p, o);
+  REQUIRE(r.residual.has_value());
+  CHECK(r.residual->sampled);
+  const StageSeconds& s = r.seconds;
+  CHECK(s.residual > 0);
+  CHECK(s.map_back >= 0);
+  const double parts =
+      s.graph + s.components + s.order + s.geodesics + s.spectral + s.residual + s.map_back;
+  CHECK(parts <= s.total + 1e-9);
+}
