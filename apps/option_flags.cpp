@@ -56,6 +56,7 @@ constexpr std::array kTable{
     FieldFlag{"AssessOptions.residual_pairs", "", ""},
     FieldFlag{"PairSampleOptions.count", "", ""},
     FieldFlag{"ResidualOptions.sources", "", ""},
+    FieldFlag{"ResidualOptions.min_sources", "", ""},
     // engine/: placing new points (place)
     FieldFlag{"PlaceOptions.k", "", "--k"},
     FieldFlag{"PlaceOptions.search", "", "--search"},

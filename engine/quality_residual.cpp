@@ -188,12 +188,20 @@ ResidualVarianceCurve residual_variance(const DistanceRows& geodesic, const Poin
 
 void ResidualOptions::validate() const {
   if (sources < 1) throw OptionError("ResidualOptions.sources", "must be at least 1, got 0");
+  if (min_sources < 1)
+    throw OptionError("ResidualOptions.min_sources", "must be at least 1, got 0");
+}
+
+std::size_t ResidualOptions::source_count(std::size_t nodes) const {
+  const std::size_t within_budget = nodes > 0 ? pair_budget / nodes : sources;
+  return std::min(sources, std::max(min_sources, within_budget));
 }
 
 std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& options,
                                      std::span<const NodeId> draw_order, std::string& drawn) {
   std::vector<NodeId> sources;
-  if (nodes <= options.all_pairs_limit || options.sources >= nodes) {
+  const std::size_t count = options.source_count(nodes);
+  if (nodes <= options.all_pairs_limit || count >= nodes) {
     for (std::size_t v = 0; v < nodes; ++v) sources.push_back(static_cast<NodeId>(v));
     drawn = "every pair of the " + std::to_string(nodes) + " graph nodes (all pairs up to " +
             std::to_string(options.all_pairs_limit) + " nodes)";
@@ -202,9 +210,9 @@ std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& o
   // Salted: with the same seed a random landmark draw of the same count would otherwise pick
   // the very same nodes, and the residual variance would read the landmark rows again.
   constexpr std::uint64_t kSalt = 0x7265736964756531;
-  for (std::uint32_t at : detail::sample_rows(nodes, options.sources, options.seed ^ kSalt))
+  for (std::uint32_t at : detail::sample_rows(nodes, count, options.seed ^ kSalt))
     sources.push_back(draw_order.empty() ? static_cast<NodeId>(at) : draw_order[at]);
-  drawn = "every graph node paired with " + std::to_string(options.sources) +
+  drawn = "every graph node paired with " + std::to_string(count) +
           " source nodes drawn uniformly at random (seed " + std::to_string(options.seed) +
           ", not the landmarks; all pairs only up to " + std::to_string(options.all_pairs_limit) +
           " nodes)";

@@ -35,10 +35,19 @@ struct ResidualVarianceCurve {
 // standard error over the source rows.
 struct ResidualOptions {
   std::size_t all_pairs_limit = 2000;  // up to this many nodes: every pair
-  std::size_t sources = 256;           // beyond: sampled source rows
-  std::uint64_t seed = 1;              // of the source draw
-  // Throws OptionError naming the field: sources < 1 (no row to pair with).
+  std::size_t sources = 256;           // beyond: at most this many sampled source rows
+  // Each source row is a Dijkstra run over the whole graph, as costly as a landmark row, so on
+  // large graphs the count shrinks to keep sources x nodes within pair_budget, never below
+  // min_sources (but never above `sources`). With the defaults: 256 sources up to 250,000
+  // nodes, 64 from 1,000,000 on; bench/RESULTS.md has the value and standard error at 1M with
+  // 256 and with 64 sources.
+  std::size_t pair_budget = 64'000'000;
+  std::size_t min_sources = 64;
+  std::uint64_t seed = 1;  // of the source draw
+  // Throws OptionError naming the field: sources or min_sources < 1 (no row to pair with).
   void validate() const;
+  // The number of sampled source rows on a graph of `nodes` nodes (beyond all_pairs_limit).
+  std::size_t source_count(std::size_t nodes) const;
 };
 
 // Over the rows of geodesic_rows from the sources ResidualOptions picks on `graph`; coords

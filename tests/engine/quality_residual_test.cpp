@@ -101,3 +101,32 @@ TEST_CASE("sampled sources follow the caller's numbering, not the graph's", "[qu
   for (std::size_t i = 0; i < 5; ++i) CHECK(mapped[i] == 49 - plain[i]);
   CHECK(drawn.find("5 source nodes drawn uniformly at random") != std::string::npos);
 }
+
+TEST_CASE("the residual variance's source count shrinks with the graph within its pair budget",
+          "[quality]") {
+  // Each source row costs a Dijkstra run over the whole graph, so the rule caps sources x nodes
+  // (common practice, no source: a fixed budget of work for a sampled statistic whose standard
+  // error the curve reports).
+  unfurl::ResidualOptions o;  // 256 sources, budget 64,000,000 pairs, at least 64
+  CHECK(o.source_count(10'000) == 256);
+  CHECK(o.source_count(250'000) == 256);
+  CHECK(o.source_count(500'000) == 128);
+  CHECK(o.source_count(1'000'000) == 64);
+  CHECK(o.source_count(10'000'000) == 64);
+  o.sources = 32;  // an explicit smaller count is never raised by the floor
+  CHECK(o.source_count(10'000'000) == 32);
+  o.min_sources = 0;
+  CHECK_THROWS_AS(o.validate(), unfurl::OptionError);
+
+  // The rows actually drawn follow the rule: 3,000 nodes with a budget of 150,000 pairs give
+  // 50 sources, each paired with every other node.
+  const Roll r = roll(3000, 33);
+  unfurl::ResidualOptions small;
+  small.all_pairs_limit = 1000;
+  small.pair_budget = 150'000;
+  small.min_sources = 8;
+  const auto curve = unfurl::graph_residual_variance(r.graph, r.truth, small, {});
+  REQUIRE(curve.sampled);
+  CHECK(curve.pairs == 50u * 2999u);
+  CHECK(curve.drawn.find("paired with 50 source nodes") != std::string::npos);
+}
