@@ -2,8 +2,6 @@
 // "equal up to rotation, reflection and scale" (Procrustes).
 #pragma once
 
-#include <Eigen/Dense>
-
 #include <algorithm>
 #include <cmath>
 #include <cstddef>
@@ -104,22 +102,19 @@ inline DistanceRows euclidean_rows(const PointSet& p, const std::vector<NodeId>&
 // configurations, scale each to unit Frobenius norm, rotate/reflect and scale the second
 // onto the first; the disparity is the remaining sum of squared differences, which equals
 // 1 - (sum of singular values of A'B)^2 (Gower 1975, "Generalized Procrustes analysis").
-// 0 means "equal up to rotation, reflection, scale and shift".
+// 0 means "equal up to rotation, reflection, scale and shift". Defined in test_util.cpp, so
+// Eigen's SVD is compiled once rather than in every test file that compares maps.
+double procrustes_disparity_rows(const std::vector<double>& a, const std::vector<double>& b,
+                                 std::size_t n, std::size_t m);
+
 template <class A, class B>
 double procrustes_disparity(const A& a, const B& b, std::size_t n, std::size_t m) {
-  Eigen::MatrixXd x(n, m), y(n, m);
-  for (std::size_t i = 0; i < n; ++i)
-    for (std::size_t k = 0; k < m; ++k) {
-      x(i, k) = static_cast<double>(a[i * m + k]);
-      y(i, k) = static_cast<double>(b[i * m + k]);
-    }
-  x.rowwise() -= x.colwise().mean();
-  y.rowwise() -= y.colwise().mean();
-  x /= x.norm();
-  y /= y.norm();
-  const Eigen::JacobiSVD<Eigen::MatrixXd> svd(x.transpose() * y);
-  const double s = svd.singularValues().sum();
-  return std::max(0.0, 1.0 - s * s);
+  std::vector<double> x(n * m), y(n * m);
+  for (std::size_t i = 0; i < n * m; ++i) {
+    x[i] = static_cast<double>(a[i]);
+    y[i] = static_cast<double>(b[i]);
+  }
+  return procrustes_disparity_rows(x, y, n, m);
 }
 
 // Largest relative difference between the pairwise distances of two n x m configurations.

@@ -1,6 +1,7 @@
 // The "equal up to rotation, reflection and scale" helper of tests/test_util.hpp, checked
 // against the properties of the Procrustes disparity (Gower 1975; scipy.spatial.procrustes
 // documents the same definition).
+#include <Eigen/Dense>
 #include <catch2/catch.hpp>
 #include <cmath>
 
