@@ -21,7 +21,6 @@
 #include <memory>
 #include <mutex>
 #include <nlohmann/json.hpp>
-#include <system_error>
 #include <thread>
 
 #include "apps/log_text.hpp"
@@ -103,11 +102,14 @@ class RunLog final : public ProgressSink {
     if (quiet) return;
     clear_live_line();
     errno = 0;
-    out_->info("{}", line);
-    if (std::ferror(stdout)) {
-      const int err = errno ? errno : EIO;
-      throw std::system_error(err, std::generic_category(), "standard output");
-    }
+    out_->info("{}", line);  // flushed: in order with stderr when both go to one file
+    // The run goes on (its outputs are still written); main() ends it with exit 74.
+    if (std::ferror(stdout) && stdout_errno_ == 0) stdout_errno_ = errno ? errno : EIO;
+  }
+
+  int stdout_error() {
+    std::lock_guard hold(mutex_);
+    return stdout_errno_;
   }
 
   void remark(const std::string& line, bool quiet) {
@@ -302,6 +304,7 @@ class RunLog final : public ProgressSink {
   bool configured_ = false;  // start() ran (a message before it opens the sinks with defaults)
   bool started_ = false, finished_ = false, stopping_ = false;
   bool live_ = false, live_shown_ = false;
+  int stdout_errno_ = 0;  // errno of the first failed write to stdout
   double interval_ = 30.0;
   std::shared_ptr<spdlog::logger> out_, err_, lines_, live_line_, json_;
   bool open_ = false;
@@ -329,6 +332,9 @@ void log_remark(const std::string& line, bool quiet) {
 }
 void log_error(const std::string& line, int exit_code) {
   run_log().error(line, exit_code);
+}
+int stdout_error() {
+  return run_log().stdout_error();
 }
 void finish_log(int exit_code) {
   run_log().finish(exit_code);

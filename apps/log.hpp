@@ -30,9 +30,10 @@ struct LogSettings {
 // file cannot be opened for appending.
 void start_log(const LogSettings& settings);
 
-// A result line on stdout (unless `quiet`) and a "note" event. Throws std::system_error when
-// stdout cannot be written, as fmt::print does (main() maps it to exit 74).
+// A result line on stdout (unless `quiet`) and a "note" event. A failed write does not stop
+// the run: stdout_error() keeps its errno for main(), which ends the run with exit 74.
 void log_note(const std::string& line, bool quiet);
+int stdout_error();  // 0: every write to stdout went through
 // "unfurl: note: LINE" on stderr (unless `quiet`) and a "remark" event.
 void log_remark(const std::string& line, bool quiet);
 // "unfurl: LINE" on stderr, always, and an "error" event.

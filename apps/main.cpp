@@ -72,7 +72,10 @@ void hold_standard_descriptors() {
 // Flushes stdout; exit 74 when it fails, else `code`.
 int finish(int code) {
   errno = 0;
-  if (std::fflush(stdout) != 0 || std::ferror(stdout)) return stdout_failed(errno ? errno : EIO);
+  if (std::fflush(stdout) != 0 || std::ferror(stdout)) {
+    const int first = unfurl::app::stdout_error();  // the notes flush line by line
+    return stdout_failed(first ? first : errno ? errno : EIO);
+  }
   unfurl::app::finish_log(code);
   return code;
 }

@@ -70,10 +70,11 @@ def run_on_terminal(args, env):
     return proc.wait(timeout=60), shown
 
 
-n = 20000
+n = 8000
 np.save(path("roll.npy"), swiss_roll(n, 5))
 roll = path("roll.npy")
-base = ["embed", roll, "--k", "10", "--landmarks", "64", "--dims", "2"]
+base = ["embed", roll, "--k", "10", "--landmarks", "64", "--dims", "2", "--score-method",
+        "sampled", "--sample", "500"]
 
 # 1. Progress to a pipe: one plain timestamped line per step, periodic lines during long
 # steps (the interval shortened to 0.05 s for the test), no control character but newline.
