@@ -26,8 +26,12 @@ TEST_CASE("log text: progress lines hold the count, rate and time left", "[log]"
   CHECK(progress_text("spectral", 0, 0, 2.0) == "spectral: 2.00 s so far");
   CHECK(live_text("landmark rows", 64, 256, 4.0) ==
         "landmark rows   25%  64/256 rows  16.0/s  4.00 s, about 12.0 s left");
-  StepRecord done{
-      .step = "scores", .seconds = 1.5, .done = 2000, .total = 2000, .peak_memory_bytes = 3 << 20};
+  StepRecord done{.step = "scores",
+                  .started = "",
+                  .seconds = 1.5,
+                  .done = 2000,
+                  .total = 2000,
+                  .peak_memory_bytes = 3 << 20};
   CHECK(finished_text(done) == "scores: done in 1.50 s (2000 of 2000 points), peak memory 3.0 MiB");
   done.ok = false;
   CHECK(finished_text(done).rfind("scores: stopped after 1.50 s", 0) == 0);
