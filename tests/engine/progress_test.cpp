@@ -60,7 +60,7 @@ TEST_CASE("progress: units added from every thread sum exactly", "[progress]") {
   CHECK(sink.steps[0].ok);
 }
 
-TEST_CASE("progress: steps do not nest; an exception ends a step as failed", "[progress]") {
+TEST_CASE("progress: steps do not nest, and an exception ends a step as failed", "[progress]") {
   RecordingSink sink;
   const StopToken token{nullptr, &sink};
   {
