@@ -8,6 +8,7 @@
 
 #include <fmt/core.h>
 
+#include "apps/log.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl::app {
@@ -39,8 +40,9 @@ io::PointReadOptions to_read_options(const PointInputArgs& a) {
 
 void old_spelling_notice(const std::string& command, const std::string& old_name,
                          const std::string& current) {
-  fmt::print(stderr, "unfurl: note: {} {} is now {}; the old spelling goes in the next release\n",
-             command, old_name, current);
+  log_remark(fmt::format("{} {} is now {}; the old spelling goes in the next release", command,
+                         old_name, current),
+             false);
 }
 
 void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {

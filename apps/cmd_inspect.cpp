@@ -12,6 +12,7 @@
 #include "apps/command.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
+#include "apps/run_record.hpp"
 #include "io/atomic_output.hpp"
 #include "io/file_description.hpp"
 #include "io/map_file.hpp"
@@ -143,6 +144,10 @@ void print_map_record(const GlobalOptions& g, const io::MapContents& m) {
        {"command", "program_version", "creation_time", "seed", "seconds", "input", "parameters"})
     if (m.attributes.contains(key))
       say(g, fmt::format("  {}: {}", key, record_text(m.attributes[key])));
+  if (m.attributes.contains("run") && m.attributes["run"].is_object()) {
+    say(g, "  run record:");
+    for (const std::string& line : run_record_lines(m.attributes["run"])) say(g, "    " + line);
+  }
 }
 
 // Options that choose the points a command would read, which a map's record does not use.

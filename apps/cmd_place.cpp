@@ -13,6 +13,7 @@
 #include "apps/command.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
+#include "apps/run_record.hpp"
 #include "engine/error.hpp"
 #include "engine/placement.hpp"
 #include "io/atomic_output.hpp"
@@ -167,6 +168,7 @@ Placed place_in_blocks(const PlaceCommandArgs& a, const PointSet& reference,
   const std::size_t file_rows = io::read_points(a.points.file, probe).file_rows;
   const std::size_t end = std::min(asked.end.value_or(file_rows), file_rows);
   std::vector<FarPoint> worst;
+  const ProgressStep step = stop_token().step("placement", end - std::min(end, asked.begin));
   for (std::size_t b = asked.begin; b < end; b += o.block_rows) {
     ro.rows = io::RowRange{b, std::min(end, b + o.block_rows)};
     io::PointReadResult in = io::read_points(a.points.file, ro);
@@ -266,7 +268,8 @@ void run_place(const GlobalOptions& g, const PlaceCommandArgs& a) {
   print_summary(g, placed.summary);
 
   const PlaceSummary summary = placed.summary;
-  const io::MapContents out = placed_map(a, m, placed, o);
+  io::MapContents out = placed_map(a, m, placed, o);
+  out.attributes["run"] = run_record();
   io::write_map(outputs, map_out, out);
   if (csv_out) io::write_coordinates_csv(outputs, *csv_out, out.coords, out.rows);
   if (json_out) {
@@ -276,6 +279,7 @@ void run_place(const GlobalOptions& g, const PlaceCommandArgs& a) {
                     {{"map", out.attributes["map"]},
                      {"input", out.attributes["input"]},
                      {"parameters", out.attributes["parameters"]},
+                     {"run", out.attributes["run"]},
                      {"placement",
                       {{"points", summary.points},
                        {"reference", summary.reference},

@@ -32,8 +32,7 @@ struct ScoreCommandArgs {
 // so that a refusal stays the one line on stderr.
 using Notes = std::vector<std::string>;
 void print_notes(const GlobalOptions& g, const Notes& notes) {
-  if (!g.quiet)
-    for (const auto& line : notes) fmt::print(stderr, "unfurl: note: {}\n", line);
+  for (const auto& line : notes) log_remark(line, g.quiet);
 }
 
 // Refuses (DataError) to score a map against points other than those it was made from,

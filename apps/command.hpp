@@ -9,6 +9,7 @@
 
 #include <CLI/CLI.hpp>
 
+#include "apps/log.hpp"
 #include "engine/stop.hpp"
 
 namespace unfurl::app {
@@ -18,17 +19,18 @@ struct GlobalOptions {
   int threads = 0;         // 0: all cores OpenMP offers
   std::uint64_t seed = 1;  // every random choice derives from this
   bool quiet = false;      // print nothing but errors
+  std::string log_json;    // --log-json: append the run's events as JSON lines (apps/log.hpp)
 };
 
 // Set by the SIGINT/SIGTERM/SIGUSR1/SIGHUP handlers installed in main().
 extern std::atomic<bool> g_stop_requested;
 inline StopToken stop_token() {
-  return StopToken{&g_stop_requested};
+  return StopToken{&g_stop_requested, progress_sink()};
 }
 
-// Prints a line on stdout unless --quiet.
+// Prints a line on stdout unless --quiet (through the log: apps/log.hpp).
 void say(const GlobalOptions& g, const std::string& line);
-// Every command calls this first: applies --threads to OpenMP.
+// Every command calls this first: applies --threads to OpenMP, opens the log.
 void apply_globals(const GlobalOptions& g);
 
 void add_demo_command(CLI::App& app, GlobalOptions& g);

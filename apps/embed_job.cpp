@@ -5,6 +5,7 @@
 #include "apps/option_scope.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
+#include "apps/run_record.hpp"
 #include "engine/error.hpp"
 #include "engine/linear.hpp"
 #include "engine/placement.hpp"
@@ -262,7 +263,9 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
                     {"input", in.identity},
                     {"parameters", report["parameters"]},
                     {"seed", g.seed},
-                    {"seconds", report["embedding"]["seconds"]}};
+                    {"seconds", report["embedding"]["seconds"]},
+                    {"run", run_record()}};
+  report["run"] = map.attributes["run"];
 
   io::write_map(outputs, where.map, map);
   if (where.csv) io::write_coordinates_csv(outputs, *where.csv, map.coords, map.rows);

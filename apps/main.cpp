@@ -17,6 +17,7 @@
 #include "apps/command.hpp"
 #include "apps/exit_codes.hpp"
 #include "apps/option_flags.hpp"
+#include "apps/run_record.hpp"
 #include "apps/usage_errors.hpp"
 
 namespace unfurl::app {
@@ -24,11 +25,12 @@ namespace unfurl::app {
 std::atomic<bool> g_stop_requested{false};
 
 void say(const GlobalOptions& g, const std::string& line) {
-  if (!g.quiet) fmt::print("{}\n", line);
+  log_note(line, g.quiet);
 }
 
 void apply_globals(const GlobalOptions& g) {
   if (g.threads > 0) omp_set_num_threads(g.threads);
+  start_log({.quiet = g.quiet, .json_file = g.log_json});
 }
 
 }  // namespace unfurl::app
@@ -41,7 +43,8 @@ extern "C" void request_stop(int) {
 
 int fail(unfurl::app::ExitCode code, const char* message) {
   std::fflush(stdout);
-  fmt::print(stderr, "unfurl: {}\n", message);
+  unfurl::app::log_error(message, static_cast<int>(code));
+  unfurl::app::finish_log(static_cast<int>(code));
   return static_cast<int>(code);
 }
 
@@ -69,7 +72,11 @@ void hold_standard_descriptors() {
 // Flushes stdout; exit 74 when it fails, else `code`.
 int finish(int code) {
   errno = 0;
-  if (std::fflush(stdout) != 0 || std::ferror(stdout)) return stdout_failed(errno ? errno : EIO);
+  if (std::fflush(stdout) != 0 || std::ferror(stdout)) {
+    const int first = unfurl::app::stdout_error();  // the notes flush line by line
+    return stdout_failed(first ? first : errno ? errno : EIO);
+  }
+  unfurl::app::finish_log(code);
   return code;
 }
 
@@ -83,6 +90,7 @@ int main(int argc, char** argv) {
   // at all.
   for (int s : {SIGINT, SIGTERM, SIGUSR1, SIGHUP}) std::signal(s, request_stop);
   hold_standard_descriptors();
+  app::remember_arguments(argc, argv);
   CLI::App cli{
       "unfurl: unfold high-dimensional points into a few coordinates that follow "
       "geodesic distances over a neighbour graph."};
@@ -98,7 +106,10 @@ int main(int argc, char** argv) {
                  "Seed for every random choice, 0 to 2^63 - 1 (stored in the map as an integer)")
       ->transform(app::whole_number(0, app::max_seed))
       ->capture_default_str();
-  cli.add_flag("--quiet", g.quiet, "Print nothing but errors");
+  cli.add_flag("--quiet", g.quiet, "Print nothing but errors (no progress, no notes)");
+  cli.add_option("--log-json", g.log_json,
+                 "Append the run's events (steps, progress, notes, errors) to this file, one "
+                 "JSON object per line");
 
   app::install_usage_messages(cli);
   app::add_demo_command(cli, g);

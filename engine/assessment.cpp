@@ -25,6 +25,7 @@ Assessment assess_map(const PointSet& input, const PointSet& map, const Distance
     throw DataError("the map has " + std::to_string(map.rows) + " rows but the points have " +
                     std::to_string(input.rows));
   options.validate(input.rows);
+  const ProgressStep step = stop.step("scores", 0);  // the scored points, once they are drawn
   Assessment a;
   a.neighbourhoods = neighbourhood_scores(input, map, options.neighbourhoods, stop);
   for (const auto& w : a.neighbourhoods.warnings) a.warnings.push_back("neighbourhoods: " + w);

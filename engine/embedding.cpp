@@ -39,7 +39,10 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
                         const EmbedOptions& options, StopToken stop, EmbedResult result,
                         const Stopwatch& total) {
   Stopwatch watch;
-  ComponentResult connected = make_connected(graph, options.components, node_points, stop);
+  ComponentResult connected = [&] {
+    const ProgressStep step = stop.step("components", 0);
+    return make_connected(graph, options.components, node_points, stop);
+  }();
   result.seconds.components = watch.seconds();
   result.components = connected.summary;
   append_warnings(result.warnings, "components", connected.summary.warnings);
@@ -47,7 +50,10 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
     result.bridges.push_back({point_of_node[e.from], point_of_node[e.to], e.length});
 
   watch = Stopwatch();
-  OrderedGraph ordered = order_nodes(connected, node_points, {options.order});
+  OrderedGraph ordered = [&] {
+    const ProgressStep step = stop.step("node order", 0);
+    return order_nodes(connected, node_points, {options.order});
+  }();
   connected.graph = NeighbourGraph{};
   result.order = ordered.order;
   result.seconds.order = watch.seconds();
@@ -70,9 +76,11 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
     sources.rows = spaced_rows(sources.rows, kExactScoringRows);
   result.seconds.spectral = watch.seconds();
   watch = Stopwatch();
-  if (options.residual)  // map.coords row v is node v of the ordered graph
+  if (options.residual) {  // map.coords row v is node v of the ordered graph
+    const ProgressStep step = stop.step("residual variance", 0);
     result.residual = graph_residual_variance(ordered.graph, map.coords, *options.residual,
                                               order.new_of_old.values(), stop);
+  }
   result.seconds.residual = watch.seconds();
   result.spectral = map.summary;
   append_warnings(result.warnings, "spectral", map.summary.warnings);

@@ -40,6 +40,7 @@ SourceRows source_rows(const NeighbourGraph& ordered, std::span<const NodeId> dr
                        const SourceRowsOptions& options, StopToken stop) {
   SourceRows out;
   if (std::holds_alternative<AllLandmarks>(options.landmarks.count)) {
+    const ProgressStep step = stop.step("geodesic rows", ordered.nodes());
     GeodesicResult every = geodesic_rows(ordered, {EveryNode{}}, stop);
     out.rows = std::move(every.rows);
     out.all_nodes = true;
@@ -51,6 +52,8 @@ SourceRows source_rows(const NeighbourGraph& ordered, std::span<const NodeId> dr
   }
   LandmarkOptions lo = options.landmarks;
   lo.draw_order = draw_order;
+  const auto* count = std::get_if<LandmarkCount>(&lo.count);
+  const ProgressStep step = stop.step("landmark rows", count ? count->count : 0);
   LandmarkResult picked = pick_landmarks(ordered, lo, stop);
   out.rows = std::move(picked.rows);
   out.summary = std::move(picked.summary);
@@ -72,6 +75,8 @@ DistanceRows spaced_rows(const DistanceRows& all, std::size_t count) {
 }
 
 SpectralResult map_nodes(const SourceRows& rows, const SpectralOptions& options, StopToken stop) {
+  // Units: points triangulated (landmark MDS); exact mode's solver has no count to give.
+  const ProgressStep step = stop.step("spectral", rows.all_nodes ? 0 : rows.rows.cols);
   return rows.all_nodes ? exact_mds(rows.rows, options, stop)
                         : landmark_mds(rows.rows, options, stop);
 }

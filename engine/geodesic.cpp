@@ -81,6 +81,7 @@ void for_each_run(const NeighbourGraph& graph, std::size_t first, std::size_t la
       errors.run([&] {
         stop.check("geodesic");
         body(work, static_cast<std::size_t>(i));
+        stop.advance(1);
       });
     }
   }

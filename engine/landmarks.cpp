@@ -88,6 +88,7 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
         auto& mine = work[static_cast<std::size_t>(omp_get_thread_num())];
         const std::size_t unreachable = mine.run(pick, rows.row(k));
         if (unreachable > 0) detail::throw_unreachable(unreachable, graph.nodes(), pick);
+        stop.advance(1);
       });
       errors.run([&] {
         summary.choice_visits += detail::lower_bounds_from(graph, pick, nearest, heap);

@@ -26,6 +26,7 @@ LinearResult linear_map(const PointSet& points, const LinearOptions& options, St
   const std::size_t n = points.rows, d = points.cols;
   options.validate(d);
   if (n < 2) throw DataError("linear map: needs at least 2 points, got " + std::to_string(n));
+  const ProgressStep step = stop.step("linear map", 0);
   detail::require_finite(points, "linear map");
   const std::size_t m = options.dims;
   const auto rows = [&](std::size_t b, std::size_t e) { return detail::double_rows(points, b, e); };

@@ -215,6 +215,8 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
   options.validate(points.rows);
   if (points.cols == 0) throw DataError("points: no columns");
   require_finite(points, "points");
+  // Units: query rows searched, one per distinct point (fewer than the rows with copies).
+  const ProgressStep step = stop.step("graph", points.rows);
   GraphResult result;
   GraphSummary& s = result.summary;
   auto dup = detail::find_duplicates(points, stop);

@@ -197,6 +197,7 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   std::vector<std::uint64_t> t_sum(nq * nk), c_sum(nq * nk);
   std::vector<std::uint32_t> shared(nq * nk);
 
+  stop.expect(nq);
   const detail::DistanceScanner scan_in(input), scan_map(map);
   const std::size_t chunk = std::min(scan_in.chunk(), scan_map.chunk());
   const std::size_t block = 8;
@@ -271,6 +272,7 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
             shared[q * nk + kk] = both;
           }
         }
+        stop.advance(count);
       });
     }
   }

@@ -265,6 +265,7 @@ void triangulate(const DistanceRows& rows, const detail::EigenPairs& pairs,
         for (std::size_t a = 0; a < width; ++a)
           for (std::size_t k = 0; k < dims; ++k)
             coords.row(a0 + a)[k] = static_cast<float>(-0.5 * (acc[k * kBlock + a] - p_mean[k]));
+        stop.advance(width);
       });
     }
   }

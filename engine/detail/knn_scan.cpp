@@ -126,6 +126,7 @@ std::vector<std::vector<Neighbour>> threshold_scan(const ScanData& s, const Poin
             if (keep(b + r, nb)) lists[b + r].push_back(nb);
           }
         });
+    stop.advance(e - b);
   });
   return lists;
 }
@@ -195,6 +196,7 @@ void query_candidates(const ScanData& s, const PointSet& queries, std::size_t bl
                             for (std::size_t j = 0; j < cn; ++j)
                               heaps.offer(b + r, {a[j], static_cast<NodeId>(c0 + j)});
                           });
+    stop.advance(e - b);
   });
 }
 
@@ -255,6 +257,7 @@ void symmetric_candidates(const ScanData& s, std::size_t block_rows, CandidateHe
         for (const auto& [c, e] : to_cols) heaps.offer(c0 + c, e);
       }
     }
+    stop.advance(bn);  // the block's rows have met every row
   });
 }
 
@@ -305,8 +308,9 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
   for (std::size_t q = 0; q < queries.rows; ++q)
     if (!certain[q]) uncertain.push_back(q), uncertain_limit.push_back(limit[q]);
   if (uncertain.empty()) return;
-  auto lists = threshold_scan(s, data, queries, uncertain, uncertain_limit, exclude_self,
-                              block_rows, stop, [](std::size_t, const Neighbour&) { return true; });
+  auto lists =
+      threshold_scan(s, data, queries, uncertain, uncertain_limit, exclude_self, block_rows,
+                     stop.silent(), [](std::size_t, const Neighbour&) { return true; });
   for (std::size_t u = 0; u < uncertain.size(); ++u) {
     auto& list = lists[u];
     if (list.size() < k) throw InternalError("knn_scan: threshold rescan lost neighbours");

@@ -204,6 +204,7 @@ void knn_tree_dim(const PointSet& data, const PointSet& queries, std::size_t k, 
       if (list.size() < k) throw InternalError("knn_tree: fewer neighbours than asked");
       std::copy_n(list.begin(), k, out.begin() + static_cast<std::ptrdiff_t>(q * k));
     }
+    stop.advance(e - b);
   });
 }
 
@@ -224,6 +225,7 @@ RadiusLists radius_tree_dim(const PointSet& data, const PointSet& queries, doubl
                 [](const Neighbour& a, const Neighbour& c) { return a.index < c.index; });
       lists[q] = std::move(list);
     }
+    stop.advance(e - b);
   });
   return lists;
 }

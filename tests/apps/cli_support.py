@@ -5,6 +5,7 @@ FIFO in the folder cannot block). Not a test itself (the ctest glob is *_test.py
 
 import hashlib
 import os
+import re
 import stat
 import subprocess
 import sys
@@ -38,6 +39,15 @@ def run(args, timeout=300, **kw):
     r.stdout = r.stdout.decode("utf-8", "replace")
     r.stderr = r.stderr.decode("utf-8", "replace")
     return r
+
+
+# A progress line in a log (README "Long runs: progress and logs"): UTC time, then "step: ".
+PROGRESS_LINE = re.compile(r"^\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\.\d{3}Z [a-z ]+: ")
+
+
+def messages(stderr):
+    """The lines of `stderr` that are messages (errors, notes), not progress lines."""
+    return [line for line in stderr.splitlines() if not PROGRESS_LINE.match(line)]
 
 
 def digest(path):
@@ -80,7 +90,7 @@ def refused(what, args, code, names, folder, timeout=300):
         check(f"{what}: ends", False, f"still running after {timeout} s")
         return None
     after = snapshot(folder)
-    lines = r.stderr.splitlines()
+    lines = messages(r.stderr)
     problems = []
     if r.returncode != code:
         problems.append(f"exit {r.returncode}, expected {code}")

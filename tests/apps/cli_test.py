@@ -26,7 +26,7 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial.distance import cdist
 
-from cli_support import (BIN, check, failures, finish, refused, run, snapshot,  # noqa: F401
+from cli_support import (BIN, check, failures, finish, messages, refused, run, snapshot,  # noqa: F401
                          snapshot_diff, succeeds, swiss_roll)
 
 N = 300
@@ -327,7 +327,7 @@ def main():
     after = snapshot(work)
     err = err.decode("utf-8", "replace")
     check("SIGTERM mid-run: exit 75, one line, outputs untouched",
-          job.returncode == 75 and len(err.splitlines()) == 1 and before == after,
+          job.returncode == 75 and len(messages(err)) == 1 and before == after,
           f"exit {job.returncode}, stdout {out[-200:]!r}, stderr {err.strip()!r}, "
           + snapshot_diff(before, after))
 

@@ -27,7 +27,7 @@ import time
 import h5py
 import numpy as np
 
-from cli_support import (BIN, check, digest, finish, refused, run, snapshot, snapshot_diff,
+from cli_support import (BIN, check, digest, finish, messages, refused, run, snapshot, snapshot_diff,
                          swiss_roll)
 
 N = 300
@@ -237,7 +237,7 @@ def signals(work, d):
         if job.returncode == 0:
             ok = len(changed) == len(outs)
         elif job.returncode == 75:
-            ok = not changed and len(err.splitlines()) == 1
+            ok = not changed and len(messages(err)) == 1
         else:
             ok = False
         ok = ok and not temporaries(work)
@@ -266,7 +266,7 @@ def signals(work, d):
         err = err.decode("utf-8", "replace")
         after = snapshot(work)
         check(f"{signal.Signals(sig).name} mid-run: exit 75, one line, nothing changed, no "
-              "temporaries", job.returncode == 75 and len(err.splitlines()) == 1
+              "temporaries", job.returncode == 75 and len(messages(err)) == 1
               and before == after, f"exit {job.returncode}, stderr {err.strip()!r}, "
               + snapshot_diff(before, after))
     os.remove(big)
@@ -323,7 +323,7 @@ def full_disk(work, d):
             left = sorted(os.listdir(mnt))
             check(f"disk full during {option}: exit 74, one line naming {name} and the cause, "
                   "old map byte-identical, nothing else left",
-                  r.returncode == 74 and len(r.stderr.splitlines()) == 1 and option in r.stderr
+                  r.returncode == 74 and len(messages(r.stderr)) == 1 and option in r.stderr
                   and name in r.stderr and "No space left on device" in r.stderr
                   and ".part-" not in r.stderr and digest(os.path.join(mnt, "m.h5")) == old
                   and left == ["filler", "m.h5"],

@@ -18,7 +18,7 @@ import tempfile
 import h5py
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from cli_support import (check, finish, refused, run, snapshot, snapshot_diff,  # noqa: E402
+from cli_support import (check, finish, messages, refused, run, snapshot, snapshot_diff,  # noqa: E402
                          succeeds, swiss_roll)
 
 N = 200
@@ -39,7 +39,7 @@ def options_of(command):
 
 
 def note_lines(r, words):
-    lines = [line for line in r.stderr.splitlines() if line.strip()]
+    lines = [line for line in messages(r.stderr) if line.strip()]
     return len(lines) == 1 and all(w in lines[0] for w in words)
 
 
