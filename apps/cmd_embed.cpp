@@ -134,6 +134,9 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
     } catch (const InterruptedError&) {
       if (saved) saved->stopped();
       throw;
+    } catch (...) {
+      if (saved) saved->failed();
+      throw;
     }
     if (folder) folder->keep();
     if (saved) saved->finish();

@@ -122,6 +122,10 @@ void WorkRun::finish() {
   folder_.remove();
 }
 
+void WorkRun::failed() {
+  if (!folder_.existed()) folder_.remove();
+}
+
 void WorkRun::stopped() const {
   std::fflush(stdout);
   fmt::print(

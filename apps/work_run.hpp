@@ -39,6 +39,9 @@ class WorkRun {
   const std::filesystem::path& path() const { return folder_.path(); }
   // After the outputs are committed: removes the folder unless --keep-work-dir.
   void finish();
+  // After a failure other than a stop: removes the folder if this run created it (the same
+  // command would fail the same way; an earlier run's pieces are kept).
+  void failed();
   // On a stop request: prints on stderr what is saved and the exact command that resumes.
   void stopped() const;
   // The pieces this run took from the folder instead of computing them (the run record's

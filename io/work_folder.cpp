@@ -154,11 +154,10 @@ std::string content_fingerprint(const fs::path& file, bool full) {
 WorkFolder::WorkFolder(fs::path folder, WorkKeys keys, PieceNotice notice, StopToken stop)
     : folder_(std::move(folder)), keys_(std::move(keys)), notice_(std::move(notice)), stop_(stop) {
   std::error_code ec;
-  fs::create_directories(folder_, ec);
-  if (ec || !fs::is_directory(folder_))
-    throw OutputError(folder_.string() + ": cannot use as work folder" +
-                      (ec ? ": " + ec.message() : std::string(": not a folder")));
-  detail::remove_stale_temporaries(folder_);
+  existed_ = fs::exists(folder_, ec);
+  if (existed_ && !fs::is_directory(folder_, ec))
+    throw OutputError(folder_.string() + ": cannot use as work folder: not a folder");
+  if (existed_) detail::remove_stale_temporaries(folder_);
 }
 
 void WorkFolder::damaged(const std::string& step, const fs::path& file, const std::string& why) {
@@ -198,6 +197,9 @@ fs::path WorkFolder::find(const std::string& step, const std::string& key) {
 
 void WorkFolder::save(const std::string& step, const std::string& key,
                       const std::function<void(H5Writer&)>& fill) {
+  if (unsaved_) return;
+  std::error_code made;
+  fs::create_directories(folder_, made);  // created with the first piece, not before
   const fs::path temp = detail::temp_name_for(folder_ / (step + ".h5"));
   try {
     {
@@ -215,10 +217,17 @@ void WorkFolder::save(const std::string& step, const std::string& key,
           s == step)
         fs::remove(entry.path(), ec);
     }
-  } catch (...) {
+  } catch (const InterruptedError&) {
     std::error_code ec;
     fs::remove(temp, ec);
     throw;
+  } catch (const std::exception& e) {
+    // The folder is a convenience: a full disk or a lost folder costs the resume, not the run.
+    std::error_code ec;
+    fs::remove(temp, ec);
+    unsaved_ = true;
+    if (notice_) notice_(PieceEvent::unsaved, step, e.what());
+    return;
   }
   ++saved_;
   if (notice_) notice_(PieceEvent::saved, step, "");
@@ -325,6 +334,7 @@ void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::siz
 void WorkFolder::remove() {
   std::error_code ec;
   std::vector<fs::path> pieces;
+  if (!fs::is_directory(folder_, ec)) return;
   for (const auto& entry : fs::directory_iterator(folder_, ec)) {
     std::string s, sum;
     if (split_name(entry.path().filename().string(), s, sum)) pieces.push_back(entry.path());

@@ -39,15 +39,16 @@ struct WorkKeys {
 };
 
 // What became of a piece, for the messages apps/ prints: taken from the folder; saved; passed
-// over because it belongs to other parameters; or damaged (checksum or contents) and removed.
-enum class PieceEvent { loaded, saved, stale, damaged };
+// over because it belongs to other parameters; damaged (checksum or contents) and removed; or
+// not saved (the write failed: no further piece is saved this run, the run goes on).
+enum class PieceEvent { loaded, saved, stale, damaged, unsaved };
 using PieceNotice =
     std::function<void(PieceEvent event, const std::string& piece, const std::string& detail)>;
 
 class WorkFolder final : public StepStore {
  public:
-  // Creates the folder when missing (OutputError naming it when it cannot be created or is
-  // not a folder) and removes temporary files that ended processes left in it.
+  // Opens the folder; it is created with the first piece saved. OutputError when the path is
+  // something other than a folder; removes temporary files that ended processes left in it.
   WorkFolder(std::filesystem::path folder, WorkKeys keys, PieceNotice notice = {},
              StopToken stop = {});
 
@@ -63,6 +64,7 @@ class WorkFolder final : public StepStore {
   const std::filesystem::path& path() const { return folder_; }
   std::size_t pieces_loaded() const { return loaded_; }
   std::size_t pieces_saved() const { return saved_; }
+  bool existed() const { return existed_; }  // the folder was there before this run
   // Removes every piece and then the folder itself when nothing else is left in it.
   void remove();
 
@@ -84,6 +86,8 @@ class WorkFolder final : public StepStore {
   PieceNotice notice_;
   StopToken stop_;
   std::size_t loaded_ = 0, saved_ = 0;
+  bool existed_ = false;
+  bool unsaved_ = false;  // a save failed: save no more
 };
 
 // A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a
