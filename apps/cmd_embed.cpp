@@ -10,6 +10,7 @@
 #include "apps/embed_job.hpp"
 #include "apps/option_scope.hpp"
 #include "apps/run_info.hpp"
+#include "apps/work_run.hpp"
 #include "engine/graph_build.hpp"
 #include "io/graph_file.hpp"
 #include "io/graph_input.hpp"
@@ -103,7 +104,9 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
                   "Also write the run's figures (PNG) and report.html into this folder "
                   "(created when missing)");
   add_embed_job_options(cmd, *args);
-  cmd->callback([&g, args, cmd, plots_folder] {
+  auto work = std::make_shared<WorkArgs>();
+  add_work_options(cmd, *work);
+  cmd->callback([&g, args, cmd, plots_folder, work] {
     apply_globals(g);
     RunShape shape = embed_run_shape(*args);
     if (args->input_kind != "points" && !args->input.dataset.empty())
@@ -120,8 +123,23 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
     }
     JobInput in =
         args->input_kind == "points" ? read_points_input(g, *args) : read_graph_input(g, *args);
-    run_embed_job(g, *args, std::move(in), outputs, where);
+    // The work folder: steps saved as they complete, taken back by a rerun (--linear has none).
+    std::optional<WorkRun> saved;
+    if (!work->off && !args->linear) {
+      saved.emplace(g, *work, *args, in.identity);
+      in.saved_steps = &saved->store();
+    }
+    try {
+      run_embed_job(g, *args, std::move(in), outputs, where);
+    } catch (const InterruptedError&) {
+      if (saved) saved->stopped();
+      throw;
+    } catch (...) {
+      if (saved) saved->failed();
+      throw;
+    }
     if (folder) folder->keep();
+    if (saved) saved->finish();
   });
 }
 

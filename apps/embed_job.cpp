@@ -45,8 +45,7 @@ PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
   return o;
 }
 
-nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const EmbedOptions& o,
-                               const EmbedResult& r) {
+nlohmann::json parameters_json(const EmbedArgs& a, const EmbedOptions& o, const EmbedResult& r) {
   nlohmann::json p = {{"input_kind", a.input_kind},
                       {"mutual", o.graph.mutual},
                       {"search", a.graph.search},
@@ -65,8 +64,9 @@ nlohmann::json parameters_json(const GlobalOptions& g, const EmbedArgs& a, const
                       {"drop_nonfinite", a.input.drop_nonfinite},
                       {"rows", a.input.rows},
                       {"score", !a.no_score},
-                      {"score_k", a.score.ks},
-                      {"threads", g.threads}};
+                      {"score_k", a.score.ks}};
+  // --threads is not a parameter of the map: results do not depend on it, and a map made
+  // with 1 thread or 2 (or resumed with another count) must be the same bytes.
   p.update(neighbourhood_json(o.graph.neighbourhood));
   return p;
 }
@@ -209,9 +209,10 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   if (options.exact() && !a.linear) check_exact_memory(a, options, n);
   // Refuse bad score options now, not after the embedding has run.
   if (!a.no_score && !given_graph) assess.validate(n);
-  EmbedResult result = a.linear      ? linear_result(in.points, a.map.dims)
-                       : given_graph ? embed_graph(*in.graph, options, stop_token())
-                                     : embed_points(in.points, options, stop_token());
+  EmbedResult result = a.linear ? linear_result(in.points, a.map.dims)
+                       : given_graph
+                           ? embed_graph(*in.graph, options, stop_token(), in.saved_steps)
+                           : embed_points(in.points, options, stop_token(), in.saved_steps);
   if (!a.linear) print_embedding(g, result);
 
   nlohmann::json report = {{"input", in.identity}, {"embedding", embed_json(result)}};
@@ -257,7 +258,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
         .placed = std::nullopt};
     map.landmark_geodesic = std::move(result.geodesic);
   }
-  report["parameters"] = without_unused(embed_run_shape(a), parameters_json(g, a, options, result));
+  report["parameters"] = without_unused(embed_run_shape(a), parameters_json(a, options, result));
   report["seed"] = g.seed;
   map.attributes = {{"command", "embed"},
                     {"input", in.identity},

@@ -43,6 +43,7 @@ struct JobInput {
   std::vector<std::int64_t> dropped_rows;  // rows dropped before the job (non-finite)
   std::vector<double> centres;             // column centres the reader subtracted (or empty)
   nlohmann::json identity;                 // the input's identity for the map's attributes
+  StepStore* saved_steps = nullptr;        // embed's work folder (apps/work_run.hpp), or none
 };
 
 // Adds every option of the embed job except the input (and the output path) to `cmd`.

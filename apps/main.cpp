@@ -19,6 +19,7 @@
 #include "apps/option_flags.hpp"
 #include "apps/run_record.hpp"
 #include "apps/usage_errors.hpp"
+#include "apps/work_run.hpp"
 
 namespace unfurl::app {
 
@@ -37,7 +38,15 @@ void apply_globals(const GlobalOptions& g) {
 
 namespace {
 
-extern "C" void request_stop(int) {
+// The first request stops at the next safe point (exit 75, saved steps kept); a second
+// SIGINT (Ctrl-C again) ends the process at once: a piece being written is then left under
+// its temporary name and removed by the next run, never half-written under its own.
+extern "C" void request_stop(int signal) {
+  if (signal == SIGINT && unfurl::app::g_stop_requested.load()) {
+    static const char line[] = "unfurl: interrupted again: stopped at once\n";
+    [[maybe_unused]] const auto written = ::write(2, line, sizeof line - 1);
+    ::_exit(128 + SIGINT);
+  }
   unfurl::app::g_stop_requested.store(true);
 }
 
@@ -89,6 +98,7 @@ int main(int argc, char** argv) {
   // terminal) ends the run with exit 75 at the next check; outputs are committed whole or not
   // at all.
   for (int s : {SIGINT, SIGTERM, SIGUSR1, SIGHUP}) std::signal(s, request_stop);
+  app::remember_command_line(argc, argv);
   hold_standard_descriptors();
   app::remember_arguments(argc, argv);
   CLI::App cli{

@@ -1,7 +1,10 @@
 #include "engine/embedding.hpp"
 
+#include <algorithm>
+
 #include "engine/embedding_steps.hpp"
 #include "engine/error.hpp"
+#include "engine/step_store.hpp"
 #include "engine/timer.hpp"
 
 namespace unfurl {
@@ -10,6 +13,10 @@ namespace {
 // In exact mode the residual variance needs geodesic rows too, but not all N of them:
 // this many evenly spaced rows give its pairs (a documented, deterministic subset).
 constexpr std::size_t kExactScoringRows = 256;
+
+// With a step store the landmark rows are computed and saved in this many batches: a stop
+// loses at most one batch, and each batch is one file of L / 16 rows.
+constexpr std::size_t kRowBatches = 16;
 
 void append_warnings(std::vector<std::string>& to, const char* stage,
                      const std::vector<std::string>& from) {
@@ -31,13 +38,46 @@ std::size_t landmark_count(const EmbedOptions& options, std::size_t nodes) {
   return l;
 }
 
+// source_rows for a run with a step store: the choice first, then the rows batch by batch,
+// each taken from the store when it holds it, else computed and saved. The same bytes as
+// source_rows: the choice is the same sequence and every row the same Dijkstra run.
+SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const NodeId> draw_order,
+                              const SourceRowsOptions& options, StepStore& store, StopToken stop) {
+  const Stopwatch watch;
+  LandmarkOptions lo = options.landmarks;
+  lo.draw_order = draw_order;
+  std::optional<LandmarkResult> picked = store.load_landmarks();
+  const std::size_t count = lo.resolved_count(ordered.nodes());
+  if (picked && (picked->rows.rows != count || picked->rows.cols != ordered.nodes() ||
+                 picked->rows.sources.size() != count))
+    throw InternalError("saved landmark choice does not fit the graph");
+  if (!picked) {
+    picked = choose_landmarks(ordered, lo, stop);
+    store.save_landmarks(*picked);
+  }
+  SourceRows out;
+  out.rows = std::move(picked->rows);
+  out.summary = std::move(picked->summary);
+  DistanceRows& rows = out.rows;
+  rows.values.resize(rows.rows * rows.cols);
+  const std::size_t per_batch = (rows.rows + kRowBatches - 1) / kRowBatches;
+  for (std::size_t b = 0, first = 0; first < rows.rows; ++b, first += per_batch) {
+    const std::size_t n = std::min(per_batch, rows.rows - first);
+    if (store.load_rows(b, rows, first, n)) continue;
+    fill_landmark_rows(ordered, rows, first, n, stop);
+    store.save_rows(b, rows, first, n);
+  }
+  out.summary.seconds = watch.seconds();
+  return out;
+}
+
 // The steps after the graph (engine/embedding_steps.hpp). node_of_point: input row -> graph
 // node; point_of_node: graph node -> representative row; node_points: row v the point of
 // node v, or empty for a given graph.
 EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_point,
                         const Numbering& point_of_node, const PointSet& node_points,
-                        const EmbedOptions& options, StopToken stop, EmbedResult result,
-                        const Stopwatch& total) {
+                        const EmbedOptions& options, StopToken stop, StepStore* store,
+                        EmbedResult result, const Stopwatch& total) {
   Stopwatch watch;
   ComponentResult connected = [&] {
     const ProgressStep step = stop.step("components", 0);
@@ -63,7 +103,10 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   SourceRowsOptions so{options.landmarks};
   if (!options.exact())
     so.landmarks.count = LandmarkCount{landmark_count(options, ordered.graph.nodes())};
-  SourceRows sources = source_rows(ordered.graph, order.new_of_old.values(), so, stop);
+  SourceRows sources =
+      store && !options.exact()
+          ? stored_source_rows(ordered.graph, order.new_of_old.values(), so, *store, stop)
+          : source_rows(ordered.graph, order.new_of_old.values(), so, stop);
   result.seconds.geodesics = watch.seconds();
   result.landmarks = sources.summary;
   append_warnings(result.warnings, "landmarks", sources.summary.warnings);
@@ -119,28 +162,40 @@ void EmbedOptions::validate(std::size_t points) const {
   landmarks.validate(points);
 }
 
-EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop) {
+EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop,
+                         StepStore* store) {
   const Stopwatch total;
   options.validate(points.rows);
   EmbedResult result;
   Stopwatch watch;
-  NodeGraph nodes = node_graph(points, options.graph, stop);
+  std::optional<NodeGraph> saved = store ? store->load_graph() : std::nullopt;
+  if (saved && saved->node_of_point.size() != points.rows)
+    throw InternalError("saved graph does not fit the points");
+  NodeGraph nodes;
+  if (saved) {
+    nodes = std::move(*saved);
+    nodes.node_points = gather_rows(points, nodes.point_of_node);
+  } else {
+    nodes = node_graph(points, options.graph, stop);
+    if (store) store->save_graph(nodes);
+  }
   result.seconds.graph = watch.seconds();
   result.graph = nodes.summary;
   result.dimension = std::move(nodes.dimension);
   append_warnings(result.warnings, "graph", nodes.summary.warnings);
   return embed_nodes(nodes.graph, nodes.node_of_point, nodes.point_of_node, nodes.node_points,
-                     options, stop, std::move(result), total);
+                     options, stop, store, std::move(result), total);
 }
 
-EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options, StopToken stop) {
+EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options, StopToken stop,
+                        StepStore* store) {
   const Stopwatch total;
   options.validate(graph.nodes());
   if (options.components.policy == ComponentPolicy::bridge)
     throw OptionError("ComponentOptions.policy",
                       "bridge needs points; a given graph has none (use largest)");
   const Numbering identity = Numbering::identity(graph.nodes());
-  return embed_nodes(graph, identity, identity, {}, options, stop, EmbedResult{}, total);
+  return embed_nodes(graph, identity, identity, {}, options, stop, store, EmbedResult{}, total);
 }
 
 }  // namespace unfurl

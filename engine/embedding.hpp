@@ -27,6 +27,8 @@
 
 namespace unfurl {
 
+class StepStore;  // engine/step_store.hpp
+
 struct EmbedOptions {
   GraphOptions graph;           // neighbour graph (ignored for embed_graph)
   ComponentOptions components;  // what to do with a disconnected graph
@@ -79,11 +81,14 @@ struct EmbedResult {
 };
 
 // From points. The graph options pick the neighbourhood; exact duplicates are merged.
-EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop = {});
+// `store`, when given, keeps each step's result as it completes and gives back those an
+// earlier run kept (engine/step_store.hpp); the result is the same bytes either way.
+EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, StopToken stop = {},
+                         StepStore* store = nullptr);
 
 // From a given graph (edge list or partial distances): nodes are the input rows.
 // The bridge policy needs points and is refused here.
 EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options,
-                        StopToken stop = {});
+                        StopToken stop = {}, StepStore* store = nullptr);
 
 }  // namespace unfurl

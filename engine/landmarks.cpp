@@ -43,15 +43,17 @@ void LandmarkOptions::validate(std::size_t nodes) const {
 namespace {
 
 // Greedy maxmin; see the header for how the choice and the rows share the threads.
+// with_rows false: the choice alone (rows.values stays empty).
 void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
                  std::span<const NodeId> draw_order, DistanceRows& rows, LandmarkSummary& summary,
-                 StopToken stop) {
+                 bool with_rows, StopToken stop) {
   const std::size_t n = graph.nodes();
   std::vector<double> nearest(n, std::numeric_limits<double>::infinity());
   std::vector<char> chosen(n, 0);
   detail::DistanceHeap<double> heap;
-  std::vector<detail::DijkstraWorkspace> work(static_cast<std::size_t>(omp_get_max_threads()),
-                                              detail::DijkstraWorkspace(graph));
+  std::vector<detail::DijkstraWorkspace> work(
+      with_rows ? static_cast<std::size_t>(omp_get_max_threads()) : 0,
+      detail::DijkstraWorkspace(graph));
   Random rng(seed);
   ExceptionCollector errors;
 #pragma omp parallel
@@ -81,15 +83,17 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
       if (errors.failed()) break;
       chosen[pick] = 1;
       rows.sources[k] = pick;
+      if (with_rows) {
 #pragma omp task default(none) firstprivate(k, pick) shared(rows, graph, work, errors, stop)
-      errors.run([&] {
-        if (errors.failed()) return;
-        stop.check("landmarks");
-        auto& mine = work[static_cast<std::size_t>(omp_get_thread_num())];
-        const std::size_t unreachable = mine.run(pick, rows.row(k));
-        if (unreachable > 0) detail::throw_unreachable(unreachable, graph.nodes(), pick);
-        stop.advance(1);
-      });
+        errors.run([&] {
+          if (errors.failed()) return;
+          stop.check("landmarks");
+          auto& mine = work[static_cast<std::size_t>(omp_get_thread_num())];
+          const std::size_t unreachable = mine.run(pick, rows.row(k));
+          if (unreachable > 0) detail::throw_unreachable(unreachable, graph.nodes(), pick);
+          stop.advance(1);
+        });
+      }
       errors.run([&] {
         summary.choice_visits += detail::lower_bounds_from(graph, pick, nearest, heap);
         if (k > 0) return;
@@ -105,7 +109,8 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
 }
 
 void pick_random(const NeighbourGraph& graph, std::uint64_t seed,
-                 std::span<const NodeId> draw_order, DistanceRows& rows, StopToken stop) {
+                 std::span<const NodeId> draw_order, DistanceRows& rows, bool with_rows,
+                 StopToken stop) {
   // Partial Fisher-Yates shuffle: the first L entries are a uniform draw without repeats.
   std::vector<NodeId> ids(graph.nodes());
   if (draw_order.empty())
@@ -118,13 +123,11 @@ void pick_random(const NeighbourGraph& graph, std::uint64_t seed,
     std::swap(ids[k], ids[j]);
     rows.sources[k] = ids[k];
   }
-  detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
+  if (with_rows) detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
 }
 
-}  // namespace
-
-LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
-                              StopToken stop) {
+LandmarkResult landmarks_of(const NeighbourGraph& graph, const LandmarkOptions& options,
+                            bool with_rows, StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
   const std::size_t n = graph.nodes();
   options.validate(n);
@@ -134,18 +137,38 @@ LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions
   rows.rows = options.resolved_count(n);
   rows.cols = n;
   rows.sources.assign(rows.rows, 0);
-  rows.values.resize(rows.rows * rows.cols);
+  if (with_rows) rows.values.resize(rows.rows * rows.cols);
   LandmarkSummary& summary = result.summary;
   summary.landmarks = rows.rows;
   summary.nodes = n;
   summary.pick = options.pick;
   summary.threads = omp_get_max_threads();
   if (options.pick == Pick::maxmin)
-    pick_maxmin(graph, options.seed, options.draw_order, rows, summary, stop);
+    pick_maxmin(graph, options.seed, options.draw_order, rows, summary, with_rows, stop);
   else
-    pick_random(graph, options.seed, options.draw_order, rows, stop);
+    pick_random(graph, options.seed, options.draw_order, rows, with_rows, stop);
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return result;
+}
+
+}  // namespace
+
+LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
+                              StopToken stop) {
+  return landmarks_of(graph, options, true, stop);
+}
+
+LandmarkResult choose_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
+                                StopToken stop) {
+  return landmarks_of(graph, options, false, stop);
+}
+
+void fill_landmark_rows(const NeighbourGraph& graph, DistanceRows& rows, std::size_t first,
+                        std::size_t count, StopToken stop) {
+  if (rows.values.size() != rows.rows * rows.cols || rows.cols != graph.nodes() ||
+      first + count > rows.rows || rows.sources.size() != rows.rows)
+    throw InternalError("fill_landmark_rows: rows and graph disagree in shape");
+  detail::fill_geodesic_rows(graph, rows, first, count, stop);
 }
 
 }  // namespace unfurl

@@ -86,4 +86,15 @@ struct LandmarkResult {
 LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
                               StopToken stop = {});
 
+// The choice alone, for a caller that computes the rows in batches it can save (resume):
+// the sources and summary pick_landmarks gives, in its order, with rows.values left empty.
+// Maxmin then runs its choice on one thread before any row instead of beside them.
+LandmarkResult choose_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
+                                StopToken stop = {});
+
+// Rows [first, first + count) of `rows` (sources set, values sized rows x graph nodes): one
+// Dijkstra run per source, the same bytes pick_landmarks gives for that source.
+void fill_landmark_rows(const NeighbourGraph& graph, DistanceRows& rows, std::size_t first,
+                        std::size_t count, StopToken stop = {});
+
 }  // namespace unfurl

@@ -319,7 +319,9 @@ def main():
     # 1 s, too close to the signal), so a signal after 1 s arrives mid-run.
     write_h5(d("big.h5"), points=swiss_roll(12000, 9))
     before = snapshot(work)
-    job = subprocess.Popen([BIN, "embed", d("big.h5"), "-o", good_map, "--landmarks", "all"],
+    # --no-work-dir: the outputs alone (the work folder a stop keeps: resume_test.py).
+    job = subprocess.Popen([BIN, "embed", d("big.h5"), "-o", good_map, "--landmarks", "all",
+                            "--no-work-dir"],
                            stdout=subprocess.PIPE, stderr=subprocess.PIPE)
     time.sleep(1.0)
     job.send_signal(signal.SIGTERM)

@@ -222,7 +222,8 @@ def signals(work, d):
                 f.write(f"old {path}".encode())
         before = {k: digest(v) for k, v in outs.items()}
         sig = sigs[i % len(sigs)]
-        job = subprocess.Popen([BIN, "embed", roll_h5,
+        # --no-work-dir: the outputs alone (the work folder a stop keeps: resume_test.py).
+        job = subprocess.Popen([BIN, "embed", roll_h5, "--no-work-dir",
                                 *sum(([k, v] for k, v in outs.items()), [])],
                                stdout=subprocess.PIPE, stderr=subprocess.PIPE)
         # Before main() has installed its handlers, a signal kills as it always does; the
@@ -256,7 +257,7 @@ def signals(work, d):
             with open(path, "wb") as f:
                 f.write(b"old")
         before = snapshot(work)
-        job = subprocess.Popen([BIN, "embed", big, "--landmarks", "all",
+        job = subprocess.Popen([BIN, "embed", big, "--landmarks", "all", "--no-work-dir",
                                 *sum(([k, v] for k, v in outs.items()), [])],
                                stdout=subprocess.PIPE, stderr=subprocess.PIPE)
         catching(job.pid, sig)

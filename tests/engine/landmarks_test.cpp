@@ -153,3 +153,42 @@ TEST_CASE("maxmin warns when a landmark coincides with an earlier one", "[landma
   o.count = unfurl::LandmarkCount{2};
   CHECK(unfurl::pick_landmarks(g, o).summary.warnings.empty());
 }
+
+TEST_CASE("the choice alone, then rows in batches, gives pick_landmarks's bytes", "[landmarks]") {
+  // Reference: the definition of greedy maxmin on Floyd-Warshall distances (above) for the
+  // choice, Floyd-Warshall for the rows (the shortest-path definition, Floyd 1962); and the
+  // one-pass picker for the bytes, whatever the thread count.
+  const auto g = unfurl::test::random_connected_graph(300, 700, 6);
+  const auto d = unfurl::test::floyd_warshall(g);
+  for (auto pick : {unfurl::Pick::maxmin, unfurl::Pick::random}) {
+    unfurl::LandmarkOptions o;
+    o.count = unfurl::LandmarkCount{21};
+    o.pick = pick;
+    o.seed = 9;
+    const auto whole = unfurl::pick_landmarks(g, o);
+    const int before = omp_get_max_threads();
+    for (int threads : {1, 2}) {
+      omp_set_num_threads(threads);
+      auto chosen = unfurl::choose_landmarks(g, o);
+      CHECK(chosen.rows.values.empty());
+      CHECK(chosen.rows.sources == whole.rows.sources);
+      CHECK(chosen.summary.coverage_radius == whole.summary.coverage_radius);
+      if (pick == unfurl::Pick::maxmin)
+        CHECK(chosen.rows.sources == maxmin_by_definition(g, 21, 9));
+      chosen.rows.values.resize(chosen.rows.rows * chosen.rows.cols);
+      for (std::size_t first = 0; first < 21; first += 4)  // batches of 4, the last of 1
+        unfurl::fill_landmark_rows(g, chosen.rows, first, std::min<std::size_t>(4, 21 - first));
+      CHECK(chosen.rows.values == whole.rows.values);
+      for (std::size_t k = 0; k < 21; ++k)
+        for (std::size_t j = 0; j < 300; ++j)
+          REQUIRE(chosen.rows.row(k)[j] ==
+                  Approx(d[chosen.rows.sources[k] * 300 + j]).epsilon(1e-6));
+    }
+    omp_set_num_threads(before);
+  }
+  unfurl::DistanceRows unsized;
+  unsized.rows = 2;
+  unsized.cols = 300;
+  unsized.sources = {0, 1};
+  CHECK_THROWS_AS(unfurl::fill_landmark_rows(g, unsized, 0, 2), unfurl::InternalError);
+}

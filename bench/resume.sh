@@ -1,0 +1,46 @@
+#!/usr/bin/env bash
+# Resume figures (issue 12): what the work folder's writes cost, and how long a run resumed
+# late in its landmark rows takes. Swiss roll of N points (default 1,000,000), 256 landmarks,
+# each command a whole process under GNU time; runs alternate so that a changing load on the
+# shared machine falls on both sides alike, and the load average is printed beside each.
+#   overhead: `embed --no-work-dir` against `embed` (saving every piece, folder removed at
+#             the end), ROUNDS pairs; ratio = with / without per pair.
+#   resumed:  a kept work folder cut back to 14 of its 16 row batches (87.5% of the rows, a
+#             little under the issue's 90%), copied fresh before each run (the copy is not
+#             timed); ratio = resumed / the straight run with the work folder of the same
+#             round. With scores and with --no-score (the scores are not saved, so they run
+#             again on resume).
+# Writes Markdown tables to stdout; paste them into bench/RESULTS.md with the date.
+#
+# usage: bench/resume.sh BUILD_DIR WORK_DIR [N] [ROUNDS]
+set -euo pipefail
+build=${1:?build folder}; work=${2:?work folder}; n=${3:-1000000}; rounds=${4:-3}
+unfurl="$build/apps/unfurl"
+mkdir -p "$work"
+source "$(cd "$(dirname "$0")" && pwd)/timed_run.sh"
+
+"$unfurl" --quiet --seed 1 demo --scenario swiss-roll --point-count "$n" --out-dir "$work/points" --data-only
+points="$work/points/swiss-roll.h5"
+load() { cut -d' ' -f1-3 /proc/loadavg; }
+secs() { awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,p,":"); s=0; for(i=1;i<=n;i++) s=s*60+p[i]; print s}' "$work/$1.time"; }
+
+for score in "" "--no-score"; do
+  tag=${score:+-noscore}
+  base=(--quiet embed "$points" --k 10 --landmarks 256 $score)
+  # The 87.5% folder: a complete kept folder without its last two batches.
+  "$unfurl" "${base[@]}" -o "$work/full$tag.h5" --work-dir "$work/template$tag.work" --keep-work-dir
+  rm -f "$work/template$tag.work"/rows-0014.*.h5 "$work/template$tag.work"/rows-0015.*.h5
+  echo
+  echo "scores: ${score:-on}"
+  echo "| round | without folder s | with folder s | ratio | resumed (87.5%) s | ratio to straight | load before |"
+  echo "|---|---|---|---|---|---|---|"
+  for r in $(seq 1 "$rounds"); do
+    l=$(load)
+    run "plain$tag-$r" "$unfurl" "${base[@]}" -o "$work/plain.h5" --no-work-dir > /dev/null
+    run "saved$tag-$r" "$unfurl" "${base[@]}" -o "$work/saved.h5" --work-dir "$work/saved.work" > /dev/null
+    rm -rf "$work/resumed.work"; cp -r "$work/template$tag.work" "$work/resumed.work"
+    run "resumed$tag-$r" "$unfurl" "${base[@]}" -o "$work/resumed.h5" --work-dir "$work/resumed.work" > /dev/null
+    a=$(secs "plain$tag-$r"); b=$(secs "saved$tag-$r"); c=$(secs "resumed$tag-$r")
+    echo "| $r | $a | $b | $(awk -v a="$a" -v b="$b" 'BEGIN{printf "%.3f", b/a}') | $c | $(awk -v b="$b" -v c="$c" 'BEGIN{printf "%.3f", c/b}') | $l |"
+  done
+done

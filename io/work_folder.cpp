@@ -1,0 +1,347 @@
+#include "io/work_folder.hpp"
+
+#include <algorithm>
+#include <bit>
+#include <cstdio>
+#include <cstring>
+#include <fstream>
+#include <system_error>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "engine/error.hpp"
+#include "io/detail/temp_names.hpp"
+#include "io/hdf5_file.hpp"
+
+namespace unfurl {
+
+// Summaries travel as JSON attributes: every field, so that a resumed run's map records what
+// the straight run's does (floats and doubles round-trip exactly through nlohmann's output).
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(GraphSummary, nodes, directed_edges, undirected_edges,
+                                   degree_min, degree_median, degree_max, length_min, length_p05,
+                                   length_median, length_p95, length_max, isolated_nodes,
+                                   duplicate_groups, duplicate_rows, search_used, seconds, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(IntrinsicDimension, estimate, k, averaging, points, points_used,
+                                   points_skipped, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(LandmarkSummary, landmarks, nodes, pick, coverage_radius,
+                                   choice_visits, seconds, threads, warnings)
+
+}  // namespace unfurl
+
+namespace unfurl::io {
+namespace {
+
+namespace fs = std::filesystem;
+using json = nlohmann::json;
+
+constexpr std::uint64_t kGolden = 0x9E3779B97F4A7C15ull;
+constexpr std::uint64_t kOdd = 0xD6E8FEB86659FD93ull;
+
+// Streaming form of checksum64: every update but the last passes a multiple of 32 bytes.
+class Checksum {
+ public:
+  void update(std::span<const std::byte> bytes) {
+    std::size_t i = 0;
+    for (; i + 32 <= bytes.size(); i += 32)
+      for (int lane = 0; lane < 4; ++lane) mix(lane, word(bytes.data() + i + 8 * lane));
+    int lane = 0;
+    for (; i + 8 <= bytes.size(); i += 8) mix(lane++, word(bytes.data() + i));
+    if (i < bytes.size()) {
+      std::uint64_t last = 0;
+      std::memcpy(&last, bytes.data() + i, bytes.size() - i);
+      mix(lane, last ^ 0xFF);
+    }
+    length_ += bytes.size();
+  }
+  std::uint64_t value() const {
+    std::uint64_t h = length_ * kGolden;
+    for (int lane = 0; lane < 4; ++lane) h = std::rotl(h ^ lanes_[lane], 23) * kOdd;
+    // Final mix: splitmix64's finaliser (Steele, Lea and Flood, OOPSLA 2014).
+    h ^= h >> 30;
+    h *= 0xBF58476D1CE4E5B9ull;
+    h ^= h >> 27;
+    h *= 0x94D049BB133111EBull;
+    return h ^ (h >> 31);
+  }
+
+ private:
+  static std::uint64_t word(const std::byte* p) {
+    std::uint64_t w;
+    std::memcpy(&w, p, 8);
+    return w;
+  }
+  void mix(int lane, std::uint64_t w) {
+    lanes_[lane] = std::rotl(lanes_[lane] + w * kOdd, 31) * kGolden;
+  }
+  std::uint64_t lanes_[4] = {1, 2, 3, 4};
+  std::uint64_t length_ = 0;
+};
+
+std::string hex16(std::uint64_t v) {
+  char text[17];
+  std::snprintf(text, sizeof text, "%016llx", static_cast<unsigned long long>(v));
+  return text;
+}
+
+// "STEP.CHECKSUM.h5" -> STEP and CHECKSUM, or false for any other name.
+bool split_name(const std::string& name, std::string& step, std::string& sum) {
+  if (name.size() < 21 || name.compare(name.size() - 3, 3, ".h5") != 0) return false;
+  const std::size_t dot = name.size() - 20;
+  if (name[dot] != '.') return false;
+  sum = name.substr(dot + 1, 16);
+  if (!std::all_of(sum.begin(), sum.end(),
+                   [](char c) { return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'f'); }))
+    return false;
+  step = name.substr(0, dot);
+  return true;
+}
+
+std::string rows_step(std::size_t batch) {
+  char text[32];
+  std::snprintf(text, sizeof text, "rows-%04zu", batch);
+  return text;
+}
+
+}  // namespace
+
+std::uint64_t checksum64(std::span<const std::byte> bytes) {
+  Checksum c;
+  c.update(bytes);
+  return c.value();
+}
+
+std::uint64_t file_checksum(const fs::path& file) {
+  std::ifstream in(file, std::ios::binary);
+  if (!in) throw IoError(file.string() + ": cannot open to check it");
+  std::vector<std::byte> block(std::size_t{1} << 20);  // a multiple of 32 bytes
+  Checksum c;
+  while (in) {
+    in.read(reinterpret_cast<char*>(block.data()), static_cast<std::streamsize>(block.size()));
+    c.update(std::span(block).first(static_cast<std::size_t>(in.gcount())));
+  }
+  if (in.bad()) throw IoError(file.string() + ": read failed while checking it");
+  return c.value();
+}
+
+std::string content_fingerprint(const fs::path& file, bool full) {
+  if (full) return hex16(file_checksum(file));
+  std::error_code ec;
+  const std::uintmax_t bytes = fs::file_size(file, ec);
+  if (ec) throw MissingInputError(file.string() + ": cannot read file size: " + ec.message());
+  std::ifstream in(file, std::ios::binary);
+  if (!in) throw MissingInputError(file.string() + ": cannot open");
+  constexpr std::uintmax_t kBlocks = 64, kBlock = 64 << 10;
+  std::vector<std::byte> block(kBlock);
+  std::vector<std::byte> sums;
+  for (std::uintmax_t b = 0; b < kBlocks; ++b) {
+    const std::uintmax_t start = bytes <= kBlock ? 0 : (bytes - kBlock) * b / (kBlocks - 1);
+    in.seekg(static_cast<std::streamoff>(start));
+    in.read(reinterpret_cast<char*>(block.data()), static_cast<std::streamsize>(kBlock));
+    const std::uint64_t s =
+        checksum64(std::span(block).first(static_cast<std::size_t>(in.gcount())));
+    in.clear();
+    const auto* p = reinterpret_cast<const std::byte*>(&s);
+    sums.insert(sums.end(), p, p + 8);
+    if (bytes <= kBlock) break;
+  }
+  const std::uint64_t size = bytes;
+  const auto* p = reinterpret_cast<const std::byte*>(&size);
+  sums.insert(sums.end(), p, p + 8);
+  return hex16(checksum64(sums));
+}
+
+WorkFolder::WorkFolder(fs::path folder, WorkKeys keys, PieceNotice notice, StopToken stop)
+    : folder_(std::move(folder)), keys_(std::move(keys)), notice_(std::move(notice)), stop_(stop) {
+  std::error_code ec;
+  existed_ = fs::exists(folder_, ec);
+  if (existed_ && !fs::is_directory(folder_, ec))
+    throw OutputError(folder_.string() + ": cannot use as work folder: not a folder");
+  if (existed_) detail::remove_stale_temporaries(folder_);
+}
+
+void WorkFolder::damaged(const std::string& step, const fs::path& file, const std::string& why) {
+  if (notice_) notice_(PieceEvent::damaged, step, file.filename().string() + ": " + why);
+  std::error_code ec;
+  fs::remove(file, ec);
+}
+
+fs::path WorkFolder::find(const std::string& step, const std::string& key) {
+  std::error_code ec;
+  std::vector<fs::path> candidates;
+  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
+    std::string s, sum;
+    if (split_name(entry.path().filename().string(), s, sum) && s == step)
+      candidates.push_back(entry.path());
+  }
+  std::sort(candidates.begin(), candidates.end());
+  for (const fs::path& file : candidates) {
+    std::string s, sum;
+    split_name(file.filename().string(), s, sum);
+    try {
+      if (hex16(file_checksum(file)) != sum) {
+        damaged(step, file, "checksum differs (torn or altered)");
+        continue;
+      }
+      const std::string saved_key = H5Reader(file, stop_).string_attribute("/", "key");
+      if (saved_key == key) return file;
+      if (notice_) notice_(PieceEvent::stale, step, "saved for other parameters or input");
+    } catch (const InterruptedError&) {
+      throw;
+    } catch (const Error& e) {
+      damaged(step, file, e.what());
+    }
+  }
+  return {};
+}
+
+void WorkFolder::save(const std::string& step, const std::string& key,
+                      const std::function<void(H5Writer&)>& fill) {
+  if (unsaved_) return;
+  std::error_code made;
+  fs::create_directories(folder_, made);  // created with the first piece, not before
+  const fs::path temp = detail::temp_name_for(folder_ / (step + ".h5"));
+  try {
+    {
+      H5Writer out(temp);
+      fill(out);
+      out.set_string_attribute("/", "key", key);
+      out.close();
+    }
+    const fs::path target = folder_ / (step + "." + hex16(file_checksum(temp)) + ".h5");
+    fs::rename(temp, target);
+    std::error_code ec;
+    for (const auto& entry : fs::directory_iterator(folder_, ec)) {
+      std::string s, sum;
+      if (entry.path() != target && split_name(entry.path().filename().string(), s, sum) &&
+          s == step)
+        fs::remove(entry.path(), ec);
+    }
+  } catch (const InterruptedError&) {
+    std::error_code ec;
+    fs::remove(temp, ec);
+    throw;
+  } catch (const std::exception& e) {
+    // The folder is a convenience: a full disk or a lost folder costs the resume, not the run.
+    std::error_code ec;
+    fs::remove(temp, ec);
+    unsaved_ = true;
+    if (notice_) notice_(PieceEvent::unsaved, step, e.what());
+    return;
+  }
+  ++saved_;
+  if (notice_) notice_(PieceEvent::saved, step, "");
+}
+
+bool WorkFolder::take(const std::string& step, const std::string& key,
+                      const std::function<void(const H5Reader&)>& read) {
+  const fs::path file = find(step, key);
+  if (file.empty()) return false;
+  try {
+    read(H5Reader(file, stop_));
+  } catch (const InterruptedError&) {
+    throw;
+  } catch (const std::exception& e) {  // json and numbering errors too
+    damaged(step, file, e.what());
+    return false;
+  }
+  ++loaded_;
+  if (notice_) notice_(PieceEvent::loaded, step, "");
+  return true;
+}
+
+std::optional<NodeGraph> WorkFolder::load_graph() {
+  NodeGraph g;
+  const bool taken = take("graph", keys_.graph, [&](const H5Reader& in) {
+    g.graph.offsets = in.read<std::int64_t>("/offsets");
+    g.graph.targets = in.read<std::uint32_t>("/targets");
+    g.graph.lengths = in.read<float>("/lengths");
+    const std::size_t nodes = g.graph.nodes();
+    if (nodes == 0 || g.graph.targets.size() != g.graph.lengths.size() ||
+        static_cast<std::size_t>(g.graph.offsets.back()) != g.graph.targets.size())
+      throw DataError("graph arrays disagree in size");
+    std::vector<std::uint32_t> of_point = in.read<std::uint32_t>("/node_of_point");
+    std::vector<std::uint32_t> of_node = in.read<std::uint32_t>("/point_of_node");
+    const std::size_t points = of_point.size();
+    if (of_node.size() != nodes) throw DataError("numberings disagree with the graph");
+    g.node_of_point = Numbering(std::move(of_point), nodes);
+    g.point_of_node = Numbering(std::move(of_node), points);
+    const json s = json::parse(in.string_attribute("/", "summary"));
+    g.summary = s.at("graph").get<GraphSummary>();
+    if (s.contains("dimension")) g.dimension = s["dimension"].get<IntrinsicDimension>();
+  });
+  if (!taken) return std::nullopt;
+  return g;
+}
+
+void WorkFolder::save_graph(const NodeGraph& g) {
+  save("graph", keys_.graph, [&](H5Writer& out) {
+    out.write("/offsets", g.graph.offsets, {g.graph.offsets.size()});
+    out.write("/targets", g.graph.targets, {g.graph.targets.size()});
+    out.write("/lengths", g.graph.lengths, {g.graph.lengths.size()});
+    out.write("/node_of_point", g.node_of_point.values(), {g.node_of_point.size()});
+    out.write("/point_of_node", g.point_of_node.values(), {g.point_of_node.size()});
+    json s = {{"graph", g.summary}};
+    if (g.dimension) s["dimension"] = *g.dimension;
+    out.set_string_attribute("/", "summary", s.dump());
+  });
+}
+
+std::optional<LandmarkResult> WorkFolder::load_landmarks() {
+  LandmarkResult r;
+  const bool taken = take("landmarks", keys_.landmarks, [&](const H5Reader& in) {
+    r.rows.sources = in.read<std::uint32_t>("/sources");
+    r.rows.rows = r.rows.sources.size();
+    r.rows.cols = static_cast<std::size_t>(in.int_attribute("/", "nodes"));
+    r.summary = json::parse(in.string_attribute("/", "summary")).get<LandmarkSummary>();
+  });
+  if (!taken) return std::nullopt;
+  return r;
+}
+
+void WorkFolder::save_landmarks(const LandmarkResult& choice) {
+  save("landmarks", keys_.landmarks, [&](H5Writer& out) {
+    out.write("/sources", choice.rows.sources, {choice.rows.sources.size()});
+    out.set_int_attribute("/", "nodes", static_cast<std::int64_t>(choice.rows.cols));
+    out.set_string_attribute("/", "summary", json(choice.summary).dump());
+  });
+}
+
+bool WorkFolder::load_rows(std::size_t batch, DistanceRows& rows, std::size_t first,
+                           std::size_t count) {
+  return take(rows_step(batch), keys_.landmarks, [&](const H5Reader& in) {
+    const std::vector<std::uint32_t> sources = in.read<std::uint32_t>("/sources");
+    if (in.int_attribute("/", "first") != static_cast<std::int64_t>(first) ||
+        sources.size() != count ||
+        !std::equal(sources.begin(), sources.end(), rows.sources.begin() + first))
+      throw DataError("rows start from other landmarks");
+    const std::vector<float> values = in.read<float>("/values");
+    if (values.size() != count * rows.cols) throw DataError("rows have another width");
+    std::copy(values.begin(), values.end(), rows.row(first));
+  });
+}
+
+void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::size_t first,
+                           std::size_t count) {
+  save(rows_step(batch), keys_.landmarks, [&](H5Writer& out) {
+    out.write("/values", std::span<const float>(rows.row(first), count * rows.cols),
+              {count, rows.cols});
+    out.write("/sources", std::span<const NodeId>(rows.sources.data() + first, count), {count});
+    out.set_int_attribute("/", "first", static_cast<std::int64_t>(first));
+  });
+}
+
+void WorkFolder::remove() {
+  std::error_code ec;
+  std::vector<fs::path> pieces;
+  if (!fs::is_directory(folder_, ec)) return;
+  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
+    std::string s, sum;
+    if (split_name(entry.path().filename().string(), s, sum)) pieces.push_back(entry.path());
+  }
+  for (const fs::path& p : pieces) fs::remove(p, ec);
+  detail::remove_stale_temporaries(folder_);
+  if (fs::is_empty(folder_, ec)) fs::remove(folder_, ec);
+}
+
+}  // namespace unfurl::io

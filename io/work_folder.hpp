@@ -1,0 +1,102 @@
+// The work folder of a resumable run: the steps an embedding saves as they complete
+// (engine/step_store.hpp), one HDF5 file per piece:
+//
+//   graph.CHECKSUM.h5         the neighbour graph, numberings, graph summary (JSON attribute)
+//   landmarks.CHECKSUM.h5     the landmark choice: sources in pick order, summary
+//   rows-BBBB.CHECKSUM.h5     batch BBBB of the landmark rows: values, sources, first row
+//
+// CHECKSUM is 16 hex digits of checksum64 over the whole file. A piece is written under a
+// temporary name (io/detail/temp_names.hpp) and renamed into place only when complete, so a
+// killed run leaves each piece whole or absent; the name's checksum is verified before HDF5
+// opens the file, so a piece torn by a crash of the machine, truncated or altered is found,
+// reported and recomputed, and the HDF5 library never reads a damaged file. Pieces are not
+// flushed to disk one by one (that would cost the run seconds): the checksum is the guard.
+//
+// Every piece carries its step's key (text naming the input's identity and every parameter
+// the step depends on, made by apps/); a piece with another key belongs to other parameters
+// and is recomputed, and saving a piece removes the step's pieces of other keys.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <filesystem>
+#include <functional>
+#include <span>
+#include <string>
+
+#include "engine/step_store.hpp"
+
+namespace unfurl::io {
+
+class H5Reader;  // io/hdf5_file.hpp
+class H5Writer;
+
+// Text keys of the saved steps. The landmark rows share the landmarks' key (the rows follow
+// from the choice and the graph); a key should contain the keys of the steps before it.
+struct WorkKeys {
+  std::string graph;
+  std::string landmarks;
+};
+
+// What became of a piece, for the messages apps/ prints: taken from the folder; saved; passed
+// over because it belongs to other parameters; damaged (checksum or contents) and removed; or
+// not saved (the write failed: no further piece is saved this run, the run goes on).
+enum class PieceEvent { loaded, saved, stale, damaged, unsaved };
+using PieceNotice =
+    std::function<void(PieceEvent event, const std::string& piece, const std::string& detail)>;
+
+class WorkFolder final : public StepStore {
+ public:
+  // Opens the folder; it is created with the first piece saved. OutputError when the path is
+  // something other than a folder; removes temporary files that ended processes left in it.
+  WorkFolder(std::filesystem::path folder, WorkKeys keys, PieceNotice notice = {},
+             StopToken stop = {});
+
+  std::optional<NodeGraph> load_graph() override;
+  void save_graph(const NodeGraph& graph) override;
+  std::optional<LandmarkResult> load_landmarks() override;
+  void save_landmarks(const LandmarkResult& choice) override;
+  bool load_rows(std::size_t batch, DistanceRows& rows, std::size_t first,
+                 std::size_t count) override;
+  void save_rows(std::size_t batch, const DistanceRows& rows, std::size_t first,
+                 std::size_t count) override;
+
+  const std::filesystem::path& path() const { return folder_; }
+  std::size_t pieces_loaded() const { return loaded_; }
+  std::size_t pieces_saved() const { return saved_; }
+  bool existed() const { return existed_; }  // the folder was there before this run
+  // Removes every piece and then the folder itself when nothing else is left in it.
+  void remove();
+
+ private:
+  // The verified piece of `step`, or empty (stale and damaged ones reported).
+  std::filesystem::path find(const std::string& step, const std::string& key);
+  // Reads the verified piece of `step` through `read`; a piece that fails to read is
+  // reported as damaged and removed. False when there is none.
+  bool take(const std::string& step, const std::string& key,
+            const std::function<void(const H5Reader&)>& read);
+  // Writes a piece through `fill` with `key`, names it by its checksum, and removes the step's
+  // other pieces.
+  void save(const std::string& step, const std::string& key,
+            const std::function<void(H5Writer&)>& fill);
+  void damaged(const std::string& step, const std::filesystem::path& file, const std::string& why);
+
+  std::filesystem::path folder_;
+  WorkKeys keys_;
+  PieceNotice notice_;
+  StopToken stop_;
+  std::size_t loaded_ = 0, saved_ = 0;
+  bool existed_ = false;
+  bool unsaved_ = false;  // a save failed: save no more
+};
+
+// A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a
+// final mix): detects torn and altered files, not deliberate forgeries.
+std::uint64_t checksum64(std::span<const std::byte> bytes);
+// checksum64 of a file's bytes, read in blocks. IoError when it cannot be read.
+std::uint64_t file_checksum(const std::filesystem::path& file);
+// A file's content fingerprint for the keys: the checksum of 64 blocks of 64 KiB spread
+// evenly over the file (and its size), or of every byte when `full`; 16 hex digits.
+std::string content_fingerprint(const std::filesystem::path& file, bool full);
+
+}  // namespace unfurl::io

@@ -1,0 +1,281 @@
+"""End-to-end tests of the work folder of `unfurl embed` (README "Long runs: resuming and
+signals"): a run stopped by SIGTERM during the landmark rows exits 75, prints the command that
+resumes, and leaves whole pieces; that command resumes (and says so); a second stop during the
+resumed run; SIGKILL at three moments; a second SIGINT stopping at once; torn and altered
+pieces found and recomputed with a warning; a new score k taking every saved step back; the
+folder removed after success unless kept.
+
+The reference for every map is an uninterrupted run of the same command with --no-work-dir
+(the engine's own path, landmarks picked beside their rows): the resumed map must hold the
+same datasets and attributes, byte for byte, except the root attributes of the run record
+(seconds*, creation_time, peak_memory_bytes: different in every run by design). Files are read with h5py (Debian python3-h5py), the
+independent reader of HDF5. Interrupted runs use 1 thread and the reference 2, so the check
+also covers "results do not depend on the thread count".
+
+Size: 200,000 Swiss roll points (the issue's size) with 64 landmarks and no scores, except
+where scores are the point: the rows then take a few seconds on this machine, long enough to
+stop a run in them, and the dozen runs stay within about a minute.
+
+Run by ctest as cli.resume_test with env UNFURL_BIN.
+"""
+
+import os
+import signal
+import subprocess
+import tempfile
+import time
+
+import h5py
+import numpy as np
+
+from cli_support import BIN, check, finish, run, swiss_roll
+
+work = tempfile.mkdtemp(prefix="unfurl-resume-cli-")
+
+
+def path(name):
+    return os.path.join(work, name)
+
+
+points = path("roll.npy")
+np.save(points, swiss_roll(200_000, 12))
+common = ["--landmarks", "64", "--k", "10", "--seed", "5"]
+fast = [*common, "--no-score"]
+
+
+def embed(out, extra, threads):
+    return ["embed", points, "-o", out, *extra, "--threads", str(threads)]
+
+
+def pieces(folder, step=""):
+    if not os.path.isdir(folder):
+        return []
+    return sorted(n for n in os.listdir(folder) if n.endswith(".h5") and n.startswith(step))
+
+
+def temporaries(folder):
+    return [n for n in os.listdir(folder) if ".part-" in n] if os.path.isdir(folder) else []
+
+
+def start(args):
+    return subprocess.Popen([BIN, *args], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                            text=True)
+
+
+def signal_when(proc, ready, sig, what, limit=120):
+    """Sends `sig` to `proc` as soon as ready() holds; returns (stdout, stderr, code, seen)."""
+    t0 = time.monotonic()
+    seen = False
+    while proc.poll() is None and time.monotonic() - t0 < limit:
+        if ready():
+            proc.send_signal(sig)
+            seen = True
+            break
+        time.sleep(0.002)
+    out, err = proc.communicate(timeout=limit)
+    check(f"{what}: the moment came before the run ended", seen, f"exit {proc.returncode}")
+    return out, err, proc.returncode, seen
+
+
+def exact(value):
+    """A value in a form that compares equal only when every byte is: numeric arrays by dtype,
+    shape and bytes; strings and object arrays (variable-length strings) by their items."""
+    if isinstance(value, np.ndarray):
+        if value.dtype == object:
+            return ("object", value.shape, tuple(value.ravel().tolist()))
+        return (value.dtype.str, value.shape, value.tobytes())
+    if isinstance(value, np.generic):
+        return (value.dtype.str, value.tobytes())
+    return (type(value).__name__, value)
+
+
+def datasets_and_attributes(file):
+    """Every dataset (dtype, shape, bytes) and every attribute of every object, except the
+    root attributes of the run record: seconds*, creation_time, peak_memory_bytes."""
+    out = {}
+    with h5py.File(file, "r") as f:
+        def visit(name, obj):
+            if isinstance(obj, h5py.Dataset):
+                out["data:" + name] = (str(obj.dtype), exact(obj[()]))
+            for key, value in obj.attrs.items():
+                out[f"attr:{name}@{key}"] = exact(value)
+        visit("/", f)
+        f.visititems(visit)
+    # The run record: wall times, the time the map was made and the peak memory differ
+    # between any two runs by design; nothing else is left out.
+    for key in [k for k in out if k.startswith("attr:/@seconds") or
+                k in ("attr:/@creation_time", "attr:/@peak_memory_bytes")]:
+        del out[key]
+    return out
+
+
+def same_map(what, file, reference):
+    a, b = datasets_and_attributes(file), datasets_and_attributes(reference)
+    differ = sorted(k for k in a.keys() | b.keys() if a.get(k) != b.get(k))
+    check(f"{what}: the map equals the uninterrupted run's (datasets and attributes)",
+          not differ, f"differ: {differ[:6]}")
+
+
+def whole_pieces(what, folder, reference):
+    """Every piece opens with h5py; each batch of rows holds, row by row, the same distances
+    as the reference map's /landmarks/geodesic row of that landmark (columns in another
+    order: compared sorted)."""
+    bad = []
+    with h5py.File(reference, "r") as ref:
+        geodesic = ref["/landmarks/geodesic"][()]
+    by_sorted = {np.sort(r).tobytes() for r in geodesic}
+    for name in pieces(folder):
+        try:
+            with h5py.File(os.path.join(folder, name), "r") as f:
+                if name.startswith("rows-"):
+                    values = f["values"][()]
+                    if values.shape != (len(f["sources"]), geodesic.shape[1]):
+                        bad.append(f"{name}: shape {values.shape}")
+                    elif any(np.sort(r).tobytes() not in by_sorted for r in values):
+                        bad.append(f"{name}: a row not among the reference's")
+                elif "key" not in f.attrs:
+                    bad.append(f"{name}: no key")
+        except OSError as e:
+            bad.append(f"{name}: {e}")
+    check(f"{what}: every piece left is whole ({len(pieces(folder))} pieces)", not bad, str(bad))
+
+
+# The references: uninterrupted, 2 threads, no work folder; the same with a work folder.
+ref = path("ref.h5")
+r = run(embed(ref, [*fast, "--no-work-dir", "--keep-geodesics"], 2))
+check("reference run: exit 0", r.returncode == 0, r.stderr)
+straight = path("straight.h5")
+r = run(embed(straight, [*fast, "--keep-geodesics"], 2))
+check("straight run with the work folder: exit 0", r.returncode == 0, r.stderr)
+same_map("straight run with the work folder", straight, ref)
+check("a successful run removes its work folder", not os.path.exists(straight + ".work"),
+      str(pieces(straight + ".work")))
+
+# SIGTERM during the landmark rows: exit 75, the resume command, whole pieces; that command
+# resumes and says so.
+out = path("term.h5")
+folder = out + ".work"
+args = embed(out, [*fast, "--keep-geodesics"], 1)
+o, e, code, _ = signal_when(start(args), lambda: len(pieces(folder, "rows-")) >= 3,
+                            signal.SIGTERM, "SIGTERM after 3 row batches")
+check("SIGTERM: exit 75", code == 75, f"exit {code}, stderr {e!r}")
+check("SIGTERM: no map written", not os.path.exists(out))
+lines = e.splitlines()
+command = next((lines[i + 1].strip() for i, l in enumerate(lines)
+                if l.endswith("resume with:") and i + 1 < len(lines)), "")
+check("SIGTERM: stderr gives the command that resumes", command.startswith("cd ") and
+      BIN in command and "embed" in command, e)
+check("SIGTERM: landmarks and some row batches saved",
+      pieces(folder, "landmarks") and 3 <= len(pieces(folder, "rows-")) < 16,
+      str(pieces(folder)))
+whole_pieces("after SIGTERM", folder, ref)
+saved_rows = len(pieces(folder, "rows-"))
+r = subprocess.run(command.replace("--threads 1", "--threads 2"), shell=True,
+                   capture_output=True, text=True, timeout=300)
+check("the printed command resumes: exit 0", r.returncode == 0, r.stderr)
+check("the resumed run says so, naming the graph, landmarks and saved batches",
+      "resume: taking saved steps from" in r.stdout and "graph taken" in r.stdout
+      and "landmarks taken" in r.stdout and r.stdout.count("rows-") >= saved_rows, r.stdout)
+same_map("resumed after SIGTERM", out, ref)
+
+# A second stop (SIGUSR1, a scheduler's warning) during the resumed run, then a third run.
+out = path("twice.h5")
+folder = out + ".work"
+args = embed(out, [*fast, "--keep-geodesics"], 1)
+_, e, code, _ = signal_when(start(args), lambda: len(pieces(folder, "rows-")) >= 2,
+                            signal.SIGTERM, "first stop")
+check("first stop: exit 75", code == 75, e)
+_, e, code, _ = signal_when(start(args), lambda: len(pieces(folder, "rows-")) >= 6,
+                            signal.SIGUSR1, "second stop (SIGUSR1) in the resumed run")
+check("second stop: exit 75", code == 75, e)
+r = run(args)
+check("third run: exit 0", r.returncode == 0, r.stderr)
+same_map("resumed twice", out, ref)
+
+# SIGKILL at three moments: just after the graph is saved, in the middle of the rows, and
+# while a piece is being written (a temporary file present) or, if that moment is missed,
+# late in the rows. Every piece left must be whole; the rerun must equal the reference.
+out = path("kill.h5")
+folder = out + ".work"
+args = embed(out, [*fast, "--keep-geodesics"], 1)
+old_temporaries = set()
+moments = [("after the graph piece", lambda: bool(pieces(folder, "graph"))),
+           ("in the middle of the rows", lambda: len(pieces(folder, "rows-")) >= 8),
+           ("during a piece write", lambda: bool(set(temporaries(folder)) - old_temporaries)
+            or len(pieces(folder, "rows-")) >= 14)]
+for what, ready in moments:
+    old_temporaries = set(temporaries(folder))  # a killed run's, removed by the next
+    _, _, code, _ = signal_when(start(args), ready, signal.SIGKILL, f"SIGKILL {what}")
+    check(f"SIGKILL {what}: killed (exit -9)", code == -signal.SIGKILL, f"exit {code}")
+    whole_pieces(f"SIGKILL {what}", folder, ref)
+r = run(args)
+check("after three kills: exit 0", r.returncode == 0, r.stderr)
+check("after three kills: resumed", "resume: taking saved steps" in r.stdout, r.stdout)
+same_map("resumed after three kills", out, ref)
+
+# A second SIGINT stops at once (exit 130 = 128 + SIGINT), leaving whole pieces. The first
+# stop is fast (the next Dijkstra run), so the second must follow closely; two signals
+# pending at once merge into one, so a few gaps are tried.
+out = path("int.h5")
+folder = out + ".work"
+codes = []
+for gap in (0.0, 0.0, 0.001):
+    proc = start(embed(out, [*fast, "--keep-geodesics"], 1))
+    t0 = time.monotonic()
+    while (proc.poll() is None and len(pieces(folder, "rows-")) < 2
+           and time.monotonic() - t0 < 120):
+        time.sleep(0.002)
+    proc.send_signal(signal.SIGINT)
+    time.sleep(gap)
+    proc.send_signal(signal.SIGINT)
+    o, e = proc.communicate(timeout=60)
+    codes.append(proc.returncode)
+    if proc.returncode == 130:
+        check("two SIGINTs: one line on stderr saying so", "interrupted again" in e, e)
+        break
+check("two SIGINTs: exit 130 (stopped at once)", 130 in codes, f"exits {codes}")
+whole_pieces("after two SIGINTs", folder, ref)
+
+# Damaged pieces: one truncated, one with a byte altered; both found, warned about,
+# recomputed; the map still equals the reference. The folder is kept on request.
+out = path("term.h5")  # its folder was removed by the successful resume: make one again
+folder = out + ".work"
+os.remove(out)
+args = embed(out, [*fast, "--keep-geodesics", "--keep-work-dir"], 2)
+r = run(args)
+check("run with --keep-work-dir: exit 0 and the folder kept",
+      r.returncode == 0 and len(pieces(folder, "rows-")) == 16, r.stderr + str(pieces(folder)))
+rows = pieces(folder, "rows-")
+with open(os.path.join(folder, rows[1]), "r+b") as f:
+    f.truncate(os.path.getsize(os.path.join(folder, rows[1])) // 2)
+with open(os.path.join(folder, rows[2]), "r+b") as f:
+    f.seek(os.path.getsize(os.path.join(folder, rows[2])) // 2)
+    b = f.read(1)
+    f.seek(-1, 1)
+    f.write(bytes([b[0] ^ 0x40]))
+r = run(args)
+check("damaged pieces: exit 0", r.returncode == 0, r.stderr)
+warned = [l for l in r.stdout.splitlines() if l.startswith("warning: work folder:")]
+check("damaged pieces: one warning each, naming the piece and recomputing it",
+      len(warned) == 2 and rows[1] in warned[0] + warned[1] and rows[2] in warned[0] + warned[1]
+      and all("recomputing" in l for l in warned), r.stdout)
+same_map("after damaged pieces", out, ref)
+
+# A new score k: every saved step is taken back (graph, landmarks, all 16 batches); only the
+# scores differ from a scored run's.
+scored = path("scored.h5")
+r = run(embed(scored, [*common, "--keep-geodesics", "--keep-work-dir", "--sample", "300",
+                       "--work-dir", folder], 2))
+check("scored run on the kept folder: exit 0", r.returncode == 0, r.stderr)
+check("scored run: every step taken from the folder",
+      "graph taken" in r.stdout and r.stdout.count("rows-") == 16, r.stdout)
+with h5py.File(scored, "r") as f, h5py.File(ref, "r") as g:
+    check("scored run: the same coordinates", np.array_equal(f["coords"][()], g["coords"][()]))
+rescored = path("rescored.h5")
+r = run(embed(rescored, [*common, "--keep-geodesics", "--sample", "300", "--score-k", "7",
+                         "--work-dir", folder], 2))
+check("new --score-k: exit 0, every step taken, the folder then removed",
+      r.returncode == 0 and "landmarks taken" in r.stdout and r.stdout.count("rows-") == 16
+      and not os.path.exists(folder), r.stdout + r.stderr)
+
+finish(work)

@@ -1,0 +1,95 @@
+#include "engine/step_store.hpp"
+
+#include <atomic>
+#include <catch2/catch.hpp>
+#include <map>
+
+#include "engine/embedding.hpp"
+#include "engine/error.hpp"
+#include "engine/synthetic.hpp"
+
+using namespace unfurl;
+
+namespace {
+
+// A store in memory that counts what it gives back, and can ask the run to stop after it has
+// saved a given number of row batches (as a signal would).
+class MemoryStore final : public StepStore {
+ public:
+  std::optional<NodeGraph> graph;
+  std::optional<LandmarkResult> landmarks;
+  std::map<std::size_t, std::vector<float>> batches;
+  std::size_t loads = 0;
+  std::size_t stop_after_batches = 0;  // 0: never
+  std::atomic<bool> stop{false};
+
+  std::optional<NodeGraph> load_graph() override {
+    if (graph) ++loads;
+    return graph;
+  }
+  void save_graph(const NodeGraph& g) override {
+    graph = g;
+    graph->node_points = PointSet{};  // the contract: the caller gathers them again
+  }
+  std::optional<LandmarkResult> load_landmarks() override {
+    if (landmarks) ++loads;
+    return landmarks;
+  }
+  void save_landmarks(const LandmarkResult& c) override { landmarks = c; }
+  bool load_rows(std::size_t b, DistanceRows& rows, std::size_t first, std::size_t n) override {
+    auto it = batches.find(b);
+    if (it == batches.end()) return false;
+    REQUIRE(it->second.size() == n * rows.cols);
+    std::copy(it->second.begin(), it->second.end(), rows.row(first));
+    ++loads;
+    return true;
+  }
+  void save_rows(std::size_t b, const DistanceRows& rows, std::size_t first,
+                 std::size_t n) override {
+    batches[b].assign(rows.row(first), rows.row(first) + n * rows.cols);
+    if (stop_after_batches && batches.size() >= stop_after_batches) stop = true;
+  }
+};
+
+void same_result(const EmbedResult& a, const EmbedResult& b) {
+  CHECK(a.coords.values == b.coords.values);
+  CHECK(a.rows == b.rows);
+  CHECK(a.landmark_rows == b.landmark_rows);
+  CHECK(a.landmark_coords == b.landmark_coords);
+  CHECK(a.spectrum == b.spectrum);
+  CHECK(a.geodesic.values == b.geodesic.values);
+  CHECK(a.landmarks.coverage_radius == b.landmarks.coverage_radius);
+  CHECK(a.graph->undirected_edges == b.graph->undirected_edges);
+}
+
+}  // namespace
+
+TEST_CASE("a run with a step store, stopped and resumed, equals a run without", "[resume]") {
+  // The reference is the store-less pipeline (the engine's one-pass path, itself checked
+  // against scikit-learn's Isomap in tests/reference); the Swiss roll is DESIGN.md's.
+  const PointSet points = swiss_roll(3000, 4).points;
+  EmbedOptions o;
+  o.graph.neighbourhood = NearestK{8};
+  o.landmarks.count = LandmarkCount{40};
+  o.keep_geodesics = true;
+  const EmbedResult plain = embed_points(points, o);
+
+  MemoryStore store;
+  store.stop_after_batches = 5;
+  CHECK_THROWS_AS(embed_points(points, o, StopToken{&store.stop}, &store), InterruptedError);
+  CHECK(store.graph.has_value());
+  CHECK(store.landmarks.has_value());
+  CHECK(store.batches.size() == 5);
+
+  store.stop = false;
+  store.stop_after_batches = 0;
+  const EmbedResult resumed = embed_points(points, o, StopToken{&store.stop}, &store);
+  CHECK(store.loads == 1 + 1 + 5);    // graph, landmarks, the five saved batches
+  CHECK(store.batches.size() == 14);  // 40 rows in batches of ceil(40 / 16) = 3
+  same_result(resumed, plain);
+
+  store.loads = 0;
+  const EmbedResult again = embed_points(points, o, {}, &store);
+  CHECK(store.loads == 1 + 1 + 14);  // everything taken back
+  same_result(again, plain);
+}

@@ -1,0 +1,145 @@
+#include "io/work_folder.hpp"
+
+#include <catch2/catch.hpp>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <vector>
+
+#include "engine/embedding_steps.hpp"
+#include "engine/synthetic.hpp"
+#include "tests/io/temp_folder.hpp"
+
+using namespace unfurl;
+namespace fs = std::filesystem;
+
+namespace {
+
+struct Events {
+  std::vector<std::pair<io::PieceEvent, std::string>> seen;
+  io::PieceNotice notice() {
+    return [this](io::PieceEvent e, const std::string& piece, const std::string&) {
+      seen.emplace_back(e, piece);
+    };
+  }
+  std::size_t count(io::PieceEvent e) const {
+    std::size_t n = 0;
+    for (const auto& s : seen) n += s.first == e;
+    return n;
+  }
+};
+
+fs::path only_piece(const fs::path& folder, const std::string& step) {
+  for (const auto& e : fs::directory_iterator(folder))
+    if (e.path().filename().string().rfind(step + ".", 0) == 0) return e.path();
+  return {};
+}
+
+}  // namespace
+
+TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are recomputed",
+          "[work_folder]") {
+  test::TempFolder tmp;
+  const fs::path dir = tmp.path() / "run.work";
+  GraphOptions go;
+  go.neighbourhood = NearestK{6};
+  const NodeGraph graph = node_graph(swiss_roll(400, 3).points, go);
+  LandmarkOptions lo;
+  lo.count = LandmarkCount{7};
+  LandmarkResult choice = choose_landmarks(graph.graph, lo);
+  DistanceRows rows = choice.rows;
+  rows.values.resize(rows.rows * rows.cols);
+  fill_landmark_rows(graph.graph, rows, 0, rows.rows);
+  {
+    io::WorkFolder w(dir, {"graph-key", "landmarks-key"});
+    CHECK_FALSE(w.load_graph());
+    w.save_graph(graph);
+    w.save_landmarks(choice);
+    w.save_rows(0, rows, 0, 4);
+    w.save_rows(1, rows, 4, 3);
+    CHECK(w.pieces_saved() == 4);
+  }
+  Events ev;
+  io::WorkFolder w(dir, {"graph-key", "landmarks-key"}, ev.notice());
+  const auto g = w.load_graph();
+  REQUIRE(g);
+  CHECK(g->graph.offsets == graph.graph.offsets);
+  CHECK(g->graph.targets == graph.graph.targets);
+  CHECK(g->graph.lengths == graph.graph.lengths);
+  CHECK(std::vector<NodeId>(g->node_of_point.values().begin(), g->node_of_point.values().end()) ==
+        std::vector<NodeId>(graph.node_of_point.values().begin(),
+                            graph.node_of_point.values().end()));
+  CHECK(g->summary.length_median == graph.summary.length_median);  // float through JSON
+  CHECK(g->summary.warnings == graph.summary.warnings);
+  REQUIRE(g->dimension.has_value() == graph.dimension.has_value());
+  if (g->dimension) CHECK(g->dimension->estimate == graph.dimension->estimate);
+  const auto c = w.load_landmarks();
+  REQUIRE(c);
+  CHECK(c->rows.sources == choice.rows.sources);
+  CHECK(c->summary.coverage_radius == choice.summary.coverage_radius);
+  DistanceRows back = choice.rows;
+  back.values.assign(rows.values.size(), -1.0f);
+  CHECK(w.load_rows(0, back, 0, 4));
+  CHECK(w.load_rows(1, back, 4, 3));
+  CHECK(back.values == rows.values);
+  CHECK(ev.count(io::PieceEvent::loaded) == 4);
+
+  // Other parameters: the piece is passed over (and kept until a new one replaces it).
+  Events other;
+  io::WorkFolder changed(dir, {"graph-key", "other-landmarks"}, other.notice());
+  CHECK_FALSE(changed.load_landmarks());
+  CHECK(other.count(io::PieceEvent::stale) == 1);
+  changed.save_landmarks(choice);
+  CHECK(fs::exists(only_piece(dir, "landmarks")));
+  std::size_t landmark_pieces = 0;
+  for (const auto& e : fs::directory_iterator(dir))
+    landmark_pieces += e.path().filename().string().rfind("landmarks.", 0) == 0;
+  CHECK(landmark_pieces == 1);
+
+  // Truncated, then one byte altered: each found by its checksum (common practice, no
+  // source: a checksum in the name verified before use), removed, reported, not loaded.
+  const fs::path batch0 = only_piece(dir, "rows-0000");
+  fs::resize_file(batch0, fs::file_size(batch0) / 2);
+  const fs::path batch1 = only_piece(dir, "rows-0001");
+  {
+    std::fstream f(batch1, std::ios::in | std::ios::out | std::ios::binary);
+    f.seekg(static_cast<std::streamoff>(fs::file_size(batch1) / 2));
+    char b = 0;
+    f.read(&b, 1);
+    f.seekp(static_cast<std::streamoff>(fs::file_size(batch1) / 2));
+    b = static_cast<char>(b ^ 0x10);
+    f.write(&b, 1);
+  }
+  Events damaged;
+  io::WorkFolder again(dir, {"graph-key", "landmarks-key"}, damaged.notice());
+  CHECK_FALSE(again.load_rows(0, back, 0, 4));
+  CHECK_FALSE(again.load_rows(1, back, 4, 3));
+  CHECK(damaged.count(io::PieceEvent::damaged) == 2);
+  CHECK_FALSE(fs::exists(batch0));
+  CHECK_FALSE(fs::exists(batch1));
+
+  again.remove();
+  CHECK_FALSE(fs::exists(dir));
+}
+
+TEST_CASE("checksum64 and the content fingerprint change with any byte", "[work_folder]") {
+  // Common practice, no source: a one-byte change or a shorter file must change the sum.
+  std::vector<std::byte> bytes(1000);
+  for (std::size_t i = 0; i < bytes.size(); ++i) bytes[i] = static_cast<std::byte>(i * 7);
+  const std::uint64_t sum = io::checksum64(bytes);
+  for (std::size_t at : {0u, 31u, 32u, 500u, 999u}) {
+    auto changed = bytes;
+    changed[at] ^= std::byte{1};
+    CHECK(io::checksum64(changed) != sum);
+  }
+  CHECK(io::checksum64(std::span(bytes).first(999)) != sum);
+  test::TempFolder tmp;
+  const fs::path file = tmp.path() / "data.bin";
+  std::ofstream(file, std::ios::binary).write(reinterpret_cast<const char*>(bytes.data()), 1000);
+  CHECK(io::file_checksum(file) == sum);
+  const std::string sampled = io::content_fingerprint(file, false);
+  CHECK(sampled.size() == 16);
+  char hex[17];
+  std::snprintf(hex, sizeof hex, "%016llx", static_cast<unsigned long long>(sum));
+  CHECK(io::content_fingerprint(file, true) == hex);
+}
