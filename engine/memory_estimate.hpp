@@ -11,15 +11,15 @@
 //   held      the process (baseline) + the points as read, N (4 d + 16) (values, row keys,
 //             input row ids), or a given graph, 8 (N + E) + 8 N
 //   graph     k-d tree or scan 8 N (+ 4 N d for the scan's centred copy); kNN lists 16 N k
-//             with the edges drawn from them 12 N k, then the symmetric CSR from those
-//             edges: 12 N k + 16 E + 24 N; duplicates 16 N
+//             with the edges drawn from them 12 N k, or (the larger) the symmetric CSR
+//             build from those edges: 12 N k + 16 E + 24 N + 8 (N + E); duplicates 16 N
 //   kept      after the graph: the node graph CSR 8 (N + E), numberings 8 N, node points 4 N d
 //   order     two more CSR copies (the component, the ordered graph) 16 (N + E), the curve
 //             keys 24 N and the ordered points 4 N d
 //   rows      landmark rows 4 L N, two CSRs, maxmin bounds 9 N and T Dijkstra workspaces
 //             of 12 N; exact mode: 4 N^2 instead of the landmark rows
 //   spectral  the rows, a dense solver 24 L^2 (L <= SpectralOptions.dense_limit) or the
-//             Lanczos solver (spectral_solver_bytes), the coordinates 4 N m
+//             Lanczos solver (spectral_solver_bytes), the coordinates 12 N m
 //   scores    the rows, the map, its input rows 24 N; residual variance batches of 16 rows
 //             (64 N) while the graphs are alive; trustworthiness and continuity: a copy of the
 //             points 4 N d + 8 N, both spaces transposed 12 N (d + m), and per query point
