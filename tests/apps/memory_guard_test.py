@@ -49,6 +49,9 @@ def main():
     # set holds their shadow memory and quarantine, so only the smallest run is made (for
     # the refusals below) and no peak is compared.
     sanitized = os.environ.get("UNFURL_SANITIZED", "0") == "1"
+    # "Within a second" is the bound for a refusal; the sanitizers slow the start of
+    # the process itself several times, so they get five.
+    quick = 5.0 if sanitized else 1.0
     reports = {}
     for n in (20000,) if sanitized else (20000, 60000, 150000):
         folder = d(f"roll{n}")
@@ -88,7 +91,7 @@ def main():
                     ["about " + human_bytes(estimate), "8.0 MiB", "--max-memory",
                      "--landmarks", "--rows"], work)
         seconds = time.monotonic() - started
-        check("embed --max-memory 8M: refused within a second", seconds < 1.0, f"{seconds:.2f} s")
+        check("embed --max-memory 8M: refused within a second", seconds < quick, f"{seconds:.2f} s")
         check("embed --max-memory 8M: no map, no report",
               not os.path.exists(d("refused.h5")) and not os.path.exists(d("refused.json")))
 
@@ -102,7 +105,7 @@ def main():
             ["embed", empty, "-o", d("declared-map.h5"), "--max-memory", "1G"], 69,
             ["50000000 points", "1.0 GiB", "--max-memory"], work)
     seconds = time.monotonic() - started
-    check("50M-row file: refused within a second", seconds < 1.0, f"{seconds:.2f} s")
+    check("50M-row file: refused within a second", seconds < quick, f"{seconds:.2f} s")
     refused("embed --rows 0:1000 of the 50M-row file: the guard counts the rows asked for",
             ["embed", empty, "-o", d("declared-map.h5"), "--rows", "0:1000", "--max-memory",
              "1G"], 65, [empty], work)
