@@ -9,6 +9,7 @@
 
 #include "apps/created_folder.hpp"
 #include "apps/embed_job.hpp"
+#include "apps/memory_guard.hpp"
 #include "apps/option_scope.hpp"
 #include "apps/run_info.hpp"
 #include "engine/error.hpp"
@@ -39,21 +40,12 @@ std::size_t scenario_columns(const DemoArgs& a) {
   return a.scenario == "ocean-buoys" ? kBuoyChannels : 3;
 }
 
-// Rough peak bytes of a demo on n points of d columns (common practice, no source: a sum of
-// the arrays the run holds at once, per point): the scenario, its copy for the job and its
-// two truth columns (12 d + 8); the neighbour search's candidates and the union graph's
-// edges, 8 bytes each ((k + max(16, k)) 8 + 16 k); the landmark geodesic rows (4 L); the map
-// and per-point scores (64). --data-only holds the scenario and its written copy only.
-std::uint64_t demo_bytes(const DemoArgs& a) {
+// Bytes the demo holds for the whole run besides the embed job's own copy of the points:
+// the scenario (d channels and its two truth columns, float32). --data-only holds the
+// scenario and the compressed copy being written (counted as a second one).
+std::uint64_t scenario_bytes(const DemoArgs& a) {
   const double n = static_cast<double>(a.points), d = static_cast<double>(scenario_columns(a));
-  if (a.data_only) return static_cast<std::uint64_t>(n * (8 * d + 8));
-  const auto* nearest = std::get_if<NearestK>(&a.embed.graph.neighbourhood);
-  const double k = nearest ? static_cast<double>(nearest->k) : 0.0;
-  const auto* given = std::get_if<LandmarkCount>(&a.embed.map.landmarks);
-  const double landmarks = static_cast<double>(
-      given ? given->count : default_landmark_count(a.points, a.embed.map.dims));
-  const double per_point = 12 * d + 8 + (k + std::max(16.0, k)) * 8 + 16 * k + 4 * landmarks + 64;
-  return static_cast<std::uint64_t>(std::min(n * per_point, 0x1p63));
+  return static_cast<std::uint64_t>(std::min(n * (4 * d + 8) * (a.data_only ? 2 : 1), 0x1p63));
 }
 
 // Everything that can be refused before a file is written: options that do not apply, the
@@ -63,18 +55,22 @@ void check_demo(const GlobalOptions& g, const CLI::App& cmd, const DemoArgs& a) 
   shape.demo = true;
   shape.data_only = a.data_only;
   refuse_unused_options(cmd, shape);
-  if (!a.data_only) check_job_options(g, a.embed, a.points, scenario_columns(a));
-  const std::uint64_t need = demo_bytes(a);
-  const std::uint64_t limit = a.embed.max_memory.empty()
-                                  ? default_memory_limit()
-                                  : parse_bytes("--max-memory", a.embed.max_memory);
-  if (need > limit)
+  if (!a.data_only) {
+    check_job_options(g, a.embed,
+                      {.points = a.points,
+                       .columns = scenario_columns(a),
+                       .held_bytes = scenario_bytes(a),
+                       .subject = fmt::format("--point-count {}", a.points)});
+    return;
+  }
+  const MemoryLimit limit = memory_limit(a.embed.max_memory);
+  const std::uint64_t need = scenario_bytes(a) + MemoryShape{}.baseline;
+  if (need > limit.bytes)
     throw ResourceError(fmt::format(
         "--point-count {}: the demo would need about {}, over the limit of {} ({}); use fewer "
         "points{}",
-        a.points, human_bytes(need), human_bytes(limit),
-        a.embed.max_memory.empty() ? "80% of the memory" : "--max-memory",
-        a.embed.max_memory.empty() ? "" : " or raise --max-memory"));
+        a.points, human_bytes(need), human_bytes(limit.bytes), limit.source,
+        limit.source == "--max-memory" ? " or raise --max-memory" : ""));
 }
 
 void write_scenario(io::OutputSet& outputs, std::size_t output, const DemoArgs& a,
@@ -153,6 +149,7 @@ void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
   in.identity["path"] = fs::absolute(data).string();
   in.identity["file_rows"] = set.points.rows;
   in.identity["columns"] = set.points.cols;
+  in.held_bytes = scenario_bytes(a);
   EmbedResult result;
   run_embed_job(g, a.embed, std::move(in), outputs, where, &result);
   folder.keep();

@@ -8,6 +8,7 @@
 
 #include "apps/created_folder.hpp"
 #include "apps/embed_job.hpp"
+#include "apps/memory_guard.hpp"
 #include "apps/option_scope.hpp"
 #include "apps/run_info.hpp"
 #include "apps/work_run.hpp"
@@ -112,6 +113,10 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
     if (args->input_kind != "points" && !args->input.dataset.empty())
       shape.input_format = io::detect_point_format(args->input.file, args->input.format);
     refuse_unused_options(*cmd, shape);
+    // The memory guard before reading, when the file's metadata gives its shape.
+    if (args->input_kind == "points")
+      if (const auto size = point_file_shape(args->input))
+        check_job_memory(g, *args, {.points = size->first, .columns = size->second});
     io::OutputSet outputs(stop_token());
     outputs.add_input(args->input.file, "input");
     JobOutputs where = add_job_outputs(outputs, *args);

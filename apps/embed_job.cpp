@@ -2,6 +2,7 @@
 
 #include <fmt/core.h>
 
+#include "apps/memory_guard.hpp"
 #include "apps/option_scope.hpp"
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
@@ -22,17 +23,6 @@ PointSet rows_of(const PointSet& points, const std::vector<std::size_t>& rows) {
   for (std::size_t r = 0; r < rows.size(); ++r)
     std::copy_n(points.row(rows[r]), points.cols, out.row(r));
   return out;
-}
-
-void check_exact_memory(const EmbedArgs& a, const EmbedOptions& options, std::size_t n) {
-  const std::uint64_t need = exact_mode_bytes(n, options.spectral);
-  const std::uint64_t limit =
-      a.max_memory.empty() ? default_memory_limit() : parse_bytes("--max-memory", a.max_memory);
-  if (need > limit)
-    throw ResourceError(fmt::format(
-        "--landmarks all: exact mode on {} points needs about {} (N x N geodesics), over the "
-        "limit of {}; use a landmark count or raise --max-memory",
-        n, human_bytes(need), human_bytes(limit)));
 }
 
 PreprocessOptions to_preprocess_options(const EmbedArgs& a) {
@@ -143,13 +133,19 @@ void add_embed_job_options(CLI::App* cmd, EmbedArgs& a) {
   cmd->add_option("--csv", a.csv, "Also write the coordinates as CSV");
   cmd->add_option("--json", a.json, "Also write every figure of the run as JSON");
   cmd->add_option("--max-memory", a.max_memory,
-                  "Memory ceiling: refuse exact mode (and a demo) that would need more (e.g. 8G; "
-                  "default: 80% of RAM)")
+                  "Memory ceiling: refuse a run whose estimated peak is higher (e.g. 8G; default: "
+                  "the available memory, or the cgroup limit when lower)")
       ->check(byte_size());
 }
 
-void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t rows,
-                       std::size_t cols) {
+void check_job_memory(const GlobalOptions& g, const EmbedArgs& a, const JobSize& size) {
+  if (size.points < std::max<std::size_t>(3, a.map.dims + 1)) return;  // job_options refuses it
+  check_memory(job_memory_shape(a, job_options(g, a, size.points, "points"), size),
+               memory_limit(a.max_memory), size.subject);
+}
+
+void check_job_options(const GlobalOptions& g, const EmbedArgs& a, const JobSize& size) {
+  const std::size_t rows = size.points, cols = size.columns;
   const EmbedOptions options = job_options(g, a, rows, "points");
   const PreprocessOptions pre = to_preprocess_options(a);
   pre.validate(rows, cols);
@@ -160,9 +156,9 @@ void check_job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t r
   } else {
     options.graph.validate(rows);
     options.validate(rows);
-    if (options.exact()) check_exact_memory(a, options, rows);
   }
   if (!a.no_score) job_assess_options(g, a, rows).validate(rows);
+  check_job_memory(g, a, size);
 }
 
 JobOutputs add_job_outputs(io::OutputSet& outputs, const EmbedArgs& a, const std::string& map_label,
@@ -183,6 +179,18 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   EmbedOptions options = job_options(g, a, n, given_graph ? "nodes" : "points");
   AssessOptions assess = job_assess_options(g, a, n);
   if (!a.no_score && assess.residual) options.residual = ResidualOptions{.seed = g.seed};
+  // Refused before any work when over the limit (apps/memory_guard.hpp).
+  const MemoryLimit memory_ceiling = memory_limit(a.max_memory);
+  const MemoryEstimate memory =
+      check_memory(job_memory_shape(a, options,
+                                    {.points = n,
+                                     .columns = given_graph ? 0 : in.points.cols,
+                                     .graph_edges = given_graph ? in.graph->directed_edges() : 0,
+                                     .held_bytes = in.held_bytes}),
+                   memory_ceiling);
+  say(g,
+      fmt::format("memory: estimated peak {} (step {}), limit {} ({})", human_bytes(memory.peak),
+                  memory.peak_of().step, human_bytes(memory_ceiling.bytes), memory_ceiling.source));
   io::MapContents map;
   // Points not from a reader (demo) were not centred: record zeros, so that `score` reads
   // them back as they were used.
@@ -206,7 +214,6 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
     map.preprocess = model;
   }
 
-  if (options.exact() && !a.linear) check_exact_memory(a, options, n);
   // Refuse bad score options now, not after the embedding has run.
   if (!a.no_score && !given_graph) assess.validate(n);
   EmbedResult result = a.linear ? linear_result(in.points, a.map.dims)
@@ -271,6 +278,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   io::write_map(outputs, where.map, map);
   if (where.csv) io::write_coordinates_csv(outputs, *where.csv, map.coords, map.rows);
   report["peak_memory_bytes"] = peak_memory_bytes();
+  report["memory_estimate"] = memory_json(memory, memory_ceiling);
   if (where.json) write_json_file(outputs, *where.json, report);
   if (where.plots)
     write_run_plots(outputs, *where.plots, std::move(map),

@@ -44,15 +44,34 @@ struct JobInput {
   std::vector<double> centres;             // column centres the reader subtracted (or empty)
   nlohmann::json identity;                 // the input's identity for the map's attributes
   StepStore* saved_steps = nullptr;        // embed's work folder (apps/work_run.hpp), or none
+  std::uint64_t held_bytes = 0;            // the caller holds besides (demo: its scenario)
 };
 
 // Adds every option of the embed job except the input (and the output path) to `cmd`.
 void add_embed_job_options(CLI::App* cmd, EmbedArgs& args);
 
-// Throws what the job would throw for its options on `rows` points of `cols` columns, for a
-// caller that knows the size before it has the points (demo).
-void check_job_options(const GlobalOptions& g, const EmbedArgs& args, std::size_t rows,
-                       std::size_t cols);
+// The size of the job's input, known before the points are (a demo's count, a point file's
+// metadata).
+struct JobSize {
+  std::size_t points = 0;        // points, or nodes of a given graph
+  std::size_t columns = 0;       // 0: a given graph
+  std::size_t graph_edges = 0;   // a given graph's stored entries (both directions)
+  std::uint64_t held_bytes = 0;  // the caller holds besides (demo: its scenario)
+  std::string subject{};         // the size as messages name it; empty: "N points"
+};
+
+// Throws what the job would throw for its options on an input of this size, the memory
+// guard included, for a caller that knows the size before it has the points (demo).
+void check_job_options(const GlobalOptions& g, const EmbedArgs& args, const JobSize& size);
+inline void check_job_options(const GlobalOptions& g, const EmbedArgs& args, std::size_t rows,
+                              std::size_t cols) {
+  check_job_options(g, args, JobSize{.points = rows, .columns = cols});
+}
+
+// The memory guard alone (apps/memory_guard.hpp), for a caller that knows the size before
+// reading (a point file's metadata): ResourceError (exit 69) when the run's estimated peak
+// is over --max-memory or the system's ceiling.
+void check_job_memory(const GlobalOptions& g, const EmbedArgs& args, const JobSize& size);
 
 // Where the job's outputs sit in the run's output set.
 struct JobOutputs {

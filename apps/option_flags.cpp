@@ -44,6 +44,8 @@ constexpr std::array kTable{
     FieldFlag{"LinearOptions.dims", "", "--dims"},
     FieldFlag{"EmbedOptions.order", "", "--node-order"},
     FieldFlag{"EmbedOptions.keep_geodesics", "", "--keep-geodesics"},
+    FieldFlag{"MemoryShape.points", "", ""},
+    FieldFlag{"MemoryShape.threads", "", "--threads"},
     // engine/: the scores (the neighbourhood sizes are --score-k: --k is the graph's)
     FieldFlag{"QualityOptions.ks", "", "--score-k"},
     FieldFlag{"QualityOptions.method", "", "--score-method"},

@@ -1,7 +1,6 @@
 #include "apps/run_info.hpp"
 
 #include <sys/resource.h>
-#include <unistd.h>
 
 #include <chrono>
 #include <ctime>
@@ -43,13 +42,6 @@ nlohmann::json point_input_identity(const std::filesystem::path& file,
                                        std::chrono::file_clock::to_sys(modified).time_since_epoch())
                                        .count();
   return identity;
-}
-
-std::uint64_t default_memory_limit() {
-  const long pages = sysconf(_SC_PHYS_PAGES);
-  const long page = sysconf(_SC_PAGE_SIZE);
-  if (pages <= 0 || page <= 0) return std::uint64_t{16} << 30;
-  return static_cast<std::uint64_t>(pages) * static_cast<std::uint64_t>(page) / 5 * 4;
 }
 
 namespace {

@@ -367,18 +367,32 @@ SpectralResult exact_mds(const DistanceRows& all_rows, const SpectralOptions& op
   return out;
 }
 
+std::size_t spectral_solver_bytes(std::size_t n, const SpectralOptions& options) {
+  if (n <= options.dense_limit) return 3 * n * n * sizeof(double);
+  // The sizes iterative_top and absolute_trace allocate (engine/detail/eigen_top.hpp,
+  // engine/detail/absolute_trace.hpp).
+  const std::size_t m = options.dims;
+  const std::size_t end = std::max(m, options.deflate);
+  const bool both = options.negative_end && 2 * end < n;
+  const std::size_t wanted = both ? 2 * end : m;
+  const std::size_t ncv = detail::krylov_size(n, m, options.krylov);
+  const std::size_t basis = both ? std::max(ncv, std::min(n, 2 * wanted + 1)) : ncv;
+  // Basis and residual, then eigenvectors(), its copy and the kept pairs.
+  const std::size_t lanczos = (basis + 1 + 3 * wanted) * n * sizeof(double);
+  const std::size_t p = options.probes;
+  const std::size_t steps = std::min(options.quadrature, n > wanted ? n - wanted : 0);
+  const std::size_t mass = (p * steps) * n * sizeof(float) +  // the probes' Lanczos vectors
+                           (3 * p + wanted + m) * n * sizeof(double);  // z, current, w; pairs
+  return std::max(lanczos, mass) + detail::CentredSquaredOperator::work_bytes(n, p);
+}
+
 std::size_t exact_mode_bytes(std::size_t n, const SpectralOptions& options) {
   const std::size_t m = options.dims;
-  const std::size_t ncv = detail::krylov_size(n, m, options.krylov);
   const std::size_t rows = n * n * sizeof(float);
-  const std::size_t solver = n <= options.dense_limit
-                                 ? 3 * n * n * sizeof(double)  // B, eigenvectors, workspace
-                                 : detail::CentredSquaredOperator::work_bytes(n, options.probes) +
-                                       2 * n * ncv * sizeof(double);  // Lanczos basis, vectors
   const std::size_t output = n * m * (sizeof(float) + sizeof(double));
   const std::size_t dijkstra =  // per thread: distance array and a heap of about 2 entries per node
       static_cast<std::size_t>(omp_get_max_threads()) * n * (sizeof(double) + 32);
-  return rows + solver + output + dijkstra;
+  return rows + spectral_solver_bytes(n, options) + output + dijkstra;
 }
 
 }  // namespace unfurl

@@ -123,8 +123,18 @@ std::vector<double> landmark_mean_squared(const DistanceRows& landmark_rows);
 SpectralResult exact_mds(const DistanceRows& all_rows, const SpectralOptions& options,
                          StopToken stop = {});
 
-// Peak bytes of exact mode on n nodes: the N x N float32 rows, the operator's work buffers,
-// the Lanczos basis and the output; the caller refuses jobs beyond its memory with this figure.
+// Bytes the eigen solver holds besides the rows for B of this order (L, or N in exact mode).
+// Dense (order <= dense_limit): B, its eigenvectors and Eigen's workspace, 3 order^2 doubles.
+// Lanczos: the larger of Spectra's phase (a basis of max(krylov, 2 w + 1) vectors plus the
+// residual, w = 2 max(dims, deflate) pairs wanted at both ends, the Ritz vectors three
+// times) and the mass estimate's phase (probes x quadrature float32 vectors, three blocks of
+// probes doubles, the w computed pairs), plus the operator's buffers
+// (CentredSquaredOperator::work_bytes for `probes` vectors).
+std::size_t spectral_solver_bytes(std::size_t order, const SpectralOptions& options = {});
+
+// Peak bytes of exact mode on n nodes: the N x N float32 rows, spectral_solver_bytes, the
+// Dijkstra workspaces of every thread and the output (an upper bound: the workspaces are
+// gone by the solver's turn).
 std::size_t exact_mode_bytes(std::size_t n, const SpectralOptions& options = {});
 
 }  // namespace unfurl
