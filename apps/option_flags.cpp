@@ -64,6 +64,13 @@ constexpr std::array kTable{
     FieldFlag{"PlaceOptions.worst", "", ""},
     FieldFlag{"PlaceOptions.typical_sample", "", ""},
     FieldFlag{"PlaceOptions.typical_distance", "", ""},
+    // engine/: the neighbourhood sweep (sweep)
+    FieldFlag{"SweepOptions.dims_low", "", "--dims"},
+    FieldFlag{"SweepOptions.dims_high", "", "--dims"},
+    FieldFlag{"SweepOptions.score_dims", "", "--score-dims"},
+    FieldFlag{"SweepOptions.jump_rise", "", ""},
+    FieldFlag{"SweepOptions.trust_drop", "", ""},
+    FieldFlag{"SweepOptions.near_best", "", ""},
     // io/: point files
     FieldFlag{"PointReadOptions.dataset", "", "--dataset"},
     FieldFlag{"PointReadOptions.rows", "", "--rows"},
