@@ -124,8 +124,9 @@ SweepOptions sweep_options(const GlobalOptions& g, const SweepArgs& a, std::size
   o.order = map.order;
   AssessOptions assess = to_assess_options(a.score, g.seed);
   adapt_score_k(a.score, points, assess);
+  const std::size_t exact_limit = o.scores.exact_limit;  // the sweep's own (engine/sweep.hpp)
   o.scores = assess.neighbourhoods;
-  o.residual.seed = g.seed;
+  o.scores.exact_limit = exact_limit;
   return o;
 }
 

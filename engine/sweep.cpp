@@ -159,16 +159,16 @@ void embed_setting(const PointSet& points, NodeGraph nodes, const SweepOptions& 
   append_warnings(row.warnings, "spectral", map.summary.warnings);
   row.negative_ratio = map.negative_ratio;
   row.negative_ratio_error = map.mass.ratio_error();
+  // Residual variance over the pairs of every node with the landmarks: no more geodesics
+  // than the map needed, and the same source nodes in every setting that shares them.
+  const ResidualVarianceCurve rv = residual_variance(sources.rows, map.coords, stop);
+  append_warnings(row.warnings, "residual variance", rv.warnings);
   const std::vector<NodeId> landmark_nodes = sources.rows.sources;
   sources.rows = DistanceRows{};
-
-  const ResidualVarianceCurve rv = graph_residual_variance(ordered.graph, map.coords, o.residual,
-                                                           order.new_of_old.values(), stop);
-  append_warnings(row.warnings, "residual variance", rv.warnings);
   row.residual = rv.by_dims;
   row.residual_error = rv.standard_error;
   row.residual_error.resize(row.residual.size(), 0.0);
-  row.residual_basis = "graph geodesics";
+  row.residual_basis = "geodesics from the landmarks";
   row.suspects = short_circuit_suspects(ordered.graph, stop);
 
   const Numbering ordered_of_point =
@@ -197,7 +197,7 @@ SweepRow linear_row(const PointSet& points, const SweepOptions& o, StopToken sto
   lo.dims = std::min(o.dims_high, points.cols);
   LinearResult lin = linear_map(points, lo, stop);
   PairSampleOptions pairs_options;
-  pairs_options.seed = o.residual.seed;
+  pairs_options.seed = o.landmarks.seed;
   const auto pairs = sample_pair_distances(points, pairs_options);
   const ResidualVarianceCurve rv = residual_variance(pairs, lin.coords, stop);
   row.residual.assign(o.dims_high, kNaN);
@@ -358,7 +358,6 @@ void SweepOptions::validate(std::size_t points) const {
     throw OptionError("QualityOptions.ks",
                       "the sweep evaluates one k, got " + std::to_string(scores.ks.size()));
   scores.validate(points);
-  residual.validate();
   const bool exact = std::holds_alternative<AllLandmarks>(landmarks.count);
   const std::size_t order = exact ? points : landmarks.resolved_count(points, dims_high);
   if (!exact) {

@@ -11,8 +11,11 @@
 // says so (SweepRow::shared_landmarks false). Exact mode (AllLandmarks) has nothing to share.
 //
 // Per setting (SweepRow): components and edges of the graph, the map (engine/embedding_steps)
-// with the largest dims of the range, residual variance for every dims of the range (pairs of
-// the graph's own geodesics, engine/quality_residual.hpp), T(k) and C(k) at the one evaluation
+// with the largest dims of the range, residual variance for every dims of the range (over the
+// pairs of every node with the landmarks, whose geodesic rows the map was made from: no extra
+// shortest paths, and the same source nodes in every setting that shares the landmarks; embed's
+// own curve uses 256 random sources instead, so its values differ a little), T(k) and C(k) at
+// the one evaluation
 // k with their intervals and kNN preservation on the first score_dims axes
 // (engine/quality.hpp), the non-Euclidean ratio of the spectrum, and the short-circuit
 // suspects. Plus one row for the linear baseline (PCA) scored the same way, its residual
@@ -50,13 +53,14 @@ struct SweepOptions {
                                          NearestK{25}, NearestK{30}, NearestK{35}, NearestK{40}};
   // mutual, search back end, duplicates; its neighbourhood is ignored (the settings rule).
   GraphOptions graph;
-  ComponentOptions components;          // fail: a disconnected setting is listed, not embedded
-  std::size_t dims_low = 1;             // residual variance over dims_low..dims_high axes;
-  std::size_t dims_high = 6;            // the maps have dims_high axes
-  std::size_t score_dims = 2;           // T, C and the flags on the first score_dims axes
-  QualityOptions scores;                // its ks: the one evaluation k (default 12)
+  ComponentOptions components;  // fail: a disconnected setting is listed, not embedded
+  std::size_t dims_low = 1;     // residual variance over dims_low..dims_high axes;
+  std::size_t dims_high = 6;    // the maps have dims_high axes
+  std::size_t score_dims = 2;   // T, C and the flags on the first score_dims axes
+  // Its ks: the one evaluation k (default 12). Every setting is scored, so exactly up to
+  // 10,000 points only (embed: 50,000), sampled beyond.
+  QualityOptions scores = {.ks = {12}, .exact_limit = 10000};
   LandmarkOptions landmarks;            // count (automatic: for dims_high axes), pick rule, seed
-  ResidualOptions residual;             // the graph's own geodesic pairs (sources, seed)
   SpectralOptions spectral;             // eigen solver; its dims is dims_high
   NodeOrder order = NodeOrder::morton;  // node order of the shortest-path stage
   bool linear_baseline = true;          // add the PCA row
@@ -87,7 +91,7 @@ struct SweepRow {
   bool shared_landmarks = false;  // the landmarks picked at the largest setting
   // Residual variance for dims_low..dims_high axes (index d - dims_low) and its standard error.
   std::vector<double> residual, residual_error;
-  std::string residual_basis;  // "graph geodesics" or "input distances" (PCA row)
+  std::string residual_basis;  // "geodesics from the landmarks", or "input distances" (PCA)
   NeighbourhoodScore score;    // at the evaluation k, on score_dims axes (terms cleared)
   double negative_ratio = 0, negative_ratio_error = 0;
   std::optional<std::size_t> suspects;  // short-circuit suspects; absent: not checked
