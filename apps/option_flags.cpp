@@ -44,6 +44,9 @@ constexpr std::array kTable{
     FieldFlag{"LinearOptions.dims", "", "--dims"},
     FieldFlag{"EmbedOptions.order", "", "--node-order"},
     FieldFlag{"EmbedOptions.keep_geodesics", "", "--keep-geodesics"},
+    FieldFlag{"ShortCircuitOptions.length_factor", "", ""},
+    FieldFlag{"ShortCircuitOptions.detour_factor", "", ""},
+    FieldFlag{"ShortCircuitOptions.max_settled", "", ""},
     // engine/: the scores (the neighbourhood sizes are --score-k: --k is the graph's)
     FieldFlag{"QualityOptions.ks", "", "--score-k"},
     FieldFlag{"QualityOptions.method", "", "--score-method"},

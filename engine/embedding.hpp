@@ -22,6 +22,7 @@
 #include "engine/neighbours.hpp"
 #include "engine/quality_residual.hpp"
 #include "engine/reorder.hpp"
+#include "engine/short_circuit.hpp"
 #include "engine/spectral.hpp"
 #include "engine/stop.hpp"
 
@@ -41,13 +42,17 @@ struct EmbedOptions {
   // Node order for the shortest-path stage (memory locality; results map back to input
   // order). morton and tree_leaves need points: for a given graph they fall back to bfs.
   NodeOrder order = NodeOrder::morton;
+  // Short-circuit suspects of the graph (engine/short_circuit.hpp), before the component
+  // choice; none: not checked.
+  std::optional<ShortCircuitOptions> short_circuits = ShortCircuitOptions{};
   // Throws OptionError naming the field; `points` is the number of input points.
   void validate(std::size_t points) const;
   bool exact() const { return std::holds_alternative<AllLandmarks>(landmarks.count); }
 };
 
 struct StageSeconds {
-  double graph = 0, components = 0, order = 0, geodesics = 0, spectral = 0, total = 0;
+  double graph = 0, short_circuits = 0, components = 0, order = 0, geodesics = 0, spectral = 0,
+         total = 0;
 };
 
 struct EmbedResult {
@@ -67,6 +72,8 @@ struct EmbedResult {
   std::optional<IntrinsicDimension> dimension;    // from the graph stage's kNN lists, if any
   ComponentSummary components;
   std::vector<BridgeEdge> bridges;  // as input points (from, to), when bridged
+  // With options.short_circuits: the suspects, endpoints as input points (representatives).
+  std::optional<ShortCircuitResult> short_circuits;
   LandmarkSummary landmarks;
   SpectralSummary spectral;
   NodeOrder order = NodeOrder::input;  // the node order the geodesics ran in
