@@ -158,7 +158,7 @@ void run_sweep(const GlobalOptions& g, SweepArgs& a, const CLI::App& cmd) {
   const SweepResult r = sweep_neighbourhoods(in.points, options, stop_token());
   say(g, sweep_table(r, options));
   say(g, fmt::format("search {:.2f} s, whole sweep {:.2f} s; land * : landmarks of its own "
-                     "(the setting drops a node holding a shared one); susp n/c: not checked",
+                     "(the setting drops a node holding a shared one)",
                      r.search_seconds, r.seconds));
   // No usable setting: the table above says why per row; nothing is written.
   if (!r.usable) throw DataError(a.input.file + ": " + r.recommendation);

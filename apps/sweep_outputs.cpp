@@ -95,6 +95,7 @@ json row_json(const SweepRow& row, const SweepOptions& o) {
     j["negative_ratio"] = {{"value", number_or_null(row.negative_ratio)},
                            {"standard_error", number_or_null(row.negative_ratio_error)}};
     j["short_circuit_suspects"] = row.suspects ? json(*row.suspects) : json("not checked");
+    j["worst_suspect_rows"] = row.suspect_rows;
     j["flags"] = row.flags;
   }
   return j;

@@ -57,14 +57,6 @@ void append_warnings(std::vector<std::string>& to, const char* stage,
   for (const auto& w : from) to.push_back(std::string(stage) + ": " + w);
 }
 
-// SEAM, short-circuit suspects: the detector is engine/short_circuit.hpp of the suspects
-// work, not merged here yet. Until it is, every row says "not checked" (no value) and the
-// recommendation says so. Replace this body with a call to that detector; never a second one.
-std::optional<std::size_t> short_circuit_suspects(const NeighbourGraph& /*ordered*/,
-                                                  StopToken /*stop*/) {
-  return std::nullopt;
-}
-
 // T, C and kNN preservation of `map` (rows: the input rows `rows` of `points`) at the one
 // evaluation k; NaN when the map has too few points for that k.
 void score_map(const PointSet& points, std::span<const std::size_t> rows, const PointSet& map,
@@ -92,6 +84,12 @@ void score_map(const PointSet& points, std::span<const std::size_t> rows, const 
 // nodes) of the largest embedded setting, empty until one was picked.
 void embed_setting(const PointSet& points, NodeGraph nodes, const SweepOptions& o,
                    std::vector<NodeId>& shared, SweepRow& row, StopToken stop) {
+  // Short circuits on the graph as built, as embed checks them (engine/short_circuit.hpp).
+  ShortCircuitResult circuits = find_short_circuits(nodes.graph, o.suspects, stop);
+  append_warnings(row.warnings, "short circuits", circuits.summary.warnings);
+  row.suspects = circuits.summary.suspects;
+  for (const ShortCircuitEdge& e : circuits.worst)
+    row.suspect_rows.emplace_back(nodes.point_of_node[e.from], nodes.point_of_node[e.to]);
   const ComponentLabels labels = connected_components(nodes.graph);
   row.components = labels.count;
   row.largest_component =
@@ -169,7 +167,6 @@ void embed_setting(const PointSet& points, NodeGraph nodes, const SweepOptions& 
   row.residual_error = rv.standard_error;
   row.residual_error.resize(row.residual.size(), 0.0);
   row.residual_basis = "geodesics from the landmarks";
-  row.suspects = short_circuit_suspects(ordered.graph, stop);
 
   const Numbering ordered_of_point =
       nodes.node_of_point.then(connected_of_node).then(order.new_of_old);
@@ -367,6 +364,7 @@ void SweepOptions::validate(std::size_t points) const {
                         "must be at least " + std::to_string(dims_high + 1) + " for maps of " +
                             std::to_string(dims_high) + " axes, got " + std::to_string(order));
   }
+  suspects.validate();
   SpectralOptions s = spectral;
   s.dims = dims_high;
   s.validate(order);

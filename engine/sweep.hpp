@@ -10,16 +10,16 @@
 // under ComponentPolicy::largest), it picks its own with the same rule and seed and its row
 // says so (SweepRow::shared_landmarks false). Exact mode (AllLandmarks) has nothing to share.
 //
-// Per setting (SweepRow): components and edges of the graph, the map (engine/embedding_steps)
-// with the largest dims of the range, residual variance for every dims of the range (over the
-// pairs of every node with the landmarks, whose geodesic rows the map was made from: no extra
-// shortest paths, and the same source nodes in every setting that shares the landmarks; embed's
-// own curve uses 256 random sources instead, so its values differ a little), T(k) and C(k) at
-// the one evaluation
-// k with their intervals and kNN preservation on the first score_dims axes
-// (engine/quality.hpp), the non-Euclidean ratio of the spectrum, and the short-circuit
-// suspects. Plus one row for the linear baseline (PCA) scored the same way, its residual
-// variance against the input distances (it has no graph).
+// Per setting (SweepRow): components and edges of the graph, the short-circuit suspects of
+// the graph as built (engine/short_circuit.hpp, as embed checks them), the map
+// (engine/embedding_steps) with the largest dims of the range, residual variance for every
+// dims of the range, T(k) and C(k) at the one evaluation k with their intervals and kNN
+// preservation on the first score_dims axes (engine/quality.hpp), and the non-Euclidean
+// ratio of the spectrum. The residual variance is over the pairs of every node with the
+// landmarks, whose geodesic rows the map was made from: no extra shortest paths, and the
+// same source nodes in every setting that shares the landmarks (embed's own curve uses 256
+// random sources instead, so its values differ a little). Plus one row for the linear
+// baseline (PCA) scored the same way, its residual variance against the input distances.
 //
 // Flags and recommendation (the README states the rule): a setting is flagged when its
 // residual variance at score_dims rises by more than jump_rise over the previous embedded
@@ -33,6 +33,7 @@
 #include <cstddef>
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "engine/components.hpp"
@@ -41,6 +42,7 @@
 #include "engine/quality.hpp"
 #include "engine/quality_residual.hpp"
 #include "engine/reorder.hpp"
+#include "engine/short_circuit.hpp"
 #include "engine/spectral.hpp"
 #include "engine/stop.hpp"
 
@@ -63,6 +65,7 @@ struct SweepOptions {
   LandmarkOptions landmarks;            // count (automatic: for dims_high axes), pick rule, seed
   SpectralOptions spectral;             // eigen solver; its dims is dims_high
   NodeOrder order = NodeOrder::morton;  // node order of the shortest-path stage
+  ShortCircuitOptions suspects;         // the short-circuit check of every setting's graph
   bool linear_baseline = true;          // add the PCA row
   double jump_rise = 0.05;   // residual variance rise that flags a setting (common practice,
                              // no source: well above the sampling error of 256 sources)
@@ -95,9 +98,11 @@ struct SweepRow {
   NeighbourhoodScore score;    // at the evaluation k, on score_dims axes (terms cleared)
   double negative_ratio = 0, negative_ratio_error = 0;
   std::optional<std::size_t> suspects;  // short-circuit suspects; absent: not checked
-  std::vector<std::string> flags;       // "residual variance jump", "trustworthiness drop"
-  PointSet map;                         // the first two axes (or one), map_points rows
-  std::vector<std::size_t> map_rows;    // input row of each map row
+  // The worst suspects (up to ShortCircuitOptions.worst) as pairs of input rows, worst first.
+  std::vector<std::pair<std::size_t, std::size_t>> suspect_rows;
+  std::vector<std::string> flags;     // "residual variance jump", "trustworthiness drop"
+  PointSet map;                       // the first two axes (or one), map_points rows
+  std::vector<std::size_t> map_rows;  // input row of each map row
   double seconds = 0;
   std::vector<std::string> warnings;
 };

@@ -44,6 +44,14 @@ check("sweep.csv: one row per setting and one for PCA",
 check("sweep.csv: residual variance columns rv_1..rv_3 and T with its interval",
       rows and all(c in rows[0] for c in ["rv_1", "rv_2", "rv_3", "t", "t_low", "t_high", "c"]))
 check("sweep.csv: exactly one row recommended", sum(x["recommended"] == "1" for x in rows) == 1)
+check("sweep.csv: every setting's graph was checked for short-circuit suspects",
+      all(x["suspects"].isdigit() for x in rows[:3]), f"{[x.get('suspects') for x in rows]}")
+# A short circuit makes the residual variance jump (Balasubramanian and Schwartz 2002): the
+# recommendation lies below the first flagged setting.
+flagged = [i for i, x in enumerate(rows[:3]) if x["flags"]]
+chosen = [i for i, x in enumerate(rows) if x["recommended"] == "1"]
+check("the recommended setting lies below the first flagged one",
+      chosen and (not flagged or chosen[0] < flagged[0]), f"flagged {flagged}, chosen {chosen}")
 
 # Each row's graph against scikit-learn's NearestNeighbors (the k-nearest lists, union
 # symmetrisation as the graph stage documents) and SciPy's connected_components.
