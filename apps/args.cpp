@@ -45,8 +45,10 @@ void old_spelling_notice(const std::string& command, const std::string& old_name
              false);
 }
 
-void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
-  // Each fills the one neighbourhood choice; CLI11 refuses the two together.
+namespace {
+
+// Each fills the one neighbourhood choice; CLI11 refuses the two together.
+void add_neighbourhood_options(CLI::App* cmd, GraphArgs& a) {
   CLI::Option* k = cmd->add_option_function<std::size_t>(
                           "--k",
                           [&a](const std::size_t& k) {
@@ -65,6 +67,12 @@ void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components) {
          "Join points closer than or at this Euclidean distance instead (data units)")
       ->check(non_negative_number(true))
       ->excludes(k);
+}
+
+}  // namespace
+
+void add_graph_options(CLI::App* cmd, GraphArgs& a, bool with_components, bool with_neighbourhood) {
+  if (with_neighbourhood) add_neighbourhood_options(cmd, a);
   cmd->add_flag("--mutual", a.mutual, "Keep an edge only when both points list each other");
   cmd->add_option("--search", a.search, "Exact search back end")
       ->check(CLI::IsMember({"automatic", "tree", "scan"}))
@@ -117,10 +125,11 @@ std::optional<LandmarkChoice> landmark_choice(const std::string& text) {
 
 }  // namespace
 
-void add_map_options(CLI::App* cmd, MapArgs& a) {
-  cmd->add_option("--dims", a.dims, "Dimensions of the map")
-      ->transform(whole_number(0, max_count))
-      ->capture_default_str();
+void add_map_options(CLI::App* cmd, MapArgs& a, bool one_map) {
+  if (one_map)
+    cmd->add_option("--dims", a.dims, "Dimensions of the map")
+        ->transform(whole_number(0, max_count))
+        ->capture_default_str();
   cmd->add_option_function<std::string>(
          "--landmarks", [&a](const std::string& text) { a.landmarks = *landmark_choice(text); },
          "Landmark count, 'auto' (min(N, max(dims + 1, 256))) or 'all' (exact mode: "
@@ -136,8 +145,9 @@ void add_map_options(CLI::App* cmd, MapArgs& a) {
   cmd->add_option("--pick", a.pick, "How landmarks are chosen")
       ->check(CLI::IsMember({"maxmin", "random"}))
       ->capture_default_str();
-  cmd->add_flag("--keep-geodesics", a.keep_geodesics,
-                "Store the landmark geodesic rows (L x N float32) in the map");
+  if (one_map)
+    cmd->add_flag("--keep-geodesics", a.keep_geodesics,
+                  "Store the landmark geodesic rows (L x N float32) in the map");
   cmd->add_option("--node-order", a.node_order,
                   "Node numbering for the shortest-path stage, for memory locality (it also "
                   "decides which node the seed makes the first landmark)")

@@ -39,8 +39,10 @@ struct GraphArgs {
   bool keep_duplicates = false;
   std::string disconnected = "fail";
 };
-// with_components: also --disconnected (commands that embed).
-void add_graph_options(CLI::App* cmd, GraphArgs& args, bool with_components = true);
+// with_components: also --disconnected (commands that embed); with_neighbourhood: --k and
+// --radius as one value each (sweep reads them as lists of settings itself).
+void add_graph_options(CLI::App* cmd, GraphArgs& args, bool with_components = true,
+                       bool with_neighbourhood = true);
 GraphOptions to_graph_options(const GraphArgs& args);
 ComponentOptions to_component_options(const GraphArgs& args);
 // The neighbourhood as map and graph files record it: {"k": K} or {"radius": R}, only the
@@ -55,7 +57,9 @@ struct MapArgs {
   bool keep_geodesics = false;
   std::string node_order = "morton";
 };
-void add_map_options(CLI::App* cmd, MapArgs& args);
+// one_map: also --dims (one count) and --keep-geodesics (sweep reads a dims range itself and
+// keeps no geodesics).
+void add_map_options(CLI::App* cmd, MapArgs& args, bool one_map = true);
 void apply_map_options(const MapArgs& args, std::uint64_t seed, EmbedOptions& options);
 
 // Quality scores.

@@ -40,5 +40,6 @@ void add_graph_command(CLI::App& app, GlobalOptions& g);
 void add_place_command(CLI::App& app, GlobalOptions& g);
 void add_score_command(CLI::App& app, GlobalOptions& g);
 void add_plot_command(CLI::App& app, GlobalOptions& g);
+void add_sweep_command(CLI::App& app, GlobalOptions& g);
 
 }  // namespace unfurl::app

@@ -7,6 +7,7 @@
 #include "apps/report.hpp"
 #include "apps/run_info.hpp"
 #include "apps/run_record.hpp"
+#include "apps/short_circuit_report.hpp"
 #include "engine/error.hpp"
 #include "engine/linear.hpp"
 #include "engine/placement.hpp"
@@ -247,6 +248,7 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
       map.quality = quality_record(scores);
     }
   }
+  report_short_circuits(g, result, in.rows, report, map);
   if (!a.linear) map.graph = graph_record(result, in.rows);
   if (!in.centres.empty()) map.input.centres = in.centres;
   map.input.dropped_nonfinite_rows = in.dropped_rows;

@@ -129,6 +129,7 @@ int main(int argc, char** argv) {
   app::add_place_command(cli, g);
   app::add_plot_command(cli, g);
   app::add_score_command(cli, g);
+  app::add_sweep_command(cli, g);
 
   try {
     cli.parse(argc, argv);

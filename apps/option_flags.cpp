@@ -46,6 +46,9 @@ constexpr std::array kTable{
     FieldFlag{"EmbedOptions.keep_geodesics", "", "--keep-geodesics"},
     FieldFlag{"MemoryShape.points", "", ""},
     FieldFlag{"MemoryShape.threads", "", "--threads"},
+    FieldFlag{"ShortCircuitOptions.length_factor", "", ""},
+    FieldFlag{"ShortCircuitOptions.detour_factor", "", ""},
+    FieldFlag{"ShortCircuitOptions.max_settled", "", ""},
     // engine/: the scores (the neighbourhood sizes are --score-k: --k is the graph's)
     FieldFlag{"QualityOptions.ks", "", "--score-k"},
     FieldFlag{"QualityOptions.method", "", "--score-method"},
@@ -67,6 +70,13 @@ constexpr std::array kTable{
     FieldFlag{"PlaceOptions.worst", "", ""},
     FieldFlag{"PlaceOptions.typical_sample", "", ""},
     FieldFlag{"PlaceOptions.typical_distance", "", ""},
+    // engine/: the neighbourhood sweep (sweep)
+    FieldFlag{"SweepOptions.dims_low", "", "--dims"},
+    FieldFlag{"SweepOptions.dims_high", "", "--dims"},
+    FieldFlag{"SweepOptions.score_dims", "", "--score-dims"},
+    FieldFlag{"SweepOptions.jump_rise", "", ""},
+    FieldFlag{"SweepOptions.trust_drop", "", ""},
+    FieldFlag{"SweepOptions.near_best", "", ""},
     // io/: point files
     FieldFlag{"PointReadOptions.dataset", "", "--dataset"},
     FieldFlag{"PointReadOptions.rows", "", "--rows"},

@@ -78,6 +78,13 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
                         const Numbering& point_of_node, const PointSet& node_points,
                         const EmbedOptions& options, StopToken stop, StepStore* store,
                         EmbedResult result, const Stopwatch& total) {
+  if (options.short_circuits) {
+    const ProgressStep step = stop.step("short circuits", 0);
+    result.short_circuits = find_short_circuits(graph, *options.short_circuits, stop);
+    result.seconds.short_circuits = result.short_circuits->summary.seconds;
+    for (ShortCircuitEdge& e : result.short_circuits->worst)
+      e.from = point_of_node[e.from], e.to = point_of_node[e.to];
+  }
   Stopwatch watch;
   ComponentResult connected = [&] {
     const ProgressStep step = stop.step("components", 0);
@@ -156,6 +163,7 @@ void EmbedOptions::validate(std::size_t points) const {
     throw DataError("the input has " + std::to_string(points) +
                     " points; an embedding needs at least 3");
   components.validate();
+  if (short_circuits) short_circuits->validate();
   if (residual) residual->validate();
   if (exact()) return;
   landmark_count(*this, points);  // the stage checks again against the graph's nodes

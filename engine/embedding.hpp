@@ -22,6 +22,7 @@
 #include "engine/neighbours.hpp"
 #include "engine/quality_residual.hpp"
 #include "engine/reorder.hpp"
+#include "engine/short_circuit.hpp"
 #include "engine/spectral.hpp"
 #include "engine/stop.hpp"
 
@@ -43,6 +44,9 @@ struct EmbedOptions {
   // Node order for the shortest-path stage (memory locality; results map back to input
   // order). morton and tree_leaves need points: for a given graph they fall back to bfs.
   NodeOrder order = NodeOrder::morton;
+  // Short-circuit suspects of the graph (engine/short_circuit.hpp), before the component
+  // choice; none: not checked.
+  std::optional<ShortCircuitOptions> short_circuits = ShortCircuitOptions{};
   // Throws OptionError naming the field; `points` is the number of input points.
   void validate(std::size_t points) const;
   bool exact() const { return std::holds_alternative<AllLandmarks>(landmarks.count); }
@@ -50,7 +54,7 @@ struct EmbedOptions {
 
 // Wall seconds of each step; total also holds what no step names (validation, moves).
 struct StageSeconds {
-  double graph = 0, components = 0, order = 0, geodesics = 0, spectral = 0;
+  double graph = 0, short_circuits = 0, components = 0, order = 0, geodesics = 0, spectral = 0;
   double residual = 0;  // geodesic rows of the residual variance score (options.residual)
   double map_back = 0;  // coordinates and geodesic rows back to input rows
   double total = 0;
@@ -73,6 +77,8 @@ struct EmbedResult {
   std::optional<IntrinsicDimension> dimension;    // from the graph stage's kNN lists, if any
   ComponentSummary components;
   std::vector<BridgeEdge> bridges;  // as input points (from, to), when bridged
+  // With options.short_circuits: the suspects, endpoints as input points (representatives).
+  std::optional<ShortCircuitResult> short_circuits;
   LandmarkSummary landmarks;
   SpectralSummary spectral;
   NodeOrder order = NodeOrder::input;  // the node order the geodesics ran in

@@ -8,7 +8,10 @@
 namespace unfurl {
 
 NodeGraph node_graph(const PointSet& points, const GraphOptions& options, StopToken stop) {
-  GraphResult built = build_neighbour_graph(points, options, stop);
+  return node_graph(points, build_neighbour_graph(points, options, stop));
+}
+
+NodeGraph node_graph(const PointSet& points, GraphResult built) {
   NodeGraph out;
   const std::size_t nodes = built.point_of_node.size();
   out.node_of_point = Numbering(std::move(built.node_of_point), nodes);

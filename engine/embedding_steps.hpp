@@ -39,6 +39,9 @@ struct NodeGraph {
   GraphSummary summary;
 };
 NodeGraph node_graph(const PointSet& points, const GraphOptions& options, StopToken stop = {});
+// The same from a graph already built over `points` (a graph of a kept search:
+// engine/neighbours.hpp graph_from_search).
+NodeGraph node_graph(const PointSet& points, GraphResult built);
 
 // Connected graph -> the same graph in memory order (engine/reorder.hpp).
 struct NodeOrderOptions {

@@ -62,15 +62,17 @@ float length_of(double squared) {
 }
 
 // i~j in the union graph when either lists the other; in the mutual graph when both do.
-std::vector<Edge> knn_edges(const std::vector<Neighbour>& lists, std::size_t nodes, std::size_t k,
-                            bool mutual) {
+// Node i's list starts at lists[i * stride] (stride >= k: lists of a larger search, whose
+// first k entries are the k nearest).
+std::vector<Edge> knn_edges(const std::vector<Neighbour>& lists, std::size_t stride,
+                            std::size_t nodes, std::size_t k, bool mutual) {
   std::vector<Edge> edges;
   edges.reserve(nodes * k);
   for (std::size_t i = 0; i < nodes; ++i)
     for (std::size_t a = 0; a < k; ++a) {
-      const Neighbour& n = lists[i * k + a];
+      const Neighbour& n = lists[i * stride + a];
       if (mutual) {
-        const auto* other = &lists[static_cast<std::size_t>(n.index) * k];
+        const auto* other = &lists[static_cast<std::size_t>(n.index) * stride];
         const bool listed_back =
             std::any_of(other, other + k, [i](const Neighbour& m) { return m.index == i; });
         if (!listed_back || n.index < i) continue;  // keep each mutual pair once
@@ -209,19 +211,45 @@ KnnResult exact_knn(const PointSet& data, const PointSet& queries, const KnnOpti
   return r;
 }
 
-GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& options,
-                                  StopToken stop) {
+namespace detail {
+struct SearchLists {
+  GraphOptions options;  // as searched
+  std::size_t points = 0;
+  DuplicateGroups dup;
+  Search search_used = Search::tree;
+  std::size_t k = 0;           // k-nearest: entries per node in `knn`
+  std::vector<Neighbour> knn;  // nodes x k, closer() order
+  RadiusLists within;          // radius: per node, by index
+  double seconds = 0.0;
+};
+}  // namespace detail
+
+const GraphOptions& NeighbourSearch::options() const {
+  return lists_->options;
+}
+std::size_t NeighbourSearch::points() const {
+  return lists_->points;
+}
+std::size_t NeighbourSearch::nodes() const {
+  return lists_->dup.point_of_node.size();
+}
+double NeighbourSearch::seconds() const {
+  return lists_->seconds;
+}
+
+namespace {
+
+std::shared_ptr<detail::SearchLists> run_search(const PointSet& points, const GraphOptions& options,
+                                                StopToken stop) {
   const auto started = std::chrono::steady_clock::now();
   options.validate(points.rows);
   if (points.cols == 0) throw DataError("points: no columns");
   require_finite(points, "points");
-  // Units: query rows searched, one per distinct point (fewer than the rows with copies).
-  const ProgressStep step = stop.step("graph", points.rows);
-  GraphResult result;
-  GraphSummary& s = result.summary;
-  auto dup = detail::find_duplicates(points, stop);
-  s.duplicate_groups = dup.groups_with_copies;
-  s.duplicate_rows = dup.extra_rows;
+  auto out = std::make_shared<detail::SearchLists>();
+  out->options = options;
+  out->points = points.rows;
+  out->dup = detail::find_duplicates(points, stop);
+  const auto& dup = out->dup;
   const std::size_t distinct = dup.point_of_node.size();
   const auto* within = std::get_if<WithinRadius>(&options.neighbourhood);
   const std::size_t k = within ? 0 : std::get<NearestK>(options.neighbourhood).k;
@@ -233,41 +261,100 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
   PointSet unique_rows;
   if (dup.extra_rows > 0) unique_rows = detail::select_rows(points, dup.point_of_node);
   const PointSet& nodes = dup.extra_rows > 0 ? unique_rows : points;
-  s.search_used = choose_search(options.search, nodes.rows, nodes.cols);
-
-  std::vector<Edge> edges;
+  out->search_used = choose_search(options.search, nodes.rows, nodes.cols);
+  const Search used = out->search_used;
   if (within) {
     const double radius = within->radius;
-    const auto lists =
-        s.search_used == Search::tree
-            ? detail::radius_tree(nodes, nodes, radius, true, stop)
-            : detail::radius_scan(nodes, nodes, radius, true, options.block_rows, stop);
-    for (std::size_t i = 0; i < lists.size(); ++i)
-      for (const Neighbour& n : lists[i])
-        if (n.index > i) edges.push_back({static_cast<NodeId>(i), n.index, length_of(n.squared)});
-    if (edges.empty() && nodes.rows > 1) {
-      const auto nearest =
-          knn_lists(nodes, nodes, 1, s.search_used, true, options.block_rows, stop);
+    out->within = used == Search::tree
+                      ? detail::radius_tree(nodes, nodes, radius, true, stop)
+                      : detail::radius_scan(nodes, nodes, radius, true, options.block_rows, stop);
+    const bool joined = std::any_of(out->within.begin(), out->within.end(),
+                                    [](const auto& list) { return !list.empty(); });
+    if (!joined && nodes.rows > 1) {
+      const auto nearest = knn_lists(nodes, nodes, 1, used, true, options.block_rows, stop);
       const auto closest = std::min_element(nearest.begin(), nearest.end(), detail::closer);
       throw DataError("WithinRadius.radius: no two points lie within " + std::to_string(radius) +
                       "; the closest pair is " + std::to_string(std::sqrt(closest->squared)) +
                       " apart");
     }
   } else {
-    const auto lists = knn_lists(nodes, nodes, k, s.search_used, true, options.block_rows, stop);
-    edges = knn_edges(lists, nodes.rows, k, options.mutual);
+    out->k = k;
+    out->knn = knn_lists(nodes, nodes, k, used, true, options.block_rows, stop);
+  }
+  out->seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  return out;
+}
+
+}  // namespace
+
+NeighbourSearch search_neighbours(const PointSet& points, const GraphOptions& options,
+                                  StopToken stop) {
+  const ProgressStep step = stop.step("graph", points.rows);
+  NeighbourSearch search;
+  search.lists_ = run_search(points, options, stop);
+  return search;
+}
+
+namespace {
+
+// The graph of `setting` from `kept`. `owned`: the same lists when the caller holds the only
+// copy; they are released once the edges are made, so the graph stage's peak stays lists or
+// CSR, never both (the 10M-point graph's lists alone are 1.6 GB).
+GraphResult derive_graph(const detail::SearchLists& kept, const Neighbourhood& setting,
+                         StopToken stop, detail::SearchLists* owned) {
+  const auto started = std::chrono::steady_clock::now();
+  const GraphOptions& options = kept.options;
+  const auto* within = std::get_if<WithinRadius>(&setting);
+  const auto* searched_within = std::get_if<WithinRadius>(&options.neighbourhood);
+  if (within) {
+    if (!searched_within)
+      throw OptionError("WithinRadius.radius", "the kept search is a k-nearest one");
+    if (!(within->radius > 0.0) || within->radius > searched_within->radius)
+      throw OptionError("WithinRadius.radius", "must be positive and at most the searched " +
+                                                   std::to_string(searched_within->radius) +
+                                                   ", got " + std::to_string(within->radius));
+  } else {
+    const std::size_t k = std::get<NearestK>(setting).k;
+    if (searched_within) throw OptionError("NearestK.k", "the kept search is a radius one");
+    if (k < 1 || k > kept.k)
+      throw OptionError("NearestK.k", "must be from 1 to the searched " + std::to_string(kept.k) +
+                                          ", got " + std::to_string(k));
+  }
+  stop.check("graph");
+  GraphResult result;
+  GraphSummary& s = result.summary;
+  const auto& dup = kept.dup;
+  s.duplicate_groups = dup.groups_with_copies;
+  s.duplicate_rows = dup.extra_rows;
+  s.search_used = kept.search_used;
+  const std::size_t nodes = dup.point_of_node.size();
+
+  std::vector<Edge> edges;
+  if (within) {
+    const double r2 = within->radius * within->radius;  // the searches' inclusive rule
+    for (std::size_t i = 0; i < kept.within.size(); ++i)
+      for (const Neighbour& n : kept.within[i])
+        if (n.index > i && n.squared <= r2)
+          edges.push_back({static_cast<NodeId>(i), n.index, length_of(n.squared)});
+  } else {
+    const std::size_t k = std::get<NearestK>(setting).k;
+    edges = knn_edges(kept.knn, kept.k, nodes, k, options.mutual);
     if (k >= 2) {
       try {
         // The distances as exact_knn rounds them, so a separate search gives the same value.
-        result.dimension = levina_bickel_lists(nodes.rows, k, [&](std::size_t i, std::size_t j) {
-          return static_cast<double>(length_of(lists[i * k + j].squared));
+        result.dimension = levina_bickel_lists(nodes, k, [&](std::size_t i, std::size_t j) {
+          return static_cast<double>(length_of(kept.knn[i * kept.k + j].squared));
         });
       } catch (const DataError& e) {
         s.warnings.push_back(std::string("no intrinsic dimension estimate: ") + e.what());
       }
     }
   }
-  NeighbourGraph merged = detail::symmetric_csr(nodes.rows, edges);
+  if (owned) {
+    owned->knn = {};
+    owned->within = {};
+  }
+  NeighbourGraph merged = detail::symmetric_csr(nodes, edges);
   edges = {};
 
   if (options.keep_duplicates && dup.extra_rows > 0) {
@@ -279,9 +366,9 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
       epsilon = positive.empty() ? 1e-6f : 1e-6f * quantile(positive, 0.5);
     }
     result.graph = attach_copies(merged, dup, epsilon);
-    result.node_of_point.resize(points.rows);
-    result.point_of_node.resize(points.rows);
-    for (std::size_t r = 0; r < points.rows; ++r) {
+    result.node_of_point.resize(kept.points);
+    result.point_of_node.resize(kept.points);
+    for (std::size_t r = 0; r < kept.points; ++r) {
       result.node_of_point[r] = static_cast<NodeId>(r);
       result.point_of_node[r] = r;
     }
@@ -290,8 +377,8 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
                          " groups); kept, joined by edges of length " + std::to_string(epsilon));
   } else {
     result.graph = std::move(merged);
-    result.node_of_point = std::move(dup.node_of_point);
-    result.point_of_node = std::move(dup.point_of_node);
+    result.node_of_point = dup.node_of_point;
+    result.point_of_node = dup.point_of_node;
     if (dup.extra_rows > 0)
       s.warnings.push_back(std::to_string(dup.extra_rows) + " rows repeat an earlier row (" +
                            std::to_string(dup.groups_with_copies) +
@@ -307,6 +394,25 @@ GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& op
                          " nodes have no edge (" +
                          (within ? "radius too small for them" : "mutual graph") + ")");
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  return result;
+}
+
+}  // namespace
+
+GraphResult graph_from_search(const NeighbourSearch& search, const Neighbourhood& setting,
+                              StopToken stop) {
+  return derive_graph(search.lists(), setting, stop, nullptr);
+}
+
+GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& options,
+                                  StopToken stop) {
+  const auto started = std::chrono::steady_clock::now();
+  // Units: query rows searched, one per distinct point (fewer than the rows with copies).
+  const ProgressStep step = stop.step("graph", points.rows);
+  auto lists = run_search(points, options, stop);
+  GraphResult result = derive_graph(*lists, options.neighbourhood, stop, lists.get());
+  result.summary.seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;
 }
 

@@ -9,6 +9,7 @@
 #pragma once
 
 #include <cstddef>
+#include <memory>
 #include <optional>
 #include <string>
 #include <variant>
@@ -95,6 +96,43 @@ struct GraphResult {
 // nodes short of that are a warning; components are the business of engine/components.hpp.
 GraphResult build_neighbour_graph(const PointSet& points, const GraphOptions& options,
                                   StopToken stop = {});
+
+// One exact search kept whole, so that the graphs of smaller settings of the same rule come
+// from its lists without searching again (engine/sweep.hpp): the k nearest of every distinct
+// point at the largest k, or every pair within the largest radius, with the exact squared
+// distances. Immutable and cheap to copy (the lists are shared).
+namespace detail {
+struct SearchLists;
+}
+class NeighbourSearch {
+ public:
+  const GraphOptions& options() const;  // as searched: the neighbourhood is the largest setting
+  std::size_t points() const;           // input rows
+  std::size_t nodes() const;            // distinct points (nodes of every graph derived)
+  double seconds() const;               // wall time of the search
+  const detail::SearchLists& lists() const { return *lists_; }
+
+ private:
+  friend NeighbourSearch search_neighbours(const PointSet&, const GraphOptions&, StopToken);
+  std::shared_ptr<const detail::SearchLists> lists_;
+};
+
+// The search of build_neighbour_graph at options.neighbourhood, with the same checks and
+// errors (bad options, non-finite values, too few distinct points, a radius joining no pair).
+NeighbourSearch search_neighbours(const PointSet& points, const GraphOptions& options,
+                                  StopToken stop = {});
+
+// The graph of `setting` from a kept search: the k-nearest lists cut to their first k (they
+// are ordered by distance, ties to the smaller index, so these are the k nearest), or the
+// radius lists cut at the radius (the same inclusive rule on the same exact squared
+// distances); then the symmetrisation (union or mutual), duplicate handling and summary of
+// build_neighbour_graph, which is this function applied to a search at its own setting. So
+// the graph equals a fresh build_neighbour_graph at `setting` edge for edge. `setting` must
+// be of the searched rule and no larger (OptionError naming NearestK.k or
+// WithinRadius.radius). A radius that joins no pair gives a graph without edges here (the
+// sweep reports it), not an error. The summary's seconds are this derivation's.
+GraphResult graph_from_search(const NeighbourSearch& search, const Neighbourhood& setting,
+                              StopToken stop = {});
 
 // The k nearest data rows of every query row, N_queries x k row-major, nearest first, ties
 // to the smaller index.

@@ -26,6 +26,12 @@
 //   /quality/intrinsic_dimension  scalar float64, attributes k, method, averaging, points,
 //                                 points_used
 //   /quality/axis_share      m float64      attributes basis, noise_axes, standard_error
+//   /quality/short_circuit_rows     S x 2 int64    input rows of each listed short-circuit
+//                                  suspect, worst first (engine/short_circuit.hpp); attributes
+//                                  suspects (all, listed or not), long_edges, undecided, edges,
+//                                  length_factor, detour_factor
+//   /quality/short_circuit_figures  S x 5 float64  length, scale_from, scale_to, detour
+//                                  (+inf: not found), detour_bound (+inf: no other path)
 //   /preprocess/centre, spread     d float64      attributes on each /preprocess dataset:
 //   /preprocess/pca_mean           d float64      scale, metric, components, variance_kept
 //   /preprocess/axes               p x d float64  (the last three when components p > 0)
@@ -135,11 +141,27 @@ struct MapAxisShareRecord {  // /quality/axis_share
   bool operator==(const MapAxisShareRecord&) const = default;
 };
 
+// /quality/short_circuit_*: the graph's short-circuit suspects (absent: not checked).
+struct MapShortCircuitRecord {
+  struct Suspect {
+    std::int64_t from_row = 0, to_row = 0;  // input rows
+    double length = 0, scale_from = 0, scale_to = 0;
+    double detour = 0;        // +inf: the search did not reach the other end
+    double detour_bound = 0;  // the detour is at least this; +inf: no other path
+    bool operator==(const Suspect&) const = default;
+  };
+  std::vector<Suspect> worst;  // worst first
+  std::int64_t suspects = 0, long_edges = 0, undecided = 0, edges = 0;
+  double length_factor = 0, detour_factor = 0;
+  bool operator==(const MapShortCircuitRecord&) const = default;
+};
+
 struct MapQualityRecord {
   std::vector<MapScoreRecord> by_k;  // ascending k when read
   std::optional<MapResidualRecord> residual;
   std::optional<MapDimensionRecord> dimension;
   std::optional<MapAxisShareRecord> axis_share;
+  std::optional<MapShortCircuitRecord> short_circuits;
   bool operator==(const MapQualityRecord&) const = default;
 };
 

@@ -79,6 +79,16 @@ inline std::vector<double> floyd_warshall(const NeighbourGraph& g) {
   return d;
 }
 
+// n x d points: standard normal values, or integers 0..3 (a grid with many ties and exact
+// duplicates).
+inline PointSet random_points(std::size_t n, std::size_t d, std::uint64_t seed, bool integer_grid) {
+  Random rng(seed);
+  PointSet p(n, d);
+  for (float& v : p.values)
+    v = integer_grid ? static_cast<float>(rng.below(4)) : static_cast<float>(rng.normal());
+  return p;
+}
+
 // Euclidean distances from the points `sources` to every point, as DistanceRows.
 inline DistanceRows euclidean_rows(const PointSet& p, const std::vector<NodeId>& sources) {
   DistanceRows r;

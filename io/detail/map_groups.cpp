@@ -232,6 +232,7 @@ void write_quality_group(H5Writer& out, const MapQualityRecord& q) {
          {"noise_axes", a.noise_axes},
          {"standard_error", a.standard_error}});
   }
+  if (q.short_circuits) write_short_circuits(out, *q.short_circuits);
 }
 
 MapQualityRecord read_quality_group(const H5Reader& in, std::int64_t version, std::size_t n,
@@ -314,6 +315,7 @@ MapQualityRecord read_quality_group(const H5Reader& in, std::int64_t version, st
     a.standard_error = list_attribute<double>(in, path, at, "standard_error");
     q.axis_share = std::move(a);
   }
+  q.short_circuits = read_short_circuits(in, known);
   return q;
 }
 

@@ -35,6 +35,11 @@ std::optional<MapPlacementRecord> read_placement_group(const H5Reader& in, std::
                                                        std::size_t n, std::size_t m, std::size_t l,
                                                        std::set<std::string>& known);
 
+// /quality/short_circuit_*, part of the quality group (io/detail/map_short_circuits.cpp).
+void write_short_circuits(H5Writer& out, const MapShortCircuitRecord& record);
+std::optional<MapShortCircuitRecord> read_short_circuits(const H5Reader& in,
+                                                         std::set<std::string>& known);
+
 // Row ids (or counts) of a 1-D dataset: int64 storage in version 2, float64 holding whole
 // numbers >= 0 in version 1. DataError naming the dataset and the entry otherwise.
 std::vector<std::int64_t> read_ids(const H5Reader& in, const std::string& dataset,

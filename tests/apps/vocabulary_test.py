@@ -22,7 +22,7 @@ from cli_support import (check, finish, messages, refused, run, snapshot, snapsh
                          succeeds, swiss_roll)
 
 N = 200
-COMMANDS = ("embed", "graph", "score", "inspect", "demo")
+COMMANDS = ("embed", "graph", "score", "inspect", "demo", "sweep")
 
 
 def options_of(command):

@@ -14,18 +14,13 @@
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/error.hpp"
 #include "engine/random.hpp"
+#include "tests/test_util.hpp"
 
 using namespace unfurl;
 
 namespace {
 
-PointSet random_points(std::size_t n, std::size_t d, std::uint64_t seed, bool integer_grid) {
-  Random rng(seed);
-  PointSet p(n, d);
-  for (float& v : p.values)
-    v = integer_grid ? static_cast<float>(rng.below(4)) : static_cast<float>(rng.normal());
-  return p;
-}
+using test::random_points;
 
 // The oracle: every distance in long double, sorted by (distance, index).
 struct Brute {
