@@ -113,7 +113,7 @@ void DeltaBuckets::sweep(const NeighbourGraph& graph, NodeId source, float* dist
       }
       if (i + kAhead / 2 < bucket.size()) {
         const NodeId ahead = bucket[i + kAhead / 2].node;
-        const std::int64_t e = offsets[ahead], last = offsets[ahead + 1] - 1;
+        const std::int64_t e = offsets[ahead], last = std::max(e, offsets[ahead + 1] - 1);
         __builtin_prefetch(targets + e);
         __builtin_prefetch(lengths + e);
         __builtin_prefetch(targets + last);
