@@ -73,27 +73,15 @@ void BucketQueue::release(std::size_t slot) {
   next_ = 0;
 }
 
-// The absolute index of the first occupied bucket after `after`: every live key lies less
-// than a ring's length ahead, so the first set bit going round from there is it.
 std::size_t BucketQueue::next_occupied(std::size_t after) const {
-  const std::size_t from = (after + 1) & mask_;
-  std::size_t word = from >> 6;
-  std::uint64_t bits = occupied_[word] & (~std::uint64_t{0} << (from & 63));
-  for (std::size_t step = 0; step <= occupied_.size(); ++step) {
-    if (bits != 0) {
-      const std::size_t slot = word * 64 + static_cast<std::size_t>(std::countr_zero(bits));
-      return after + 1 + ((slot - from) & mask_);
-    }
-    word = (word + 1) % occupied_.size();
-    bits = occupied_[word];
-  }
-  return after + 1;  // not reached while the queue holds an entry
+  return next_occupied_bucket(occupied_, mask_, after);
 }
 
 DijkstraWorkspace::DijkstraWorkspace(const NeighbourGraph& graph) : graph_(&graph) {
   if (graph.lengths.empty()) return;
   const auto [shortest, longest] = std::minmax_element(graph.lengths.begin(), graph.lengths.end());
   buckets_ = bucket_queue_.setup(*shortest, *longest);
+  delta_ = delta_buckets_.setup(graph);
 }
 
 template <class MakeDone>
@@ -110,6 +98,7 @@ std::size_t DijkstraWorkspace::settle(NodeId source, float* out, MakeDone make_d
 }
 
 std::size_t DijkstraWorkspace::run(NodeId source, float* out) {
+  if (delta_) return graph_->nodes() - delta_buckets_.run(*graph_, source, out);
   return graph_->nodes() - settle(source, out, [] { return [](NodeId) { return false; }; });
 }
 
@@ -122,6 +111,7 @@ std::size_t DijkstraWorkspace::run_to_later(NodeId source, std::span<const NodeI
     out[source] = 0.0f;
     return 0;
   }
+  if (delta_) return delta_buckets_.run_to_later(*graph_, source, rank, out);
   std::size_t later = 0;  // nodes ranked after the source, not settled yet
   settle(source, out, [&] {
     later = n - 1 - own;

@@ -12,6 +12,7 @@
 #include <type_traits>
 #include <vector>
 
+#include "engine/detail/delta_buckets.hpp"
 #include "engine/graph.hpp"
 
 namespace unfurl::detail {
@@ -145,8 +146,9 @@ class BucketQueue {
   bool exact_ = true;
 };
 
-// One thread's state for many single-source runs over one graph: the queue (Dial's buckets
-// when the edge lengths allow, else the radix heap) and nothing per source.
+// One thread's state for many single-source runs over one graph: the queues (for full rows
+// delta-stepping's buckets, engine/detail/delta_buckets.hpp; for the all-pairs shortcut Dial's
+// buckets; the radix heap when the edge lengths suit neither) and nothing per source.
 class DijkstraWorkspace {
  public:
   explicit DijkstraWorkspace(const NeighbourGraph& graph);
@@ -173,7 +175,9 @@ class DijkstraWorkspace {
 
   const NeighbourGraph* graph_;
   bool buckets_ = false;  // Dial's buckets suit this graph's lengths
+  bool delta_ = false;    // delta-stepping's buckets suit them
   BucketQueue bucket_queue_;
+  DeltaBuckets delta_buckets_;
   DistanceHeap<float> heap_;
 };
 

@@ -208,7 +208,7 @@ TEST_CASE("Dial's buckets and the radix heap both give Floyd-Warshall's distance
   }
 }
 
-TEST_CASE("bucket runs that float32 keys make inexact are redone with the heap", "[geodesic]") {
+TEST_CASE("rows stay exact where float32 keys swallow short edges", "[geodesic]") {
   // A path of 400 nodes with edges of 100 and, every tenth, one of 0.001: the length ratio
   // fits the bucket ring (buckets of 0.0005), but beyond 32,768 a float32 key's ulp (0.0039)
   // swallows the 0.001 edge, which then stays in its bucket. Oracle: Floyd-Warshall in double
@@ -218,11 +218,14 @@ TEST_CASE("bucket runs that float32 keys make inexact are redone with the heap",
   std::vector<Edge> edges;
   for (NodeId i = 0; i + 1 < n; ++i) edges.push_back({i, i + 1, i % 10 == 0 ? 0.001f : 100.0f});
   const auto g = unfurl::test::graph_from_edges(n, edges);
+  // Full rows and the all-pairs runs go to delta-stepping's buckets (width from the lengths'
+  // lower quartile, 50), which rescan a node that a swallowed edge fails to move and need no
+  // fallback; Dial's queue serves only graphs those buckets refuse.
+  unfurl::detail::DeltaBuckets delta;
+  REQUIRE(delta.setup(g));
   unfurl::detail::DijkstraWorkspace work(g);
-  REQUIRE(work.uses_buckets());
   std::vector<float> row(n);
   work.run(0, row.data());
-  CHECK_FALSE(work.uses_buckets());  // the first run found it out and fell back
   const auto oracle = unfurl::test::floyd_warshall(g);
   for (std::size_t j = 0; j < n; ++j) REQUIRE(row[j] == Approx(oracle[j]).epsilon(1e-5));
   const auto rows = unfurl::geodesic_rows(g, {unfurl::EveryNode{}}).rows;
@@ -246,4 +249,31 @@ TEST_CASE("the geodesic stage returns its summary with the rows", "[geodesic]") 
   // of sums taken along different runs (see the all-pairs test above).
   for (std::size_t j = 0; j < 30; ++j)
     CHECK(every.rows.row(4)[j] == Approx(listed.rows.row(0)[j]).epsilon(1e-5));
+}
+
+TEST_CASE("Dial's buckets take graphs delta-stepping refuses, and fall back to the heap",
+          "[geodesic]") {
+  // A path of 1,000 nodes whose edges alternate 1 and 40,000: half the edges are short, so
+  // delta-stepping's width (half the lower quartile, 0.5) would need a ring of 80,000 buckets
+  // and it refuses; Dial's ring (same width, up to 2^18 buckets) takes it. Beyond 2^24 bucket
+  // widths (keys past 8.4e6) a float32 key's ulp swallows the edge of 1, the run is not exact
+  // and is redone with the radix heap. Oracle: on a path the distance is the sum of the
+  // lengths in between (analytic), summed here in double; float32 sums drift from it by at
+  // most 999 roundings of 2^-24 relative each (6e-5), whatever the queue.
+  constexpr std::size_t n = 1000;
+  std::vector<Edge> edges;
+  for (NodeId i = 0; i + 1 < n; ++i) edges.push_back({i, i + 1, i % 2 == 0 ? 1.0f : 40000.0f});
+  const auto g = unfurl::test::graph_from_edges(n, edges);
+  unfurl::detail::DeltaBuckets delta;
+  REQUIRE_FALSE(delta.setup(g));
+  unfurl::detail::DijkstraWorkspace work(g);
+  REQUIRE(work.uses_buckets());
+  std::vector<float> row(n);
+  CHECK(work.run(0, row.data()) == 0);
+  CHECK_FALSE(work.uses_buckets());  // the first run found it out and fell back
+  double along = 0.0;
+  for (std::size_t j = 0; j < n; ++j) {
+    REQUIRE(row[j] == Approx(along).epsilon(6e-5));
+    if (j + 1 < n) along += j % 2 == 0 ? 1.0 : 40000.0;
+  }
 }
