@@ -13,14 +13,18 @@
 # Outputs in WORK: landmarks.csv (one row per run) and four figures, each PNG and SVG, drawn
 # by csv_figure (io/plot), x = L on a log axis, one series per data set:
 # landmarks-trust (1 - T(12)), landmarks-continuity (1 - C(12)), landmarks-residual
-# (residual variance) and landmarks-time (CPU seconds of the landmark runs, with the fitted
-# exponent; exact mode's cost is of another kind and left out).
+# (residual variance) and landmarks-time (seconds of the landmark rows and of the spectral
+# stage, with fitted exponents; exact mode's cost is of another kind and left out). Also
+# landmarks.md: a table per data set for bench/RESULTS.md.
 #
 # usage: bench/landmark_study.sh BUILD_DIR WORK_DIR [--roll-n N] (10000) [--fashion-rows N]
-#          (10000) [--counts "32 64 ..."] [--seeds "1 ..."] (1) [--no-exact]
+#          (3000) [--counts "32 64 ..."] [--seeds "1 ..."] (1) [--no-exact]
+#          [--sets "swiss-roll fashion-mnist digits"] [--append] (add rows to landmarks.csv)
+#          [--report-only] (figures and landmarks.md from an existing landmarks.csv)
 set -euo pipefail
 build=${1:?build folder}; work=${2:?work folder}; shift 2
-roll_n=10000; fashion_rows=10000; counts="32 64 128 256 512 1024 2048"; seeds="1"; exact=1
+roll_n=10000; fashion_rows=3000; counts="32 64 128 256 512 1024 2048"; seeds="1"; exact=1
+sets="swiss-roll fashion-mnist digits"; append=0; report_only=0
 while [ $# -gt 0 ]; do
   case $1 in
     --roll-n) roll_n=${2:?--roll-n needs a count}; shift ;;
@@ -28,6 +32,9 @@ while [ $# -gt 0 ]; do
     --counts) counts=${2:?--counts needs a list}; shift ;;
     --seeds) seeds=${2:?--seeds needs a list}; shift ;;
     --no-exact) exact=0 ;;
+    --sets) sets=${2:?--sets needs a list}; shift ;;
+    --append) append=1 ;;
+    --report-only) report_only=1; sets="" ;;
     *) echo "landmark_study.sh: unknown option $1" >&2; exit 64 ;;
   esac
   shift
@@ -41,7 +48,8 @@ done
 mkdir -p "$work"
 csv="$work/landmarks.csv"
 columns="dataset,n,columns,landmarks,mode,seed,wall_s,cpu_s,peak_mib,geodesics_s,spectral_s,total_s,trustworthiness_12,continuity_12,residual_variance,coverage_radius,load_before,load_after"
-echo "$columns" > "$csv"
+[ $append = 1 ] || [ $report_only = 1 ] && [ -f "$csv" ] || echo "$columns" > "$csv"
+wanted() { [[ " $sets " == *" $1 "* ]]; }
 load() { cut -d' ' -f1 /proc/loadavg; }
 
 # run DATASET N COLUMNS INPUT LANDMARKS SEED [EXTRA...]: one embed, one CSV row.
@@ -71,21 +79,26 @@ study() {
   if [ $exact = 1 ]; then run "$name" "$n" "$cols" "$input" all 1 "$@"; fi
 }
 
-roll="$work/roll$roll_n/swiss-roll.h5"
-[ -f "$roll" ] || "$unfurl" --quiet demo --scenario swiss-roll --point-count "$roll_n" --out-dir "$work/roll$roll_n" --data-only
-study swiss-roll "$roll_n" 3 "$roll"
-if [ -d /usr/share/datasets/fashion-mnist ]; then
+if wanted swiss-roll; then
+  roll="$work/roll$roll_n/swiss-roll.h5"
+  [ -f "$roll" ] || "$unfurl" --quiet demo --scenario swiss-roll --point-count "$roll_n" --out-dir "$work/roll$roll_n" --data-only
+  study swiss-roll "$roll_n" 3 "$roll"
+fi
+if wanted fashion-mnist && [ -d /usr/share/datasets/fashion-mnist ]; then
   images="$work/fashion-mnist.h5"
   [ -f "$images" ] || /usr/bin/python3 "$here/../datasets-scripts/fashion_mnist_to_hdf5.py" --out "$images"
   study fashion-mnist "$fashion_rows" 784 "$images" --dataset /images --rows "0:$fashion_rows"
-else
+elif wanted fashion-mnist; then
   echo "landmark_study.sh: Debian's dataset-fashion-mnist is not installed; Fashion-MNIST skipped" >&2
 fi
-digits="$work/digits.h5"
-[ -f "$digits" ] || /usr/bin/python3 "$here/../datasets-scripts/digits_to_hdf5.py" --out "$digits" > /dev/null
-study digits 1797 64 "$digits" --dataset /images
+if wanted digits; then
+  digits="$work/digits.h5"
+  [ -f "$digits" ] || /usr/bin/python3 "$here/../datasets-scripts/digits_to_hdf5.py" --out "$digits" > /dev/null
+  study digits 1797 64 "$digits" --dataset /images
+fi
 
-common=(--x landmarks --series-by dataset --log-x --x-label "landmarks L (log scale; the last point of each set: exact mode, L = N)")
+# Figures of seed 1 (every count has it); the other seeds' spread is in landmarks.md.
+common=(--x landmarks --series-by dataset --where seed=1 --log-x --x-label "landmarks L (log scale; the last point of each set: exact mode, L = N)")
 "$figure" "$csv" -o "$work/landmarks-trust.png" -o "$work/landmarks-trust.svg" "${common[@]}" \
   --y "1-trustworthiness_12:1 - T(12)" --log-y --y-label "1 - trustworthiness(12) (log scale)" \
   --title "Trustworthiness against the landmark count" \
@@ -99,7 +112,30 @@ common=(--x landmarks --series-by dataset --log-x --x-label "landmarks L (log sc
   --y-label "residual variance at 2 dims (log scale)" \
   --title "Residual variance against the landmark count" \
   --subtitle "1 - R^2 of geodesic and map distances, 256 sampled sources (not the landmarks)"
-"$figure" "$csv" -o "$work/landmarks-time.png" -o "$work/landmarks-time.svg" "${common[@]}" \
-  --where mode=landmarks --y "cpu_s:CPU s" --log-y --fit-from 256 --y-label "CPU seconds, whole process (log scale)" \
-  --title "Cost against the landmark count" \
-  --subtitle "user + system time of the whole run; exponent fitted from L = 256 up"
+"$figure" "$csv" -o "$work/landmarks-time.png" -o "$work/landmarks-time.svg" --x landmarks \
+  --series-by dataset --where seed=1 --log-x --where mode=landmarks --y "geodesics_s:landmark rows s" \
+  --y "spectral_s:spectral s" --log-y --fit-from 256 --x-label "landmarks L (log scale)" \
+  --y-label "seconds in the stage (log scale)" --title "Cost against the landmark count" \
+  --subtitle "the stages that grow with L (in-process times); exponents fitted from L = 256 up"
+
+# landmarks.md: one table per data set (seeds' median where several), for bench/RESULTS.md.
+/usr/bin/python3 - "$csv" > "$work/landmarks.md" <<'PY'
+import csv, statistics, sys
+rows = list(csv.DictReader(open(sys.argv[1])))
+for name in dict.fromkeys(r["dataset"] for r in rows):
+    mine = [r for r in rows if r["dataset"] == name]
+    print(f"\n{name}, N = {int(mine[0]['n']):,} x {mine[0]['columns']}:\n")
+    print("| L | runs (seeds) | T(12) | C(12) | residual variance | CPU s | peak MiB | coverage radius |")
+    print("|---|---|---|---|---|---|---|---|")
+    for count in sorted({int(r["landmarks"]) for r in mine}):
+        at = [r for r in mine if int(r["landmarks"]) == count]
+        span = lambda key, f: (f"{f.format(statistics.median(float(r[key]) for r in at))}" +
+                               (f" ({f.format(min(float(r[key]) for r in at))} to "
+                                f"{f.format(max(float(r[key]) for r in at))})" if len(at) > 1 else ""))
+        label = f"{count:,}" + (" (exact)" if at[0]["mode"] == "exact" else "")
+        print(f"| {label} | {len(at)} ({' '.join(r['seed'] for r in at)}) | "
+              f"{span('trustworthiness_12', '{:.6f}')} | {span('continuity_12', '{:.6f}')} | "
+              f"{span('residual_variance', '{:.3g}')} | {span('cpu_s', '{:.2f}')} | "
+              f"{span('peak_mib', '{:.0f}')} | {span('coverage_radius', '{:.3g}')} |")
+PY
+cat "$work/landmarks.md"
