@@ -132,7 +132,7 @@ void add_map_options(CLI::App* cmd, MapArgs& a, bool one_map) {
         ->capture_default_str();
   cmd->add_option_function<std::string>(
          "--landmarks", [&a](const std::string& text) { a.landmarks = *landmark_choice(text); },
-         "Landmark count, 'auto' (min(N, max(dims + 1, 256))) or 'all' (exact mode: "
+         "Landmark count, 'auto' (min(N, max(dims + 1, 128))) or 'all' (exact mode: "
          "N x N geodesics)")
       ->check(CLI::Validator(
           [](std::string& text) {

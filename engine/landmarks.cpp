@@ -16,7 +16,7 @@
 namespace unfurl {
 
 std::size_t default_landmark_count(std::size_t nodes, std::size_t dims) {
-  return std::min(nodes, std::max<std::size_t>(dims + 1, 256));
+  return std::min(nodes, std::max<std::size_t>(dims + 1, 128));
 }
 
 std::size_t LandmarkOptions::resolved_count(std::size_t nodes, std::size_t dims) const {

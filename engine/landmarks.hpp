@@ -32,10 +32,10 @@ enum class Pick {
   random,  // `count` distinct nodes drawn uniformly from the seed
 };
 
-// The automatic count for a map of `dims` axes: min(N, max(dims + 1, 256)). 256 rows of a
-// million nodes are 1 GB of float32, the budget of the million-point target; more landmarks
-// barely move the map of a 2-D or 3-D sheet (the error of landmark MDS falls with L quickly
-// once the landmarks cover the sheet).
+// The automatic count for a map of `dims` axes: min(N, max(dims + 1, 128)), from measured
+// quality (bench/RESULTS.md, "Landmark count from data"): 2-D maps of three data sets scored
+// no better with 256 to 2,048 landmarks or exact mode than with 32 to 128, while the rows
+// cost time and memory in proportion to L (128 rows of a million nodes: 0.5 GB of float32).
 std::size_t default_landmark_count(std::size_t nodes, std::size_t dims);
 
 // How many landmarks: exactly one of the automatic count, a given count, or every node (the

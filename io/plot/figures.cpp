@@ -232,10 +232,45 @@ std::string draw_map(const MapFigure& f, ImageFormat format, FigureSize size) {
   return chart.finish();
 }
 
+namespace {
+
+// The series of `f` as drawn: on a log axis, log10 of the values, with NaN for those at or
+// below zero (counted in `left_out`).
+std::vector<Series> drawn_series(const CurveFigure& f, std::size_t& left_out) {
+  std::vector<Series> out = f.series;
+  left_out = 0;
+  auto to_log = [&](std::vector<double>& v, bool counted) {
+    for (double& x : v) {
+      if (std::isfinite(x) && x <= 0) left_out += counted;
+      x = x > 0 ? std::log10(x) : NAN;
+    }
+  };
+  for (Series& s : out) {
+    if (f.log_x) {
+      for (std::size_t i = 0; i < s.x.size(); ++i)
+        if (std::isfinite(s.x[i]) && s.x[i] <= 0 && std::isfinite(s.y[i])) {
+          ++left_out;
+          s.y[i] = NAN;  // no position on the axis
+        }
+      to_log(s.x, false);
+    }
+    if (f.log_y) {
+      to_log(s.y, true);
+      to_log(s.low, false);
+      to_log(s.high, false);
+    }
+  }
+  return out;
+}
+
+}  // namespace
+
 std::string draw_curves(const CurveFigure& f, ImageFormat format, FigureSize size) {
   Chart chart(format, size);
+  std::size_t left_out = 0;
+  const std::vector<Series> series = drawn_series(f, left_out);
   std::vector<double> all_x, all_y;
-  for (const auto& s : f.series)
+  for (const auto& s : series)
     for (std::size_t i = 0; i < s.x.size(); ++i) {
       if (!std::isfinite(s.y[i])) continue;
       all_x.push_back(s.x[i]);
@@ -243,14 +278,20 @@ std::string draw_curves(const CurveFigure& f, ImageFormat format, FigureSize siz
       if (!s.low.empty()) all_y.insert(all_y.end(), {s.low[i], s.high[i]});
     }
   std::vector<std::string> names;
-  for (const auto& s : f.series) names.push_back(s.name);
-  const bool with_legend = f.series.size() > 1;
+  for (const auto& s : series) names.push_back(s.name);
+  const bool with_legend = series.size() > 1;
   chart.reserve_right(with_legend ? chart.text_width(names) + 56 : 0);
-  if (!all_x.empty()) all_y.insert(all_y.end(), f.y_include.begin(), f.y_include.end());
+  if (!all_x.empty())
+    for (double v : f.y_include)
+      if (!f.log_y || v > 0) all_y.push_back(f.log_y ? std::log10(v) : v);
   Range xr = detail::padded(detail::range_of(all_x), 0.05);
   chart.set_ranges(xr, detail::padded(detail::range_of(all_y), 0.08), false);
-  chart.axes(f.x_label, f.y_label, f.integer_x);
-  chart.title(f.title, f.subtitle);
+  chart.axes(f.x_label, f.y_label, f.integer_x, true, f.log_x, f.log_y);
+  std::string subtitle = f.subtitle;
+  if (left_out > 0)
+    subtitle += fmt::format("{}{} points at or below 0 left out of the log scale",
+                            subtitle.empty() ? "" : "; ", left_out);
+  chart.title(f.title, subtitle);
   if (all_x.empty()) {
     chart.set_colour({0.4, 0.4, 0.4});
     chart.text(chart.plot().x + chart.plot().w / 2, chart.plot().y + chart.plot().h / 2,
@@ -259,9 +300,9 @@ std::string draw_curves(const CurveFigure& f, ImageFormat format, FigureSize siz
   }
   cairo_t* cr = chart.cr();
   std::vector<LegendEntry> legend;
-  for (std::size_t k = 0; k < f.series.size(); ++k) {
-    const Series& s = f.series[k];
-    const Rgb colour = f.series.size() == 1 ? blue : category_colour(k);
+  for (std::size_t k = 0; k < series.size(); ++k) {
+    const Series& s = series[k];
+    const Rgb colour = series.size() == 1 ? blue : category_colour(k);
     chart.set_colour(colour);
     cairo_set_line_width(cr, 2);
     bool drawing = false;

@@ -59,6 +59,9 @@ struct CurveFigure {
   bool integer_x = false;         // x takes whole numbers (dimensions, k)
   std::vector<double> y_include;  // values the y range must hold (0, or 1 for a perfect score)
   std::string empty_note;         // drawn instead when no series holds a point
+  // Logarithmic axes (powers of ten ticked); values at or below zero are left out and
+  // counted in the subtitle.
+  bool log_x = false, log_y = false;
 };
 std::string draw_curves(const CurveFigure& figure, ImageFormat format, FigureSize size = {});
 

@@ -112,7 +112,8 @@ TEST_CASE("landmark options are validated with the field named", "[landmarks]") 
   CHECK_THROWS_WITH(o.validate(100), Catch::Contains("LandmarkOptions.count: must be at most"));
   o.count = unfurl::AutomaticLandmarks{};
   CHECK(o.resolved_count(100) == 100);
-  CHECK(o.resolved_count(100000) == 256);
+  CHECK(o.resolved_count(100000) == 128);       // the rule in engine/landmarks.hpp
+  CHECK(o.resolved_count(100000, 200) == 201);  // dims + 1 for a map of 200 axes
   o.count = unfurl::AllLandmarks{};
   CHECK(o.resolved_count(100) == 100);
   // At least dims + 1 landmarks: checked where the map's dims are known, by the embedding.

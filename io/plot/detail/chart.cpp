@@ -84,6 +84,34 @@ std::string tick_label(double value, double step) {
   return fmt::format("{:.{}f}", value, decimals);
 }
 
+std::vector<double> log_ticks(Range r) {
+  const bool fine = r.hi - r.lo < 2;
+  std::vector<double> ticks;
+  for (double p = std::floor(r.lo); p <= std::ceil(r.hi); p += 1)
+    for (double m : {1.0, 2.0, 5.0}) {
+      const double t = p + std::log10(m);
+      if ((m == 1 || fine) && t >= r.lo - 1e-9 && t <= r.hi + 1e-9) ticks.push_back(t);
+    }
+  if (ticks.size() >= 3) return ticks;
+  // Less than a factor of about 2.5 from end to end: nice steps of the values.
+  ticks.clear();
+  for (double v : nice_ticks({std::pow(10.0, r.lo), std::pow(10.0, r.hi)}, 5))
+    if (v > 0) ticks.push_back(std::log10(v));
+  return ticks;
+}
+
+std::string log_tick_label(double t) {
+  const double v = std::pow(10.0, t);
+  const int decade = static_cast<int>(std::floor(t + 1e-9));
+  const double mantissa = v / std::pow(10.0, decade);
+  const bool round_mantissa = std::abs(mantissa - std::round(mantissa)) < 1e-6;
+  if (round_mantissa && (decade >= 6 || decade < -3))
+    return fmt::format("{}e{}", std::lround(mantissa), decade);
+  if (v >= 1 && std::abs(v - std::round(v)) < 1e-6 * v && v < 1e15)
+    return count_text(static_cast<std::size_t>(std::llround(v)));
+  return fmt::format("{:.6g}", v);
+}
+
 std::string count_text(std::size_t n) {
   const std::string digits = std::to_string(n);
   std::string out;
@@ -190,7 +218,7 @@ void Chart::title(const std::string& title, const std::string& subtitle) {
 }
 
 void Chart::axes(const std::string& x_label, const std::string& y_label, bool integer_x,
-                 bool y_ticks) {
+                 bool y_ticks, bool log_x, bool log_y) {
   double x_step = 0, y_step = 0;
   std::vector<double> xt = nice_ticks(x_, std::max(3, int(plot_.w / 90)), &x_step);
   if (integer_x && x_step < 1) {
@@ -205,7 +233,11 @@ void Chart::axes(const std::string& x_label, const std::string& y_label, bool in
     xt = ticks_at(x_, x_step);
     yt = ticks_at(y_, y_step);
   }
+  if (log_x) xt = log_ticks(x_);
+  if (log_y) yt = log_ticks(y_);
   if (!y_ticks) yt.clear();
+  auto x_label_of = [&](double t) { return log_x ? log_tick_label(t) : tick_label(t, x_step); };
+  auto y_label_of = [&](double t) { return log_y ? log_tick_label(t) : tick_label(t, y_step); };
   cairo_set_line_width(cr_, 1);
   set_colour({0.9, 0.9, 0.9});
   for (double t : xt) {
@@ -223,12 +255,12 @@ void Chart::axes(const std::string& x_label, const std::string& y_label, bool in
   for (double t : xt) {
     cairo_move_to(cr_, std::round(px(t)) + 0.5, plot_.y + plot_.h);
     cairo_line_to(cr_, std::round(px(t)) + 0.5, plot_.y + plot_.h + 5);
-    text(px(t), plot_.y + plot_.h + 8, tick_label(t, x_step), 0.5, 0, 12);
+    text(px(t), plot_.y + plot_.h + 8, x_label_of(t), 0.5, 0, 12);
   }
   for (double t : yt) {
     cairo_move_to(cr_, plot_.x - 5, std::round(py(t)) + 0.5);
     cairo_line_to(cr_, plot_.x, std::round(py(t)) + 0.5);
-    text(plot_.x - 8, py(t), tick_label(t, y_step), 1, 0.5, 12);
+    text(plot_.x - 8, py(t), y_label_of(t), 1, 0.5, 12);
   }
   cairo_stroke(cr_);
   set_colour({0, 0, 0});

@@ -30,6 +30,13 @@ std::string tick_label(double value, double step);
 // Multiples of `step` inside `r`.
 std::vector<double> ticks_at(Range r, double step);
 
+// Ticks of a logarithmic axis, whose positions are log10 of the values (`r` in those units):
+// every power of ten, with 2 and 5 times each when the axis spans less than two decades; an
+// axis too short for three of those gets nice_ticks of the values themselves.
+std::vector<double> log_ticks(Range r);
+// The label of the value 10^t at a log tick t: "10,000", "0.002", "1e6", "2e-5".
+std::string log_tick_label(double t);
+
 // "1,234,567".
 std::string count_text(std::size_t n);
 
@@ -63,8 +70,9 @@ class Chart {
   void title(const std::string& title, const std::string& subtitle);
   // Frame, ticks and their labels, light grid lines, axis labels. integer_x: ticks on whole
   // numbers only (dimensions, ranks, k). y_ticks false: the caller labels the y axis.
+  // log_x, log_y: the axis' data are log10 of the values, ticked and labelled as values.
   void axes(const std::string& x_label, const std::string& y_label, bool integer_x = false,
-            bool y_ticks = true);
+            bool y_ticks = true, bool log_x = false, bool log_y = false);
   // Legend in the right margin, top aligned with the plot box.
   void legend(const std::vector<LegendEntry>& entries);
   // A vertical colour bar (viridis) in the right margin for values lo..hi; the tick labels

@@ -33,6 +33,40 @@ TEST_CASE("nice_ticks: evenly spaced 1, 2 or 5 steps inside the range, at least 
     }
 }
 
+TEST_CASE("log_ticks: powers of ten, 2 and 5 between on short axes, labels as values", "[plot]") {
+  // Decade ticks with 2 and 5 between them on a short log axis: common practice, no source.
+  // Positions are log10 of the values, so 10^t must come back as the labelled value.
+  auto values = [](detail::Range r) {
+    std::vector<double> v;
+    for (double t : detail::log_ticks(r)) v.push_back(std::pow(10.0, t));
+    return v;
+  };
+  const auto four_decades = values({4, 7});  // 10,000 to 10,000,000
+  REQUIRE(four_decades.size() == 4);
+  for (std::size_t i = 0; i < 4; ++i)
+    CHECK(four_decades[i] == Approx(std::pow(10.0, 4 + double(i))).epsilon(1e-12));
+  CHECK(detail::log_tick_label(4) == "10,000");
+  CHECK(detail::log_tick_label(6) == "1e6");
+  CHECK(detail::log_tick_label(std::log10(2e-5)) == "2e-5");
+  CHECK(detail::log_tick_label(std::log10(0.002)) == "0.002");
+  // Landmark counts 32 to 2,048: under two decades, so 50, 100, 200, 500, 1,000, 2,000.
+  const auto landmarks = values({std::log10(32.0), std::log10(2048.0)});
+  const std::vector<double> expected{50, 100, 200, 500, 1000, 2000};
+  REQUIRE(landmarks.size() == expected.size());
+  for (std::size_t i = 0; i < expected.size(); ++i)
+    CHECK(landmarks[i] == Approx(expected[i]).epsilon(1e-12));
+  // A tenth of a decade has no 1-2-5 tick inside: nice steps of the values, at least three,
+  // inside the range, with distinct labels.
+  const detail::Range short_axis{std::log10(0.95), std::log10(1.2)};
+  const auto ticks = detail::log_ticks(short_axis);
+  REQUIRE(ticks.size() >= 3);
+  for (std::size_t i = 0; i < ticks.size(); ++i) {
+    CHECK(ticks[i] >= short_axis.lo - 1e-12);
+    CHECK(ticks[i] <= short_axis.hi + 1e-12);
+    if (i) CHECK(detail::log_tick_label(ticks[i]) != detail::log_tick_label(ticks[i - 1]));
+  }
+}
+
 TEST_CASE("image_format_for: by extension, any case; others refused naming the field", "[plot]") {
   CHECK(image_format_for("a/b.png", "-o") == ImageFormat::png);
   CHECK(image_format_for("FIG.SVG", "-o") == ImageFormat::svg);
