@@ -123,8 +123,10 @@ void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
   const std::size_t data_out = outputs.add(data, "--out-dir");
   a.embed.output = (fs::path(a.out) / (a.scenario + "-map.h5")).string();
   a.embed.json = (fs::path(a.out) / (a.scenario + "-report.json")).string();
-  const JobOutputs where =
+  JobOutputs where =
       a.data_only ? JobOutputs{} : add_job_outputs(outputs, a.embed, "--out-dir", "--out-dir");
+  // The report page and its figures, beside the map: what a newcomer opens first.
+  if (!a.data_only) where.plots = add_run_plots(outputs, a.out, !a.embed.no_score, "--out-dir");
 
   const SyntheticSet set = generate(a, g.seed);
   write_scenario(outputs, data_out, a, set, g.seed);
@@ -166,7 +168,9 @@ void run_demo(const GlobalOptions& g, const CLI::App& cmd, DemoArgs& a) {
     say(g, fmt::format("recovery: hidden '{}' follows map axis {} with |correlation| {:.3f}",
                        set.truth_names[c], best + 1, best_r));
   }
-  say(g, fmt::format("demo: map {}, report {}", a.embed.output, a.embed.json));
+  say(g, fmt::format("demo: map {}, figures as JSON {}", a.embed.output, a.embed.json));
+  say(g, fmt::format("demo: open {} in a browser: the map, its scores, plots and warnings",
+                     (fs::path(a.out) / "report.html").string()));
 }
 
 }  // namespace

@@ -78,11 +78,10 @@ plot::ReportTable scores_table(const plot::PlotMap& m) {
 
 }  // namespace
 
-RunPlots add_run_plots(io::OutputSet& outputs, const std::filesystem::path& folder,
-                       bool with_terms) {
+RunPlots add_run_plots(io::OutputSet& outputs, const std::filesystem::path& folder, bool with_terms,
+                       const std::string& label) {
   RunPlots p;
   p.folder = folder;
-  const std::string label = "--plots-dir";
   p.map = outputs.add(folder / "map.png", label);
   if (with_terms) p.map_by_terms = outputs.add(folder / "map_trustworthiness.png", label);
   p.residual = outputs.add(folder / "residual_variance.png", label);

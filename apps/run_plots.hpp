@@ -21,9 +21,10 @@ struct RunPlots {
 };
 
 // Declares the files in `folder` (which must exist): map.png, residual_variance.png,
-// scores.png, spectrum.png, report.html, and map_trustworthiness.png when `with_terms`.
-RunPlots add_run_plots(io::OutputSet& outputs, const std::filesystem::path& folder,
-                       bool with_terms);
+// scores.png, spectrum.png, report.html, and map_trustworthiness.png when `with_terms`;
+// `label` names the folder's option in messages.
+RunPlots add_run_plots(io::OutputSet& outputs, const std::filesystem::path& folder, bool with_terms,
+                       const std::string& label = "--plots-dir");
 
 // Draws the figures of `map` and writes them with the report page built from `report` (the
 // run's JSON document).

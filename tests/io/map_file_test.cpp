@@ -5,6 +5,7 @@
 #include <catch2/catch.hpp>
 
 #include <cmath>
+#include <limits>
 
 #include "engine/error.hpp"
 #include "engine/random.hpp"
@@ -86,6 +87,18 @@ MapContents sample_map(std::size_t n, std::size_t m, std::size_t l, bool geodesi
                                                         .standard_error = {0.01, 0.02},
                                                         .basis = "whole spectrum",
                                                         .noise_axes = {2}};
+  // Short-circuit suspects: one with a detour found, one without (inf), one that separates.
+  const double inf = std::numeric_limits<double>::infinity();
+  c.quality.short_circuits =
+      unfurl::io::MapShortCircuitRecord{.worst = {{huge, 3, 1.5, 0.25, 0.375, 24.0, 24.0},
+                                                  {8, 2, 1.25, 0.5, 0.5, inf, 9.5},
+                                                  {0, 1, 2.0, 0.125, 0.25, inf, inf}},
+                                        .suspects = 7,
+                                        .long_edges = 40,
+                                        .undecided = 1,
+                                        .edges = 1234,
+                                        .length_factor = 2.0,
+                                        .detour_factor = 3.0};
   unfurl::PreprocessModel pre;
   pre.input_cols = 3;
   pre.scale = unfurl::Scale::robust;
@@ -271,6 +284,17 @@ TEST_CASE("map reader rejects damaged and foreign files", "[map_file]") {
     CHECK_THROWS_WITH(unfurl::io::read_map(dir / "newer.h5"),
                       Catch::Contains("newer.h5: written by a newer unfurl: format version 7, "
                                       "this reads up to 2"));
+  }
+  SECTION("short-circuit rows without their figures") {
+    unfurl::io::H5Writer out(dir / "suspects.h5");
+    out.write("/coords", std::vector<float>{1, 2}, {1, 2});
+    out.write("/rows", std::vector<std::int64_t>{0}, {1});
+    out.write("/quality/short_circuit_rows", std::vector<std::int64_t>{0, 5}, {1, 2});
+    out.set_int_attribute("/", "format_version", 2);
+    out.close();
+    CHECK_THROWS_AS(unfurl::io::read_map(dir / "suspects.h5"), unfurl::DataError);
+    CHECK_THROWS_WITH(unfurl::io::read_map(dir / "suspects.h5"),
+                      Catch::Contains("/quality/short_circuit_figures: missing"));
   }
   SECTION("missing /coords, or sizes that disagree") {
     {
