@@ -133,6 +133,7 @@ void add_embed_command(CLI::App& app, GlobalOptions& g) {
     if (!work->off && !args->linear) {
       saved.emplace(g, *work, *args, in.identity);
       in.saved_steps = &saved->store();
+      in.resumed_from = &saved->resumed_from();
     }
     try {
       run_embed_job(g, *args, std::move(in), outputs, where);

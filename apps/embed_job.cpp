@@ -269,12 +269,13 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
   }
   report["parameters"] = without_unused(embed_run_shape(a), parameters_json(a, options, result));
   report["seed"] = g.seed;
-  map.attributes = {{"command", "embed"},
-                    {"input", in.identity},
-                    {"parameters", report["parameters"]},
-                    {"seed", g.seed},
-                    {"seconds", report["embedding"]["seconds"]},
-                    {"run", run_record()}};
+  map.attributes = {
+      {"command", "embed"},
+      {"input", in.identity},
+      {"parameters", report["parameters"]},
+      {"seed", g.seed},
+      {"seconds", report["embedding"]["seconds"]},
+      {"run", run_record(in.resumed_from ? *in.resumed_from : std::vector<std::string>{})}};
   report["run"] = map.attributes["run"];
 
   io::write_map(outputs, where.map, map);

@@ -43,8 +43,11 @@ struct JobInput {
   std::vector<std::int64_t> dropped_rows;  // rows dropped before the job (non-finite)
   std::vector<double> centres;             // column centres the reader subtracted (or empty)
   nlohmann::json identity;                 // the input's identity for the map's attributes
-  StepStore* saved_steps = nullptr;        // embed's work folder (apps/work_run.hpp), or none
-  std::uint64_t held_bytes = 0;            // the caller holds besides (demo: its scenario)
+  StepStore* saved_steps = nullptr;
+  // The saved pieces the run took back instead of computing them (filled as it runs), or none.
+  const std::vector<std::string>* resumed_from =
+      nullptr;                   // embed's work folder (apps/work_run.hpp), or none
+  std::uint64_t held_bytes = 0;  // the caller holds besides (demo: its scenario)
 };
 
 // Adds every option of the embed job except the input (and the output path) to `cmd`.

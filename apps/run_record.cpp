@@ -62,7 +62,7 @@ void remember_arguments(int argc, const char* const* argv) {
   arguments().assign(argv + (argc > 0 ? 1 : 0), argv + argc);
 }
 
-nlohmann::json run_record() {
+nlohmann::json run_record(const std::vector<std::string>& resumed_from) {
   const char* blas_config = openblas_get_config();
   nlohmann::json steps = nlohmann::json::array();
   for (const StepRecord& s : finished_steps())
@@ -90,7 +90,7 @@ nlohmann::json run_record() {
           {"peak_memory_bytes", peak_memory_bytes()},
           {"steps", steps},
           {"arguments", arguments()},
-          {"resumed", false}};
+          {"resumed", resumed_from.empty() ? nlohmann::json(false) : nlohmann::json(resumed_from)}};
 }
 
 std::vector<std::string> run_record_lines(const nlohmann::json& r) {
@@ -107,7 +107,9 @@ std::vector<std::string> run_record_lines(const nlohmann::json& r) {
       fmt::format("started {}, finished {} ({}), peak memory {}, resumed {}", text(r, "started"),
                   text(r, "finished"), duration_text(number(r, "seconds")),
                   human_bytes(static_cast<std::uint64_t>(number(r, "peak_memory_bytes"))),
-                  flag(r, "resumed", false) ? "yes" : "no"));
+                  r.contains("resumed") && r["resumed"].is_array()
+                      ? fmt::format("from {} saved pieces", r["resumed"].size())
+                      : std::string(flag(r, "resumed", false) ? "yes" : "no")));
   if (r.contains("steps") && r["steps"].is_array())
     for (const nlohmann::json& s : r["steps"]) {
       StepRecord step;

@@ -12,7 +12,8 @@
 //                     not known ahead), unit, peak_memory_bytes (highest resident size seen
 //                     during the step, sampled every 0.1 s and at both ends), ok
 //   arguments         the command line as typed, after the program name
-//   resumed           whether the run reused saved pieces (false until resuming exists)
+//   resumed           false for a run from scratch, else the names of the saved pieces of the
+//                     work folder the run took back instead of computing them
 // The input's identity and every parameter sit beside it, in the attributes (and report keys)
 // "input", "parameters" and "seed".
 #pragma once
@@ -26,7 +27,7 @@ namespace unfurl::app {
 // Keeps the command line for the record; main() calls it first.
 void remember_arguments(int argc, const char* const* argv);
 
-nlohmann::json run_record();
+nlohmann::json run_record(const std::vector<std::string>& resumed_from = {});
 
 // The record as lines for `inspect` ("unfurl 0.1.0 (Release, portable, ...)", one per step).
 std::vector<std::string> run_record_lines(const nlohmann::json& record);

@@ -52,6 +52,7 @@ SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const Nod
                  picked->rows.sources.size() != count))
     throw InternalError("saved landmark choice does not fit the graph");
   if (!picked) {
+    const ProgressStep step = stop.step("landmark choice", 0);
     picked = choose_landmarks(ordered, lo, stop);
     store.save_landmarks(*picked);
   }
@@ -61,9 +62,13 @@ SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const Nod
   DistanceRows& rows = out.rows;
   rows.values.resize(rows.rows * rows.cols);
   const std::size_t per_batch = (rows.rows + kRowBatches - 1) / kRowBatches;
+  const ProgressStep step = stop.step("landmark rows", rows.rows);
   for (std::size_t b = 0, first = 0; first < rows.rows; ++b, first += per_batch) {
     const std::size_t n = std::min(per_batch, rows.rows - first);
-    if (store.load_rows(b, rows, first, n)) continue;
+    if (store.load_rows(b, rows, first, n)) {
+      stop.advance(n);  // taken back: done as far as the run is concerned
+      continue;
+    }
     fill_landmark_rows(ordered, rows, first, n, stop);
     store.save_rows(b, rows, first, n);
   }

@@ -19,7 +19,7 @@ counts = {"checks": 0}
 
 def check(what, ok, detail=""):
     counts["checks"] += 1
-    print(("ok   " if ok else "FAIL ") + what + ("" if ok else ": " + detail), flush=True)
+    print(("ok   " if ok else "FAIL ") + what + ("" if ok else ": " + str(detail)), flush=True)
     if not ok:
         failures.append(what)
 

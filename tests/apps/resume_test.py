@@ -19,7 +19,9 @@ stop a run in them, and the dozen runs stay within about a minute.
 Run by ctest as cli.resume_test with env UNFURL_BIN.
 """
 
+import json
 import os
+import shutil
 import signal
 import subprocess
 import tempfile
@@ -91,7 +93,8 @@ def exact(value):
 
 def datasets_and_attributes(file):
     """Every dataset (dtype, shape, bytes) and every attribute of every object, except the
-    root attributes of the run record: seconds*, creation_time, peak_memory_bytes."""
+    run record (root attribute run: times, arguments, resumed) and the root attributes
+    seconds*, creation_time, peak_memory_bytes."""
     out = {}
     with h5py.File(file, "r") as f:
         def visit(name, obj):
@@ -103,8 +106,10 @@ def datasets_and_attributes(file):
         f.visititems(visit)
     # The run record: wall times, the time the map was made and the peak memory differ
     # between any two runs by design; nothing else is left out.
-    for key in [k for k in out if k.startswith("attr:/@seconds") or
-                k in ("attr:/@creation_time", "attr:/@peak_memory_bytes")]:
+    # The run record says how the run went (when, how long, with which arguments, from which
+    # saved pieces): it differs by design; the map itself must not.
+    for key in [k for k in out if k.startswith("attr:/@seconds") or k.startswith("attr:/@run")
+                or k in ("attr:/@creation_time", "attr:/@peak_memory_bytes")]:
         del out[key]
     return out
 
@@ -177,6 +182,15 @@ check("the resumed run says so, naming the graph, landmarks and saved batches",
       "resume: taking saved steps from" in r.stdout and "graph taken" in r.stdout
       and "landmarks taken" in r.stdout and r.stdout.count("rows-") >= saved_rows, r.stdout)
 same_map("resumed after SIGTERM", out, ref)
+with h5py.File(out, "r") as f:
+    resumed = json.loads(f.attrs["run"])["resumed"]
+with h5py.File(ref, "r") as f:
+    straight = json.loads(f.attrs["run"])["resumed"]
+check("the run record names the pieces taken back (graph, landmarks, every saved batch)",
+      isinstance(resumed, list) and any(p.startswith("graph") for p in resumed)
+      and any(p.startswith("landmarks") for p in resumed)
+      and sum(p.startswith("rows-") for p in resumed) >= saved_rows, resumed)
+check("a straight run's record says it was not resumed", straight is False, straight)
 
 # A second stop (SIGUSR1, a scheduler's warning) during the resumed run, then a third run.
 out = path("twice.h5")
@@ -220,6 +234,9 @@ out = path("int.h5")
 folder = out + ".work"
 codes = []
 for gap in (0.0, 0.0, 0.001):
+    # A fresh folder each try: an earlier try's pieces would send the signal before the
+    # process has installed its handlers (it would then die of the signal itself).
+    shutil.rmtree(folder, ignore_errors=True)
     proc = start(embed(out, [*fast, "--keep-geodesics"], 1))
     t0 = time.monotonic()
     while (proc.poll() is None and len(pieces(folder, "rows-")) < 2

@@ -104,8 +104,8 @@ TEST_CASE("progress: an embedding reports its steps with one unit per row of wor
       REQUIRE(r.rows.size() == n);  // the roll is connected at the default k
       std::vector<std::string> names;
       for (const auto& s : sink.steps) names.push_back(s.name);
-      CHECK(names == std::vector<std::string>{"graph", "components", "node order", "landmark rows",
-                                              "spectral"});
+      CHECK(names == std::vector<std::string>{"graph", "short circuits", "components", "node order",
+                                              "landmark rows", "spectral"});
       for (const auto& s : sink.steps) CHECK((s.finished && s.ok));
       const auto* graph = sink.find("graph");
       REQUIRE(graph);
