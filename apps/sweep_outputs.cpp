@@ -348,10 +348,10 @@ void write_sweep_files(io::OutputSet& outputs, const SweepFiles& files, const Sw
                          fixed(row->score.continuity, 4), fixed(row->score.knn_preservation, 3));
       if (!row->linear)
         text += fmt::format(
-            "; {} components, {} edges, {} points dropped, non-Euclidean ratio "
+            "; {} component{}, {} edges, {} points dropped, non-Euclidean ratio "
             "{}, suspects {}",
-            row->components, row->edges, row->dropped_points, fixed(row->negative_ratio, 3),
-            suspects_text(*row));
+            row->components, row->components == 1 ? "" : "s", row->edges, row->dropped_points,
+            fixed(row->negative_ratio, 3), suspects_text(*row));
       if (!row->flags.empty()) text += "; FLAGGED: " + joined(row->flags, "; ");
     }
     settings.rows.emplace_back(label_of(*row), text);
