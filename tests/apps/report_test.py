@@ -1,6 +1,6 @@
 """embed --plots-dir end to end: the figures and report.html are written with the map, the
 page is self-contained (no script, no stylesheet link, every image a data: URI), and it
-renders in headless chromium (Debian's package, a real browser as the outside reference): no
+(and the page of `unfurl sweep`) renders in headless chromium (Debian's package, a real browser as the outside reference): no
 console errors, every image loaded (natural width as stated), a screenshot that is not blank.
 Exits 77 (ctest: skipped) with a message when chromium is missing."""
 
@@ -42,6 +42,19 @@ refused("a run whose map cannot be written", [
     "embed", os.path.join(work, "roll.csv"), "-o", os.path.join(work, "no", "m.h5"),
     "--plots-dir", os.path.join(work, "figs2")], 73, ["m.h5"], work)
 
+# The sweep's page: the same page code, more images (a small map per setting).
+sweep_dir = os.path.join(work, "sweep")
+succeeds("sweep writes its page", ["sweep", os.path.join(work, "roll.csv"), "--k", "5:10:5",
+                                    "--out-dir", sweep_dir, "--quiet"])
+sweep_report = os.path.join(sweep_dir, "report.html")
+sweep_html = open(sweep_report, encoding="utf-8").read() if os.path.exists(sweep_report) else ""
+sweep_sources = re.findall(r'<img src="([^"]*)"', sweep_html)
+check("the sweep's report.html embeds its images as data: URIs and loads nothing else",
+      len(sweep_sources) >= 3 and all(x.startswith("data:image/png;base64,")
+                                      for x in sweep_sources)
+      and not re.search(r"<script|<link|https?://|src=\"(?!data:)", sweep_html),
+      f"{len(sweep_sources)} images")
+
 chromium = shutil.which("chromium")
 if not chromium:
     print("SKIP: chromium is not installed (bash scripts/setup-debian.sh installs it); the "
@@ -71,21 +84,30 @@ window.addEventListener('load', function () {
   document.body.appendChild(out);
 });
 </script>"""
-probed = os.path.join(figs, "probed.html")
-with open(probed, "w", encoding="utf-8") as f:
-    f.write(html.replace("<head>", "<head>\n" + probe, 1))
-dom = subprocess.run(flags + ["--dump-dom", "file://" + probed], capture_output=True, text=True,
-                     timeout=120)
-found = re.search(r'<pre id="probe">IMAGES (.*?) ERRORS (\d+) (.*?)</pre>', dom.stdout, re.S)
-check("chromium ran the page to its load event", found is not None,
-      f"exit {dom.returncode}; {dom.stderr[-400:]!r}")
-if found:
-    sizes = found.group(1).split()
-    stated = [f"true:{w}x{h}" for w, h in re.findall(r'width="(\d+)" height="(\d+)"', html)]
-    check("every image loaded at the size the page states", sizes == stated and len(sizes) == 5,
-          f"{sizes} vs {stated}")
-    check("no script error, failed load or console error", found.group(2) == "0",
-          found.group(3))
+def rendered(what, page_path, page_html, count):
+    """Loads a probed copy of the page in chromium: every image loaded at its stated size and
+    no script error, failed load or console error."""
+    probed = page_path.replace(".html", "-probed.html")
+    with open(probed, "w", encoding="utf-8") as f:
+        f.write(page_html.replace("<head>", "<head>\n" + probe, 1))
+    dom = subprocess.run(flags + ["--dump-dom", "file://" + probed], capture_output=True,
+                         text=True, timeout=120)
+    os.remove(probed)
+    found = re.search(r'<pre id="probe">IMAGES (.*?) ERRORS (\d+) (.*?)</pre>', dom.stdout, re.S)
+    check(f"{what}: chromium ran the page to its load event", found is not None,
+          f"exit {dom.returncode}; {dom.stderr[-400:]!r}")
+    if found:
+        sizes = found.group(1).split()
+        stated = [f"true:{w}x{h}" for w, h in re.findall(r'width="(\d+)" height="(\d+)"',
+                                                          page_html)]
+        check(f"{what}: every image loaded at the size the page states",
+              sizes == stated and len(sizes) == count, f"{sizes} vs {stated}")
+        check(f"{what}: no script error, failed load or console error", found.group(2) == "0",
+              found.group(3))
+
+
+rendered("embed's page", report, html, 5)
+rendered("the sweep's page", sweep_report, sweep_html, len(sweep_sources))
 
 shot = os.path.join(work, "shot.png")
 r = subprocess.run(flags + ["--enable-logging=stderr", "--v=0", "--window-size=800,900",
