@@ -2,6 +2,7 @@
 
 #include <fmt/chrono.h>
 #include <fmt/core.h>
+#include <pthread.h>
 #include <spdlog/logger.h>
 #include <spdlog/pattern_formatter.h>
 #include <spdlog/sinks/ansicolor_sink.h>
@@ -81,6 +82,9 @@ spdlog::sink_ptr stderr_sink(bool colour) {
       colour ? spdlog::color_mode::always : spdlog::color_mode::never);
 }
 
+class RunLog;
+RunLog& run_log();
+
 class RunLog final : public ProgressSink {
  public:
   ~RunLog() override { finish(-1); }
@@ -151,6 +155,7 @@ class RunLog final : public ProgressSink {
     try {
       std::lock_guard hold(mutex_);
       open_locked();
+      start_ticker_locked();
       open_ = true;
       step_ = std::string(step);
       step_start_ = last_line_ = last_json_ = Clock::now();
@@ -218,6 +223,24 @@ class RunLog final : public ProgressSink {
     lines_ = make_logger("lines", stderr_sink(colour),
                          live_ ? "\r\033[K%^%v%$" : "%Y-%m-%dT%H:%M:%S.%eZ %v", true);
     if (live_) live_line_ = make_logger("live", stderr_sink(colour), "\r\033[K%^%v%$", false, "");
+  }
+
+  // The watcher thread, from the first step on: commands that only read files (inspect,
+  // and every command before its first step) stay one thread while io/'s isolated HDF5
+  // check forks. Called with the mutex held.
+  void start_ticker_locked() {
+    if (ticker_.joinable()) return;
+    // The ticker allocates (it reads /proc/self/statm, formats lines) and does all of that
+    // with mutex_ held. A fork taken while it is half way through an allocation leaves the
+    // child with the allocator's lock held by a thread that does not exist there: io/'s
+    // isolated HDF5 check then hangs in its child until the time limit (seen under
+    // AddressSanitizer, whose allocator takes no lock around fork). So a fork waits for the
+    // ticker to be idle.
+    static std::once_flag fork_guard;
+    std::call_once(fork_guard, [] {
+      ::pthread_atfork([] { run_log().mutex_.lock(); }, [] { run_log().mutex_.unlock(); },
+                       [] { run_log().mutex_.unlock(); });
+    });
     ticker_ = std::thread([this] { watch(); });
   }
 
