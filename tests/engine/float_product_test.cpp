@@ -4,6 +4,8 @@
 
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdlib>
+#include <string>
 #include <vector>
 
 #include "engine/random.hpp"
@@ -65,4 +67,24 @@ TEST_CASE("block products inside a parallel loop leave the thread count alone", 
   const std::string name = detail::blas_kernel_name();
   INFO(name);
   CHECK(name.rfind("OpenBLAS ", 0) == 0);
+}
+
+TEST_CASE("OpenBLAS runs wide-vector kernels where the processor has them", "[float_product]") {
+  // Debian 12's OpenBLAS 0.3.21 gave its baseline SSE kernels ("Prescott") to a processor
+  // newer than itself (family 6, model 207, with AVX-512): three times slower scans.
+  // Kernel names are OpenBLAS's (driver/others/dynamic.c); skipped when the user forces a set.
+  if (std::getenv("OPENBLAS_CORETYPE") != nullptr) {
+    WARN("OPENBLAS_CORETYPE is set: the kernel set is the user's choice, not checked");
+    return;
+  }
+  const std::string name = detail::blas_kernel_name();
+  INFO(name);
+  __builtin_cpu_init();
+  if (__builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma"))
+    CHECK(name.find("Prescott") == std::string::npos);
+  if (__builtin_cpu_supports("avx512f") && __builtin_cpu_supports("avx512bw") &&
+      __builtin_cpu_supports("avx512dq") && __builtin_cpu_supports("avx512vl"))
+    CHECK((name.find("SkylakeX") != std::string::npos ||
+           name.find("Cooperlake") != std::string::npos ||
+           name.find("SapphireRapids") != std::string::npos));
 }
