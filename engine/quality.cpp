@@ -60,7 +60,8 @@ namespace {
 using detail::Ranked;
 
 // Largest dimension of either space for which the scores count in k-d trees, which pay when N
-// is much larger than 2^d (common practice, no source; measured: bench/RESULTS.md, lane scores).
+// is much larger than 2^d (common practice, no source). Not tuned: measured only on a 3-D
+// input with a 2-D map (bench/RESULTS.md, lane scores).
 constexpr std::size_t kTreeMaxDims = 4;
 
 // Where id sits in a sorted candidate list, or npos.
