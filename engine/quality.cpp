@@ -5,11 +5,14 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <optional>
 #include <span>
 #include <string>
 
 #include "engine/detail/neighbour_scan.hpp"
 #include "engine/detail/point_checks.hpp"
+#include "engine/detail/rank_products.hpp"
+#include "engine/detail/rank_tree.hpp"
 #include "engine/detail/sampling.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
@@ -56,6 +59,11 @@ namespace {
 
 using detail::Ranked;
 
+// Largest dimension of either space for which the scores count in k-d trees, which pay when N
+// is much larger than 2^d (common practice, no source). Not tuned: measured only on a 3-D
+// input with a 2-D map (bench/RESULTS.md, lane scores).
+constexpr std::size_t kTreeMaxDims = 4;
+
 // Where id sits in a sorted candidate list, or npos.
 constexpr std::size_t npos = static_cast<std::size_t>(-1);
 std::size_t position_of(const std::vector<Ranked>& list, NodeId id) {
@@ -67,11 +75,10 @@ std::size_t position_of(const std::vector<Ranked>& list, NodeId id) {
 // Per-thread working memory.
 struct Workspace {
   std::vector<double> q_in, q_map;  // block x dims
-  std::vector<double> d_in, d_map;  // block x chunk
   std::vector<float> columns;
   std::vector<double> row;
-  std::vector<detail::NearestList> lists_in, lists_map;
   std::vector<std::vector<Ranked>> cand_in, cand_map;  // per query, sorted candidates
+  std::vector<Ranked> tree_in, tree_map;               // one query's lists from the trees
   std::vector<double> q_pending;                       // queries that need a counting pass
   std::vector<NodeId> pending_self;
   std::vector<std::size_t> pending_query;
@@ -134,6 +141,55 @@ void ranks_in_other_space(const detail::DistanceScanner& other, const double* qu
   }
 }
 
+// cand[b]: the kc first neighbours of query b (row selves[b], coordinates q + b * dims) in
+// `scan`'s space, in ranking order, by the direct double scan, eight queries at a time.
+void direct_candidates(const detail::DistanceScanner& scan, const double* q,
+                       std::span<const std::uint32_t> selves, std::size_t kc, Workspace& ws,
+                       std::vector<detail::NearestList>& lists, std::vector<double>& dist2,
+                       std::vector<std::vector<Ranked>>& cand) {
+  constexpr std::size_t kGroup = 8;
+  const std::size_t n = scan.rows(), dims = scan.dims(), chunk = scan.chunk();
+  cand.resize(std::max(cand.size(), selves.size()));
+  lists.resize(kGroup);
+  dist2.resize(kGroup * chunk);
+  for (std::size_t g0 = 0; g0 < selves.size(); g0 += kGroup) {
+    const std::size_t count = std::min(kGroup, selves.size() - g0);
+    for (std::size_t b = 0; b < count; ++b) lists[b].reset(kc);
+    for (std::size_t begin = 0; begin < n; begin += chunk) {
+      const std::size_t end = std::min(n, begin + chunk);
+      scan.distances(q + g0 * dims, count, begin, end, ws.columns, dist2.data());
+      for (std::size_t b = 0; b < count; ++b)
+        lists[b].offer_range(dist2.data() + b * chunk, begin, end, selves[g0 + b]);
+    }
+    for (std::size_t b = 0; b < count; ++b) lists[b].take_sorted(cand[g0 + b]);
+  }
+}
+
+// Both spaces by k-d trees: each query's kmax first neighbours in either space, and the rank
+// of each in the other (read from the other's list when it is there, else counted).
+void tree_ranks(const detail::RankTree& tree_in, const detail::RankTree& tree_map,
+                std::span<const std::uint32_t> selves, std::size_t kmax, Workspace& ws,
+                std::vector<std::vector<std::size_t>>& rank_in,
+                std::vector<std::vector<std::size_t>>& rank_map) {
+  rank_in.resize(selves.size());
+  rank_map.resize(selves.size());
+  std::vector<Ranked>& near_in = ws.tree_in;
+  std::vector<Ranked>& near_map = ws.tree_map;
+  for (std::size_t b = 0; b < selves.size(); ++b) {
+    const std::size_t self = selves[b];
+    tree_in.nearest(self, kmax, near_in);
+    tree_map.nearest(self, kmax, near_map);
+    rank_in[b].resize(kmax);
+    rank_map[b].resize(kmax);
+    for (std::size_t p = 0; p < kmax; ++p) {
+      const std::size_t at_in = position_of(near_in, near_map[p].id);
+      rank_in[b][p] = at_in != npos ? at_in + 1 : tree_in.rank(self, near_map[p].id);
+      const std::size_t at_map = position_of(near_map, near_in[p].id);
+      rank_map[b][p] = at_map != npos ? at_map + 1 : tree_map.rank(self, near_in[p].id);
+    }
+  }
+}
+
 }  // namespace
 
 void detail::estimate_from_terms(NeighbourhoodScore& s, std::size_t n, std::uint64_t seed) {
@@ -157,6 +213,12 @@ void detail::estimate_from_terms(NeighbourhoodScore& s, std::size_t n, std::uint
 
 NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
                                          const QualityOptions& options, StopToken stop) {
+  return detail::neighbourhood_scores(input, map, options, true, stop);
+}
+
+NeighbourhoodScores detail::neighbourhood_scores(const PointSet& input, const PointSet& map,
+                                                 const QualityOptions& options, bool use_fast,
+                                                 StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
   detail::require_points(input, "quality input points");
   detail::require_points(map, "quality map");
@@ -198,9 +260,34 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
   std::vector<std::uint32_t> shared(nq * nk);
 
   stop.expect(nq);
-  const detail::DistanceScanner scan_in(input), scan_map(map);
-  const std::size_t chunk = std::min(scan_in.chunk(), scan_map.chunk());
-  const std::size_t block = 8;
+  // In a few dimensions both spaces are counted in k-d trees; in many input dimensions the
+  // input-space ranks come from float32 products with every doubtful rank settled exactly;
+  // otherwise the direct scan. All three give the same ranks.
+  const bool trees = use_fast && input.cols <= kTreeMaxDims && map.cols <= kTreeMaxDims;
+  const bool products = use_fast && !trees && detail::products_serve(input);
+  std::optional<detail::RankTree> tree_in, tree_map;
+  std::optional<detail::DistanceScanner> scan_in, scan_map;
+  std::optional<detail::ProductRanker> ranker;
+  if (trees) {
+    ExceptionCollector built;
+#pragma omp parallel sections num_threads(2)
+    {
+#pragma omp section
+      built.run([&] { tree_in.emplace(input); });
+#pragma omp section
+      built.run([&] { tree_map.emplace(map); });
+    }
+    built.rethrow();
+  } else {
+    if (products)
+      ranker.emplace(input);
+    else
+      scan_in.emplace(input);
+    scan_map.emplace(map);
+  }
+  // Products want many queries per pass over the points; the direct scan keeps its blocks of
+  // eight in cache.
+  const std::size_t block = products || trees ? 64 : 8;
   const std::size_t blocks = (nq + block - 1) / block;
   const std::size_t d = input.cols, m = map.cols;
   const int threads = resolve_threads(options.threads);
@@ -210,10 +297,9 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
 #pragma omp parallel num_threads(threads)
   {
     Workspace ws;
-    ws.lists_in.resize(block);
-    ws.lists_map.resize(block);
-    ws.cand_in.resize(block);
-    ws.cand_map.resize(block);
+    std::vector<detail::NearestList> lists;
+    std::vector<double> dist2;
+    std::vector<std::vector<NodeId>> others;
     std::vector<std::vector<std::size_t>> rank_in, rank_map;
 #pragma omp for schedule(dynamic)
     for (std::size_t blk = 0; blk < blocks; ++blk) {
@@ -222,37 +308,32 @@ NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& 
         stop.check("quality");
         const std::size_t q0 = blk * block;
         const std::size_t count = std::min(block, nq - q0);
-        ws.q_in.resize(count * d);
-        ws.q_map.resize(count * m);
-        for (std::size_t b = 0; b < count; ++b) {
-          scan_in.load_query(queries[q0 + b], ws.q_in.data() + b * d);
-          scan_map.load_query(queries[q0 + b], ws.q_map.data() + b * m);
-          ws.lists_in[b].reset(kc);
-          ws.lists_map[b].reset(kc);
-        }
-        ws.d_in.resize(count * scan_in.chunk());
-        ws.d_map.resize(count * scan_map.chunk());
-        for (std::size_t begin = 0; begin < n; begin += chunk) {
-          const std::size_t end = std::min(n, begin + chunk);
-          scan_in.distances(ws.q_in.data(), count, begin, end, ws.columns, ws.d_in.data());
-          scan_map.distances(ws.q_map.data(), count, begin, end, ws.columns, ws.d_map.data());
-          for (std::size_t b = 0; b < count; ++b) {
-            const std::size_t self = queries[q0 + b];
-            const double* din = ws.d_in.data() + b * scan_in.chunk();
-            const double* dmap = ws.d_map.data() + b * scan_map.chunk();
-            ws.lists_in[b].offer_range(din, begin, end, self);
-            ws.lists_map[b].offer_range(dmap, begin, end, self);
-          }
-        }
-        for (std::size_t b = 0; b < count; ++b) {
-          ws.lists_in[b].take_sorted(ws.cand_in[b]);
-          ws.lists_map[b].take_sorted(ws.cand_map[b]);
-        }
         const std::span<const std::uint32_t> selves(queries.data() + q0, count);
-        ranks_in_other_space(scan_in, ws.q_in.data(), selves, ws.cand_map, ws.cand_in, kmax, ws,
-                             rank_in);
-        ranks_in_other_space(scan_map, ws.q_map.data(), selves, ws.cand_in, ws.cand_map, kmax, ws,
-                             rank_map);
+        if (trees) {
+          tree_ranks(*tree_in, *tree_map, selves, kmax, ws, rank_in, rank_map);
+        } else {
+          ws.q_map.resize(count * m);
+          for (std::size_t b = 0; b < count; ++b)
+            scan_map->load_query(queries[q0 + b], ws.q_map.data() + b * m);
+          direct_candidates(*scan_map, ws.q_map.data(), selves, kc, ws, lists, dist2, ws.cand_map);
+          if (products) {
+            others.resize(count);
+            for (std::size_t b = 0; b < count; ++b) {
+              others[b].clear();
+              for (std::size_t p = 0; p < kmax; ++p) others[b].push_back(ws.cand_map[b][p].id);
+            }
+            ranker->rank(selves, kmax, std::span(others.data(), count), ws.cand_in, rank_in);
+          } else {
+            ws.q_in.resize(count * d);
+            for (std::size_t b = 0; b < count; ++b)
+              scan_in->load_query(queries[q0 + b], ws.q_in.data() + b * d);
+            direct_candidates(*scan_in, ws.q_in.data(), selves, kc, ws, lists, dist2, ws.cand_in);
+            ranks_in_other_space(*scan_in, ws.q_in.data(), selves, ws.cand_map, ws.cand_in, kmax,
+                                 ws, rank_in);
+          }
+          ranks_in_other_space(*scan_map, ws.q_map.data(), selves, ws.cand_in, ws.cand_map, kmax,
+                               ws, rank_map);
+        }
         for (std::size_t b = 0; b < count; ++b) {
           const std::size_t q = q0 + b;
           for (std::size_t kk = 0; kk < nk; ++kk) {

@@ -25,11 +25,18 @@
 // (per-point fractions in [0, 1]). Intervals have zero width only when every point is scored.
 // Results depend on the seed, never on the number of threads.
 //
-// Cost: every query point is compared with all N points in both spaces, in double (about
-// N (d + m) operations per query), parallel over blocks of query points; misplaced neighbours
-// ranked beyond about max(8k, k + 96, min(N/256, 1024)) candidates cost one more scan. Memory: a
-// transposed float copy of each point set (when it fits in 1 GiB; else chunks are transposed
-// on the fly) plus O(block x chunk) per thread; never N x N.
+// Cost: every query point is ranked against all N points in both spaces, parallel over
+// blocks of query points, by one of three ways to the same ranks: in a few dimensions (both
+// spaces at most 4) by counting in a k-d tree per space (engine/detail/rank_tree.hpp: about
+// log N per neighbour, more for ranks far out); in many input dimensions the input-space
+// distances come from float32 products, and only the points whose order their error bound
+// leaves in doubt are computed in double (engine/detail/rank_products.hpp); otherwise, and
+// for the map beside the products, a direct double scan (about N (d + m) operations per
+// query), where misplaced neighbours ranked beyond about max(8k, k + 96, min(N/256, 1024))
+// candidates cost one more scan. Memory: two trees (about 30 bytes per point and dimension),
+// or a centred float copy of the input for the products, or a transposed float copy of each
+// point set (when it fits in 1 GiB; else chunks are transposed on the fly), plus
+// O(block x chunk) per thread; never N x N.
 #pragma once
 
 #include <cstddef>
@@ -107,6 +114,13 @@ namespace detail {
 // last step of neighbourhood_scores, shared with the coverage checks, which draw many samples
 // from the terms of one exact run (each sampled point's terms are its exact ones).
 void estimate_from_terms(NeighbourhoodScore& s, std::size_t n, std::uint64_t seed);
+
+// neighbourhood_scores, with its faster ways to the same ranks allowed (the default: k-d tree
+// counts in a few dimensions, float32 products in many) or not (every distance by the direct
+// double scan): both give the same results, which the tests check.
+NeighbourhoodScores neighbourhood_scores(const PointSet& input, const PointSet& map,
+                                         const QualityOptions& options, bool use_fast,
+                                         StopToken stop);
 }  // namespace detail
 
 }  // namespace unfurl

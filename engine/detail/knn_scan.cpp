@@ -9,98 +9,12 @@
 #include <cmath>
 #include <mutex>
 
-#include "engine/detail/float_product.hpp"
+#include "engine/detail/float_scan.hpp"
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl::detail {
 namespace {
-
-constexpr std::size_t kColumnBlock = 2048;  // columns per product: B x 2048 floats per thread
-constexpr double kUnitRoundoff = 0x1p-24;   // float32 unit roundoff
-
-struct ScanData {
-  std::size_t rows = 0, cols = 0;
-  std::vector<double> mean;
-  std::vector<float> y;      // centred data rows, row-major rows x cols
-  std::vector<float> norm2;  // |y|^2 per row
-  double max_norm = 0.0;
-};
-
-ScanData prepare(const PointSet& data) {
-  ScanData s;
-  const std::size_t n = data.rows, d = data.cols;
-  s.mean.assign(d, 0.0);
-  for (std::size_t i = 0; i < n; ++i)
-    for (std::size_t j = 0; j < d; ++j) s.mean[j] += data.row(i)[j];
-  for (double& m : s.mean) m /= static_cast<double>(n);
-  s.rows = n;
-  s.cols = d;
-  s.y.resize(n * d);
-  s.norm2.resize(n);
-  for (std::size_t i = 0; i < n; ++i) {
-    double sum = 0.0;
-    for (std::size_t j = 0; j < d; ++j) {
-      const float v = static_cast<float>(data.row(i)[j] - s.mean[j]);
-      s.y[i * d + j] = v;
-      sum += static_cast<double>(v) * v;
-    }
-    s.norm2[i] = static_cast<float>(sum);
-    s.max_norm = std::max(s.max_norm, std::sqrt(sum));
-  }
-  return s;
-}
-
-// Bound on |approximate - exact| squared distance for a centred query of squared norm
-// `norm2`: gamma_{d+4} (|x| + max |y|)^2, doubled for safety.
-double slack(const ScanData& s, std::size_t d, double norm2) {
-  const double gamma = 2.0 * static_cast<double>(d + 4) * kUnitRoundoff;
-  const double reach = std::sqrt(norm2) + s.max_norm;
-  return gamma * reach * reach;
-}
-
-struct QueryBlock {
-  std::vector<float> x;  // centred query rows, row-major
-  std::vector<float> norm2;
-  std::vector<double> slack;  // bound on |approximate - exact| squared distance, per row
-};
-
-QueryBlock gather(const ScanData& s, const PointSet& queries, std::span<const std::size_t> rows) {
-  QueryBlock b;
-  const std::size_t d = queries.cols;
-  b.x.resize(rows.size() * d);
-  b.norm2.resize(rows.size());
-  b.slack.resize(rows.size());
-  for (std::size_t r = 0; r < rows.size(); ++r) {
-    double sum = 0.0;
-    for (std::size_t j = 0; j < d; ++j) {
-      const float v = static_cast<float>(queries.row(rows[r])[j] - s.mean[j]);
-      b.x[r * d + j] = v;
-      sum += static_cast<double>(v) * v;
-    }
-    b.norm2[r] = static_cast<float>(sum);
-    b.slack[r] = slack(s, d, sum);
-  }
-  return b;
-}
-
-// Visits the approximate squared distances of the block's rows to every data row, one
-// column block at a time: visit(r, c0, row_of_approximations, count).
-template <class Visit>
-void for_each_column_block(const ScanData& s, const QueryBlock& b, Visit&& visit) {
-  const std::size_t n = s.rows, d = s.cols;
-  const std::size_t rows = b.norm2.size();
-  std::vector<float> product(rows * kColumnBlock), approx(kColumnBlock);
-  for (std::size_t c0 = 0; c0 < n; c0 += kColumnBlock) {
-    const std::size_t cn = std::min(kColumnBlock, n - c0);
-    product_transposed(b.x.data(), rows, s.y.data() + c0 * d, cn, d, product.data());
-    for (std::size_t r = 0; r < rows; ++r) {
-      const float* p = product.data() + r * cn;
-      for (std::size_t j = 0; j < cn; ++j) approx[j] = b.norm2[r] + s.norm2[c0 + j] - 2.0f * p[j];
-      visit(r, c0, approx.data(), cn);
-    }
-  }
-}
 
 // Rows whose neighbours are every data row with approximate squared distance <= limit[r]
 // (exactly filtered by keep(r, neighbour)), for the listed query rows.
@@ -114,7 +28,7 @@ std::vector<std::vector<Neighbour>> threshold_scan(const ScanData& s, const Poin
   std::vector<std::vector<Neighbour>> lists(rows.size());
   parallel_chunks(rows.size(), block_rows, stop, "graph", [&](std::size_t b, std::size_t e) {
     const auto block_list = rows.subspan(b, e - b);
-    const QueryBlock qb = gather(s, queries, block_list);
+    const QueryBlock qb = gather_queries(s, queries, block_list);
     for_each_column_block(
         s, qb, [&](std::size_t r, std::size_t c0, const float* a, std::size_t cn) {
           const std::size_t q = block_list[r];
@@ -135,15 +49,6 @@ std::vector<std::size_t> all_rows(std::size_t n) {
   std::vector<std::size_t> rows(n);
   for (std::size_t i = 0; i < n; ++i) rows[i] = i;
   return rows;
-}
-
-double centred_norm2(const ScanData& s, const float* row) {
-  double sum = 0.0;
-  for (std::size_t j = 0; j < s.mean.size(); ++j) {
-    const double v = static_cast<float>(row[j] - s.mean[j]);
-    sum += v * v;
-  }
-  return sum;
 }
 
 // The `keep` best candidates of every query row by (approximation, index), as one max-heap
@@ -189,7 +94,7 @@ void query_candidates(const ScanData& s, const PointSet& queries, std::size_t bl
                       CandidateHeaps& heaps, StopToken stop) {
   const auto rows = all_rows(queries.rows);
   parallel_chunks(queries.rows, block_rows, stop, "graph", [&](std::size_t b, std::size_t e) {
-    const QueryBlock qb = gather(s, queries, std::span(rows).subspan(b, e - b));
+    const QueryBlock qb = gather_queries(s, queries, std::span(rows).subspan(b, e - b));
     std::lock_guard<std::mutex> hold(heaps.lock_of(b));  // blocks are this task's own
     for_each_column_block(s, qb,
                           [&](std::size_t r, std::size_t c0, const float* a, std::size_t cn) {
@@ -268,7 +173,7 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
   if (k == 0 || queries.rows == 0) return;
   const std::size_t available = data.rows - (exclude_self ? 1 : 0);
   if (k > available) throw InternalError("knn_scan: k exceeds the rows available");
-  const ScanData s = prepare(data);
+  const ScanData s = prepare_scan(data);
   // Candidates beyond k absorb the approximation error; common practice, no source.
   const std::size_t keep = std::min(available, k + std::max<std::size_t>(16, k));
   CandidateHeaps heaps(queries.rows, keep, block_rows);
@@ -297,7 +202,7 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
       std::copy_n(list.begin(), k, out.begin() + static_cast<std::ptrdiff_t>(q * k));
       if (heap.size() == available) continue;  // every row was a candidate
       const double kth = list[k - 1].squared;
-      const double margin = slack(s, data.cols, centred_norm2(s, queries.row(q)));
+      const double margin = scan_slack(s, centred_norm2(s, queries.row(q)));
       if (static_cast<double>(heap.front().first) - margin > kth) continue;
       certain[q] = 0;
       limit[q] = kth + margin;
@@ -323,17 +228,12 @@ void knn_scan(const PointSet& data, const PointSet& queries, std::size_t k, bool
 RadiusLists radius_scan(const PointSet& data, const PointSet& queries, double radius,
                         bool exclude_self, std::size_t block_rows, StopToken stop) {
   if (data.rows == 0) return RadiusLists(queries.rows);
-  const ScanData s = prepare(data);
+  const ScanData s = prepare_scan(data);
   const auto rows = all_rows(queries.rows);
   const double r2 = radius * radius;
   std::vector<double> limit(queries.rows);
   for (std::size_t q = 0; q < queries.rows; ++q) {
-    double sum = 0.0;
-    for (std::size_t j = 0; j < queries.cols; ++j) {
-      const double v = static_cast<float>(queries.row(q)[j] - s.mean[j]);
-      sum += v * v;
-    }
-    limit[q] = r2 + slack(s, queries.cols, sum);
+    limit[q] = r2 + scan_slack(s, centred_norm2(s, queries.row(q)));
   }
   auto lists = threshold_scan(s, data, queries, rows, limit, exclude_self, block_rows, stop,
                               [r2](std::size_t, const Neighbour& n) { return n.squared <= r2; });

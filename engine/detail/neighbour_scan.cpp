@@ -33,6 +33,19 @@ squared_distances(const float* base, std::size_t column_step, std::size_t d, con
 
 }  // namespace
 
+__attribute__((optimize("fp-contract=off"))) double exact_squared_to(const double* q,
+                                                                     const float* x,
+                                                                     std::size_t d) {
+  if (d == 0) return 0;
+  double t = static_cast<double>(x[0]) - q[0];
+  double sum = t * t;
+  for (std::size_t c = 1; c < d; ++c) {
+    t = static_cast<double>(x[c]) - q[c];
+    sum += t * t;
+  }
+  return sum;
+}
+
 DistanceScanner::DistanceScanner(const PointSet& points)
     : points_(points),
       // About 64 KiB of transposed coordinates per chunk: small enough to stay in L2 while a

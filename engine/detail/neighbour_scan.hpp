@@ -56,6 +56,11 @@ class DistanceScanner {
   std::vector<float> columns_;
 };
 
+// |q - x|^2 for a query q of d doubles and a float row x, with the bits of
+// DistanceScanner::distances (the same terms summed in the same order), for ranks decided
+// outside the scan.
+double exact_squared_to(const double* q, const float* x, std::size_t d);
+
 // Keeps the `size` points that come first in the ranking convention. Points must be offered
 // in increasing id order (the scan order), which lets a plain distance comparison break ties.
 // Accepted points are appended to a buffer of up to 2 * size and cut back to the best `size`

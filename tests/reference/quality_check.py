@@ -8,6 +8,9 @@
   np.argsort's default (introsort, not stable), so its tie order is unspecified there; the
   tie case is compared with the published formula evaluated by NumPy with a stable argsort
   (ties to the lower index, our documented convention).
+- The digits set bundled with scikit-learn (1,797 x 64, integer pixels, many ties; 64
+  columns take the float32-product ranks) against its first two principal components,
+  compared with the published formula by a stable argsort as the tie case.
 - Residual variance 1 - R^2 against scipy.stats.pearsonr on the same pairs (Tenenbaum, de Silva
   and Langford 2000, note 42), geodesics from scipy.sparse.csgraph.shortest_path.
 - Levina-Bickel intrinsic dimension against the published formula (NIPS 2004, with the
@@ -24,7 +27,7 @@ import tempfile
 import numpy as np
 from scipy.sparse.csgraph import shortest_path
 from scipy.stats import pearsonr
-from sklearn.datasets import make_swiss_roll
+from sklearn.datasets import load_digits, make_swiss_roll
 from sklearn.manifold import trustworthiness
 from sklearn.neighbors import NearestNeighbors, kneighbors_graph
 
@@ -77,11 +80,20 @@ def scores_vs_sklearn(tmp, name, x, y, ks):
               trustworthiness(y64, x64, n_neighbors=k), 1e-9)
 
 
+def squared_distances(a):
+    """All squared distances; by |a|^2 + |b|^2 - 2 a.b, exact in float64 for small integers."""
+    if np.array_equal(a, np.round(a)) and np.abs(a).max() * np.abs(a).max() * a.shape[1] < 2**40:
+        g = a @ a.T
+        n2 = np.diag(g)
+        return n2[:, None] + n2[None, :] - 2.0 * g
+    return ((a[:, None, :] - a[None, :, :]) ** 2).sum(-1)
+
+
 def stable_formula(x, y, k):
     """Venna and Kaski's T(k) by NumPy, ties to the lower index (stable argsort)."""
     n = len(x)
-    dx = ((x[:, None, :] - x[None, :, :]) ** 2).sum(-1)
-    dy = ((y[:, None, :] - y[None, :, :]) ** 2).sum(-1)
+    dx = squared_distances(x)
+    dy = squared_distances(y)
     np.fill_diagonal(dx, np.inf)
     np.fill_diagonal(dy, np.inf)
     rank_x = np.empty((n, n), dtype=np.int64)
@@ -89,6 +101,19 @@ def stable_formula(x, y, k):
     nn_y = np.argsort(dy, axis=1, kind="stable")[:, :k]
     r = rank_x[np.arange(n)[:, None], nn_y] - k
     return 1.0 - r[r > 0].sum() * 2.0 / (n * k * (2.0 * n - 3.0 * k - 1.0))
+
+
+def scores_vs_formula(tmp, name, x, y, ks):
+    write_points(f"{tmp}/x.bin", x)
+    write_points(f"{tmp}/y.bin", y)
+    out = probe("scores", f"{tmp}/x.bin", f"{tmp}/y.bin", ",".join(map(str, ks)), "exact", 2, 1)
+    for s in out["scores"] if out else []:
+        k = s["k"]
+        # Reference: the published formula with a stable argsort (NumPy), see above.
+        check(f"{name} T({k}) vs stable-argsort formula", s["trustworthiness"],
+              stable_formula(x.astype(np.float64), y.astype(np.float64), k), 1e-9)
+        check(f"{name} C({k}) vs stable-argsort formula", s["continuity"],
+              stable_formula(y.astype(np.float64), x.astype(np.float64), k), 1e-9)
 
 
 def main():
@@ -111,16 +136,15 @@ def main():
         # Ties: points on an integer grid with duplicates, map a coarser grid.
         x = rng.integers(0, 4, size=(120, 3)).astype(np.float32)
         y = np.floor(x[:, :2] / 2).astype(np.float32)
-        write_points(f"{tmp}/x.bin", x)
-        write_points(f"{tmp}/y.bin", y)
-        out = probe("scores", f"{tmp}/x.bin", f"{tmp}/y.bin", "3,10", "exact", 2, 1)
-        for s in out["scores"] if out else []:
-            k = s["k"]
-            # Reference: the published formula with a stable argsort (NumPy), see above.
-            check(f"ties T({k}) vs stable-argsort formula", s["trustworthiness"],
-                  stable_formula(x.astype(np.float64), y.astype(np.float64), k), 1e-9)
-            check(f"ties C({k}) vs stable-argsort formula", s["continuity"],
-                  stable_formula(y.astype(np.float64), x.astype(np.float64), k), 1e-9)
+        scores_vs_formula(tmp, "ties", x, y, [3, 10])
+
+        # Open data in 64-D, where the input ranks come from float32 products: the digits set
+        # bundled with scikit-learn (1,797 x 64, integer pixels 0-16, so many tied distances)
+        # against its first two principal components (NumPy SVD).
+        x = load_digits().data.astype(np.float32)
+        centred = x.astype(np.float64) - x.astype(np.float64).mean(axis=0)
+        y = (centred @ np.linalg.svd(centred, full_matrices=False)[2][:2].T).astype(np.float32)
+        scores_vs_formula(tmp, "digits", x, y, [5, 12, 30])
 
         # Residual variance over landmark-to-all geodesic rows. Geodesics: SciPy shortest_path
         # on a scikit-learn 10-NN graph of a Swiss roll; map: the unrolled parameters plus a
