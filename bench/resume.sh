@@ -26,7 +26,8 @@ load() { cut -d' ' -f1-3 /proc/loadavg; }
 secs() { awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,p,":"); s=0; for(i=1;i<=n;i++) s=s*60+p[i]; print s}' "$work/$1.time"; }
 
 # The steps of a run from its --json report (the run record's steps, seconds each).
-steps() { /usr/bin/python3 -c 'import json,sys; r=json.load(open(sys.argv[1]))["run"]["steps"]; print(", ".join(f"{s[\"step\"]} {s[\"seconds\"]:.2f}" for s in r))' "$work/$1.json"; }
+steps() { /usr/bin/python3 -c 'import json, sys
+print(", ".join("%s %.2f" % (s["step"], s["seconds"]) for s in json.load(open(sys.argv[1]))["run"]["steps"]))' "$work/$1.json"; }
 
 case $scores in both) modes=(on off) ;; on | off) modes=("$scores") ;; *) echo "SCORES: both, on or off" >&2; exit 64 ;; esac
 for mode in "${modes[@]}"; do
