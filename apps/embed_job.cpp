@@ -11,6 +11,7 @@
 #include "engine/error.hpp"
 #include "engine/linear.hpp"
 #include "engine/placement.hpp"
+#include "engine/step_store.hpp"
 #include "io/csv_writer.hpp"
 #include "io/map_file.hpp"
 
@@ -238,9 +239,13 @@ nlohmann::json run_embed_job(const GlobalOptions& g, const EmbedArgs& a, JobInpu
       // The graph stage's kNN lists already gave the intrinsic dimension (no second search).
       if (result.dimension) assess.dimension.reset();
       if (result.residual) assess.residual = false;  // the embedding's own pairs are better
-      Assessment scores = assess_map(rows_of(in.points, result.rows), result.coords,
-                                     a.linear ? nullptr : &result.geodesic, axis_spectrum(result),
-                                     assess, stop_token());
+      std::optional<Assessment> kept =
+          in.saved_steps ? in.saved_steps->load_scores() : std::nullopt;
+      Assessment scores = kept ? std::move(*kept)
+                               : assess_map(rows_of(in.points, result.rows), result.coords,
+                                            a.linear ? nullptr : &result.geodesic,
+                                            axis_spectrum(result), assess, stop_token());
+      if (in.saved_steps && !kept) in.saved_steps->save_scores(scores);
       if (result.dimension) scores.dimension = result.dimension;
       if (result.residual) scores.residual = result.residual;
       print_assessment(g, scores);

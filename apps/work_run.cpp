@@ -90,7 +90,14 @@ io::WorkKeys work_keys(const GlobalOptions& g, const EmbedArgs& a, const json& i
                     {"landmarks", landmark_text(a.map.landmarks)},
                     {"pick", a.map.pick},
                     {"seed", g.seed}};
-  return {graph.dump(), landmarks.dump()};
+  // The map adds nothing the landmarks do not fix (dims is there); the residual variance its
+  // seed (ResidualOptions' other fields are not options); the scores what assess_map reads.
+  json map = {{"landmarks", landmarks}, {"step", "map"}};
+  json residual = {{"map", map}, {"residual_seed", g.seed}};
+  json scores = {
+      {"residual", residual},     {"score_k", a.score.ks},    {"score_k_given", a.score.ks_given},
+      {"method", a.score.method}, {"sample", a.score.sample}, {"linear", a.linear}};
+  return {graph.dump(), landmarks.dump(), map.dump(), residual.dump(), scores.dump()};
 }
 
 WorkRun::WorkRun(const GlobalOptions& g, const WorkArgs& w, const EmbedArgs& a,

@@ -8,13 +8,14 @@
 #   resumed:  a kept work folder cut back to 14 of its 16 row batches (87.5% of the rows, a
 #             little under the issue's 90%), copied fresh before each run (the copy is not
 #             timed); ratio = resumed / the straight run with the work folder of the same
-#             round. With scores and with --no-score (the scores are not saved, so they run
-#             again on resume).
+#             round. With scores and with --no-score. The steps of every run (seconds each,
+#             from `embed --json`) follow the tables: what a resumed run spends its time on,
+#             and, in the saved runs, the landmark choice that runs before the rows.
 # Writes Markdown tables to stdout; paste them into bench/RESULTS.md with the date.
 #
-# usage: bench/resume.sh BUILD_DIR WORK_DIR [N] [ROUNDS]
+# usage: bench/resume.sh BUILD_DIR WORK_DIR [N] [ROUNDS] [SCORES: both|on|off]
 set -euo pipefail
-build=${1:?build folder}; work=${2:?work folder}; n=${3:-1000000}; rounds=${4:-3}
+build=${1:?build folder}; work=${2:?work folder}; n=${3:-1000000}; rounds=${4:-3}; scores=${5:-both}
 unfurl="$build/apps/unfurl"
 mkdir -p "$work"
 source "$(cd "$(dirname "$0")" && pwd)/timed_run.sh"
@@ -24,23 +25,36 @@ points="$work/points/swiss-roll.h5"
 load() { cut -d' ' -f1-3 /proc/loadavg; }
 secs() { awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,p,":"); s=0; for(i=1;i<=n;i++) s=s*60+p[i]; print s}' "$work/$1.time"; }
 
-for score in "" "--no-score"; do
+# The steps of a run from its --json report (the run record's steps, seconds each).
+steps() { /usr/bin/python3 -c 'import json, sys
+print(", ".join("%s %.2f" % (s["step"], s["seconds"]) for s in json.load(open(sys.argv[1]))["run"]["steps"]))' "$work/$1.json"; }
+
+case $scores in both) modes=(on off) ;; on | off) modes=("$scores") ;; *) echo "SCORES: both, on or off" >&2; exit 64 ;; esac
+for mode in "${modes[@]}"; do
+  score=; [ "$mode" = off ] && score=--no-score
   tag=${score:+-noscore}
   base=(--quiet embed "$points" --k 10 --landmarks 256 $score)
-  # The 87.5% folder: a complete kept folder without its last two batches.
+  # The 87.5% folder: a complete kept folder without its last two batches and without the
+  # pieces after the rows (map, residual variance, scores).
+  rm -rf "$work/template$tag.work"
   "$unfurl" "${base[@]}" -o "$work/full$tag.h5" --work-dir "$work/template$tag.work" --keep-work-dir
-  rm -f "$work/template$tag.work"/rows-0014.*.h5 "$work/template$tag.work"/rows-0015.*.h5
+  rm -f "$work/template$tag.work"/rows-0014.*.h5 "$work/template$tag.work"/rows-0015.*.h5 \
+    "$work/template$tag.work"/map.*.h5 "$work/template$tag.work"/residual.*.h5 \
+    "$work/template$tag.work"/scores.*.h5
   echo
   echo "scores: ${score:-on}"
   echo "| round | without folder s | with folder s | ratio | resumed (87.5%) s | ratio to straight | load before |"
   echo "|---|---|---|---|---|---|---|"
   for r in $(seq 1 "$rounds"); do
     l=$(load)
-    run "plain$tag-$r" "$unfurl" "${base[@]}" -o "$work/plain.h5" --no-work-dir > /dev/null
-    run "saved$tag-$r" "$unfurl" "${base[@]}" -o "$work/saved.h5" --work-dir "$work/saved.work" > /dev/null
+    run "plain$tag-$r" "$unfurl" "${base[@]}" -o "$work/plain.h5" --no-work-dir --json "$work/plain$tag-$r.json" > /dev/null
+    run "saved$tag-$r" "$unfurl" "${base[@]}" -o "$work/saved.h5" --work-dir "$work/saved.work" --json "$work/saved$tag-$r.json" > /dev/null
     rm -rf "$work/resumed.work"; cp -r "$work/template$tag.work" "$work/resumed.work"
-    run "resumed$tag-$r" "$unfurl" "${base[@]}" -o "$work/resumed.h5" --work-dir "$work/resumed.work" > /dev/null
+    run "resumed$tag-$r" "$unfurl" "${base[@]}" -o "$work/resumed.h5" --work-dir "$work/resumed.work" --json "$work/resumed$tag-$r.json" > /dev/null
     a=$(secs "plain$tag-$r"); b=$(secs "saved$tag-$r"); c=$(secs "resumed$tag-$r")
     echo "| $r | $a | $b | $(awk -v a="$a" -v b="$b" 'BEGIN{printf "%.3f", b/a}') | $c | $(awk -v b="$b" -v c="$c" 'BEGIN{printf "%.3f", c/b}') | $l |"
+  done
+  for r in $(seq 1 "$rounds"); do
+    for kind in plain saved resumed; do echo "- $kind$tag-$r: $(steps "$kind$tag-$r")"; done
   done
 done

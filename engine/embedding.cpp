@@ -10,10 +10,6 @@
 namespace unfurl {
 namespace {
 
-// In exact mode the residual variance needs geodesic rows too, but not all N of them:
-// this many evenly spaced rows give its pairs (a documented, deterministic subset).
-constexpr std::size_t kExactScoringRows = 256;
-
 // With a step store the landmark rows are computed and saved in this many batches: a stop
 // loses at most one batch, and each batch is one file of L / 16 rows.
 constexpr std::size_t kRowBatches = 16;
@@ -115,26 +111,51 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   SourceRowsOptions so{options.landmarks};
   if (!options.exact())
     so.landmarks.count = LandmarkCount{landmark_count(options, ordered.graph.nodes())};
-  SourceRows sources =
-      store && !options.exact()
-          ? stored_source_rows(ordered.graph, order.new_of_old.values(), so, *store, stop)
-          : source_rows(ordered.graph, order.new_of_old.values(), so, stop);
+  std::optional<MapStep> saved = store ? store->load_map() : std::nullopt;
+  if (saved && (saved->spectral.coords.rows != ordered.graph.nodes() ||
+                saved->spectral.coords.cols != options.spectral.dims))
+    throw InternalError("saved map does not fit the graph");
+  // The rows go into the result only when asked for; else a saved map needs none read back.
+  const bool rows_wanted = options.keep_geodesics;
+  SourceRows sources;
+  if (saved && !rows_wanted) {
+    sources.rows.cols = ordered.graph.nodes();
+    sources.all_nodes = options.exact();
+    sources.summary = saved->landmarks;
+  } else if (store && !options.exact()) {
+    sources = stored_source_rows(ordered.graph, order.new_of_old.values(), so, *store, stop);
+  } else {
+    sources = source_rows(ordered.graph, order.new_of_old.values(), so, stop);
+  }
   result.seconds.geodesics = watch.seconds();
   result.landmarks = sources.summary;
   append_warnings(result.warnings, "landmarks", sources.summary.warnings);
 
   watch = Stopwatch();
-  SpectralResult map = map_nodes(sources, options.spectral, stop);
+  MapStep made = saved ? std::move(*saved)
+                       : MapStep{map_nodes(sources, options.spectral, stop), sources.rows.sources,
+                                 sources.summary};
+  if (store && !saved) store->save_map(made);
+  SpectralResult& map = made.spectral;
   // Exact mode lists every node as a landmark, whichever rows are kept.
-  std::vector<NodeId> landmark_nodes = sources.rows.sources;
-  if (sources.all_nodes && !options.keep_geodesics)
-    sources.rows = spaced_rows(sources.rows, kExactScoringRows);
+  const std::vector<NodeId> landmark_nodes = std::move(made.sources);
+  if (!rows_wanted) {  // freed now, and not carried back to input rows
+    DistanceRows none;
+    none.cols = sources.rows.cols;
+    sources.rows = std::move(none);
+  }
   result.seconds.spectral = watch.seconds();
   watch = Stopwatch();
   if (options.residual) {  // map.coords row v is node v of the ordered graph
-    const ProgressStep step = stop.step("residual variance", 0);
-    result.residual = graph_residual_variance(ordered.graph, map.coords, *options.residual,
-                                              order.new_of_old.values(), stop);
+    result.residual = store ? store->load_residual() : std::nullopt;
+    if (result.residual && result.residual->by_dims.size() != options.spectral.dims)
+      throw InternalError("saved residual variance does not fit the map");
+    if (!result.residual) {
+      const ProgressStep step = stop.step("residual variance", 0);
+      result.residual = graph_residual_variance(ordered.graph, map.coords, *options.residual,
+                                                order.new_of_old.values(), stop);
+      if (store) store->save_residual(*result.residual);
+    }
   }
   result.seconds.residual = watch.seconds();
   result.spectral = map.summary;

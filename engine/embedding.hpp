@@ -36,8 +36,10 @@ struct EmbedOptions {
   // Landmark count, pick rule and seed. A count of AllLandmarks is exact mode: every node a
   // source, N x N geodesics (memory-bounded), no landmark approximation.
   LandmarkOptions landmarks;
-  SpectralOptions spectral;     // map dimensions (the one place they are set) and eigen solver
-  bool keep_geodesics = false;  // return the landmark rows, columns in map-row order
+  SpectralOptions spectral;  // map dimensions (the one place they are set) and eigen solver
+  // Return the landmark rows (exact mode: all N rows), columns in map-row order, for placing
+  // new points or a residual variance from them; without it the rows are freed after the map.
+  bool keep_geodesics = false;
   // When set, the residual variance curve from geodesic rows of the graph itself, from
   // sources that represent all pairs (engine/quality_residual.hpp), not the landmark rows.
   std::optional<ResidualOptions> residual;
@@ -69,8 +71,8 @@ struct EmbedResult {
   std::vector<double> spectrum;            // eigenvalues of B, descending
   SpectrumMass spectrum_mass;              // whole-spectrum masses (exact or estimated)
   double negative_ratio = 0;               // spectrum_mass.ratio()
-  // Landmark geodesic rows with columns in map-row order (keep_geodesics, or needed by the
-  // residual variance score); empty otherwise.
+  // Landmark geodesic rows with columns in map-row order (keep_geodesics); otherwise no rows
+  // (cols still set).
   DistanceRows geodesic;
   std::optional<ResidualVarianceCurve> residual;  // with options.residual; over graph nodes
   std::optional<GraphSummary> graph;              // absent for a given graph

@@ -1,7 +1,5 @@
 #include "engine/embedding_steps.hpp"
 
-#include <algorithm>
-
 #include "engine/error.hpp"
 #include "engine/geodesic.hpp"
 
@@ -60,20 +58,6 @@ SourceRows source_rows(const NeighbourGraph& ordered, std::span<const NodeId> dr
   LandmarkResult picked = pick_landmarks(ordered, lo, stop);
   out.rows = std::move(picked.rows);
   out.summary = std::move(picked.summary);
-  return out;
-}
-
-DistanceRows spaced_rows(const DistanceRows& all, std::size_t count) {
-  count = std::min(all.rows, count);
-  DistanceRows out;
-  out.rows = count;
-  out.cols = all.cols;
-  out.values.resize(out.rows * out.cols);
-  for (std::size_t i = 0; i < count; ++i) {
-    const std::size_t r = i * all.rows / count;
-    out.sources.push_back(all.sources[r]);
-    std::copy_n(all.row(r), all.cols, out.row(i));
-  }
   return out;
 }
 

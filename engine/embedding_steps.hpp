@@ -73,10 +73,6 @@ struct SourceRows {
 SourceRows source_rows(const NeighbourGraph& ordered, std::span<const NodeId> draw_order,
                        const SourceRowsOptions& options, StopToken stop = {});
 
-// The rows exact mode keeps for scoring when the N x N rows are not kept: `count` evenly
-// spaced ones (all when count >= N), a documented, deterministic subset.
-DistanceRows spaced_rows(const DistanceRows& all, std::size_t count);
-
 // Geodesic rows -> spectrum and map coordinates, row v for ordered node v: landmark MDS,
 // or classical MDS of all rows in exact mode.
 SpectralResult map_nodes(const SourceRows& rows, const SpectralOptions& options,

@@ -4,19 +4,32 @@
 // never learns where or how it is kept. Which parameters a saved result belongs to is the
 // store's business: a load returns nothing when no whole result for this run is kept.
 //
-// Saved steps: the neighbour graph, the landmark choice, and the landmark rows in batches
-// (exact mode saves the graph only). The steps after them (components, node order, spectrum,
-// coordinates, scores) are recomputed from these: they are deterministic and short.
+// Saved steps: the neighbour graph, the landmark choice, the landmark rows in batches (exact
+// mode: none of these two), the map (spectrum and coordinates with the landmarks they came
+// from), the residual variance curve, and the scores (asked for by apps/, which runs them).
+// Components and node order are recomputed from the graph: deterministic and short. With the
+// map saved, the rows are not read back unless the result must carry them.
 #pragma once
 
 #include <cstddef>
 #include <optional>
+#include <vector>
 
+#include "engine/assessment.hpp"
 #include "engine/distance_rows.hpp"
 #include "engine/embedding_steps.hpp"
 #include "engine/landmarks.hpp"
+#include "engine/quality_residual.hpp"
+#include "engine/spectral.hpp"
 
 namespace unfurl {
+
+// The map step: what map_nodes gave and the landmarks it was made from.
+struct MapStep {
+  SpectralResult spectral;      // coords row v: ordered node v
+  std::vector<NodeId> sources;  // ordered node of each landmark (every node in exact mode)
+  LandmarkSummary landmarks;    // of the landmark step (exact mode: the geodesic rows')
+};
 
 class StepStore {
  public:
@@ -36,6 +49,17 @@ class StepStore {
                          std::size_t count) = 0;
   virtual void save_rows(std::size_t batch, const DistanceRows& rows, std::size_t first,
                          std::size_t count) = 0;
+
+  virtual std::optional<MapStep> load_map() = 0;
+  virtual void save_map(const MapStep& map) = 0;
+
+  // EmbedOptions.residual's curve.
+  virtual std::optional<ResidualVarianceCurve> load_residual() = 0;
+  virtual void save_residual(const ResidualVarianceCurve& curve) = 0;
+
+  // The scores of the map as assess_map gives them (the caller's options are in the key).
+  virtual std::optional<Assessment> load_scores() = 0;
+  virtual void save_scores(const Assessment& scores) = 0;
 };
 
 }  // namespace unfurl

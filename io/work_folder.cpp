@@ -26,6 +26,44 @@ NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(IntrinsicDimension, estimate, k, averaging, p
                                    points_skipped, warnings)
 NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(LandmarkSummary, landmarks, nodes, pick, coverage_radius,
                                    choice_visits, seconds, threads, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(SpectrumMass, exact, positive, negative, trace, standard_error,
+                                   probes, steps)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(SpectralSummary, solver, converged, spectrum_complete, largest,
+                                   order, points, iterations, operations, positive, negative,
+                                   operations_mass, noise_floor, noise_axes, seconds, threads,
+                                   warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(ResidualVarianceCurve, by_dims, standard_error, pairs, sampled,
+                                   drawn, seconds, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(NeighbourhoodScore, k, trustworthiness, continuity,
+                                   knn_preservation, t_low, t_high, c_low, c_high, knn_low,
+                                   knn_high, interval_method, sampled, sample_size, scored_points,
+                                   t_terms, c_terms, knn_terms)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(NeighbourhoodScores, by_k, points, queries, method, threads,
+                                   seconds, warnings)
+
+// Assessment by hand: its optional members.
+void to_json(nlohmann::json& j, const Assessment& a) {
+  j = {{"neighbourhoods", a.neighbourhoods},
+       {"axis_share", a.axis_share},
+       {"axis_share_error", a.axis_share_error},
+       {"axis_share_basis", a.axis_share_basis},
+       {"noise_axes", a.noise_axes},
+       {"seconds", a.seconds},
+       {"warnings", a.warnings}};
+  if (a.residual) j["residual"] = *a.residual;
+  if (a.dimension) j["dimension"] = *a.dimension;
+}
+void from_json(const nlohmann::json& j, Assessment& a) {
+  j.at("neighbourhoods").get_to(a.neighbourhoods);
+  j.at("axis_share").get_to(a.axis_share);
+  j.at("axis_share_error").get_to(a.axis_share_error);
+  j.at("axis_share_basis").get_to(a.axis_share_basis);
+  j.at("noise_axes").get_to(a.noise_axes);
+  j.at("seconds").get_to(a.seconds);
+  j.at("warnings").get_to(a.warnings);
+  if (j.contains("residual")) a.residual = j["residual"].get<ResidualVarianceCurve>();
+  if (j.contains("dimension")) a.dimension = j["dimension"].get<IntrinsicDimension>();
+}
 
 }  // namespace unfurl
 
@@ -166,35 +204,6 @@ void WorkFolder::damaged(const std::string& step, const fs::path& file, const st
   fs::remove(file, ec);
 }
 
-fs::path WorkFolder::find(const std::string& step, const std::string& key) {
-  std::error_code ec;
-  std::vector<fs::path> candidates;
-  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
-    std::string s, sum;
-    if (split_name(entry.path().filename().string(), s, sum) && s == step)
-      candidates.push_back(entry.path());
-  }
-  std::sort(candidates.begin(), candidates.end());
-  for (const fs::path& file : candidates) {
-    std::string s, sum;
-    split_name(file.filename().string(), s, sum);
-    try {
-      if (hex16(file_checksum(file)) != sum) {
-        damaged(step, file, "checksum differs (torn or altered)");
-        continue;
-      }
-      const std::string saved_key = H5Reader(file, stop_).string_attribute("/", "key");
-      if (saved_key == key) return file;
-      if (notice_) notice_(PieceEvent::stale, step, "saved for other parameters or input");
-    } catch (const InterruptedError&) {
-      throw;
-    } catch (const Error& e) {
-      damaged(step, file, e.what());
-    }
-  }
-  return {};
-}
-
 void WorkFolder::save(const std::string& step, const std::string& key,
                       const std::function<void(H5Writer&)>& fill) {
   if (unsaved_) return;
@@ -235,19 +244,40 @@ void WorkFolder::save(const std::string& step, const std::string& key,
 
 bool WorkFolder::take(const std::string& step, const std::string& key,
                       const std::function<void(const H5Reader&)>& read) {
-  const fs::path file = find(step, key);
-  if (file.empty()) return false;
-  try {
-    read(H5Reader(file, stop_));
-  } catch (const InterruptedError&) {
-    throw;
-  } catch (const std::exception& e) {  // json and numbering errors too
-    damaged(step, file, e.what());
-    return false;
+  std::error_code ec;
+  std::vector<fs::path> candidates;
+  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
+    std::string s, sum;
+    if (split_name(entry.path().filename().string(), s, sum) && s == step)
+      candidates.push_back(entry.path());
   }
-  ++loaded_;
-  if (notice_) notice_(PieceEvent::loaded, step, "");
-  return true;
+  std::sort(candidates.begin(), candidates.end());
+  for (const fs::path& file : candidates) {
+    std::string s, sum;
+    split_name(file.filename().string(), s, sum);
+    try {
+      if (hex16(file_checksum(file)) != sum) {
+        damaged(step, file, "checksum differs (torn or altered)");
+        continue;
+      }
+      // One open per piece: the key first, then the contents from the same reader.
+      const H5Reader in(file, stop_);
+      if (in.string_attribute("/", "key") != key) {
+        if (notice_) notice_(PieceEvent::stale, step, "saved for other parameters or input");
+        continue;
+      }
+      read(in);
+    } catch (const InterruptedError&) {
+      throw;
+    } catch (const std::exception& e) {  // json and numbering errors too
+      damaged(step, file, e.what());
+      continue;
+    }
+    ++loaded_;
+    if (notice_) notice_(PieceEvent::loaded, step, "");
+    return true;
+  }
+  return false;
 }
 
 std::optional<NodeGraph> WorkFolder::load_graph() {
@@ -329,6 +359,86 @@ void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::siz
     out.write("/sources", std::span<const NodeId>(rows.sources.data() + first, count), {count});
     out.set_int_attribute("/", "first", static_cast<std::int64_t>(first));
   });
+}
+
+std::optional<MapStep> WorkFolder::load_map() {
+  MapStep m;
+  const bool taken = take("map", keys_.map, [&](const H5Reader& in) {
+    const json s = json::parse(in.string_attribute("/", "summary"));
+    SpectralResult& r = m.spectral;
+    r.summary = s.at("spectral").get<SpectralSummary>();
+    r.mass = s.at("mass").get<SpectrumMass>();
+    r.negative_ratio = s.at("negative_ratio").get<double>();
+    m.landmarks = s.at("landmarks").get<LandmarkSummary>();
+    const std::size_t rows = s.at("rows").get<std::size_t>(),
+                      dims = s.at("dims").get<std::size_t>();
+    r.coords = PointSet(rows, dims);
+    r.coords.values = in.read<float>("/coords");
+    r.landmark_coords = in.read<double>("/landmark_coords");
+    r.spectrum = in.read<double>("/spectrum");
+    m.sources = in.read<std::uint32_t>("/sources");
+    if (r.coords.values.size() != rows * dims ||
+        r.landmark_coords.size() != m.sources.size() * dims)
+      throw DataError("map arrays disagree in size");
+  });
+  if (!taken) return std::nullopt;
+  return m;
+}
+
+void WorkFolder::save_map(const MapStep& m) {
+  const SpectralResult& r = m.spectral;
+  save("map", keys_.map, [&](H5Writer& out) {
+    out.write("/coords", r.coords.values, {r.coords.rows, r.coords.cols});
+    out.write("/landmark_coords", r.landmark_coords, {r.landmark_coords.size()});
+    out.write("/spectrum", r.spectrum, {r.spectrum.size()});
+    out.write("/sources", m.sources, {m.sources.size()});
+    const json s = {
+        {"spectral", r.summary},    {"mass", r.mass},        {"negative_ratio", r.negative_ratio},
+        {"landmarks", m.landmarks}, {"rows", r.coords.rows}, {"dims", r.coords.cols}};
+    out.set_string_attribute("/", "summary", s.dump());
+  });
+}
+
+std::optional<std::string> WorkFolder::take_text(
+    const std::string& step, const std::string& key,
+    const std::function<void(const std::string&)>& check) {
+  std::string text;
+  const bool taken = take(step, key, [&](const H5Reader& in) {
+    text = in.string_attribute("/", "text");
+    check(text);
+  });
+  if (!taken) return std::nullopt;
+  return text;
+}
+
+void WorkFolder::save_text(const std::string& step, const std::string& key,
+                           const std::string& text) {
+  save(step, key, [&](H5Writer& out) { out.set_string_attribute("/", "text", text); });
+}
+
+std::optional<ResidualVarianceCurve> WorkFolder::load_residual() {
+  ResidualVarianceCurve c;
+  const auto text = take_text("residual", keys_.residual, [&](const std::string& t) {
+    c = json::parse(t).get<ResidualVarianceCurve>();
+  });
+  if (!text) return std::nullopt;
+  return c;
+}
+
+void WorkFolder::save_residual(const ResidualVarianceCurve& curve) {
+  save_text("residual", keys_.residual, json(curve).dump());
+}
+
+std::optional<Assessment> WorkFolder::load_scores() {
+  Assessment a;
+  const auto text = take_text("scores", keys_.scores,
+                              [&](const std::string& t) { a = json::parse(t).get<Assessment>(); });
+  if (!text) return std::nullopt;
+  return a;
+}
+
+void WorkFolder::save_scores(const Assessment& scores) {
+  save_text("scores", keys_.scores, json(scores).dump());
 }
 
 void WorkFolder::remove() {

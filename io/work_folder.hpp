@@ -4,6 +4,10 @@
 //   graph.CHECKSUM.h5         the neighbour graph, numberings, graph summary (JSON attribute)
 //   landmarks.CHECKSUM.h5     the landmark choice: sources in pick order, summary
 //   rows-BBBB.CHECKSUM.h5     batch BBBB of the landmark rows: values, sources, first row
+//   map.CHECKSUM.h5           spectrum, coordinates (ordered nodes), landmark coordinates and
+//                             sources, summaries
+//   residual.CHECKSUM.h5      the residual variance curve (JSON text attribute)
+//   scores.CHECKSUM.h5        the scores (JSON text attribute, per-point terms included)
 //
 // CHECKSUM is 16 hex digits of checksum64 over the whole file. A piece is written under a
 // temporary name (io/detail/temp_names.hpp) and renamed into place only when complete, so a
@@ -36,6 +40,9 @@ class H5Writer;
 struct WorkKeys {
   std::string graph;
   std::string landmarks;
+  std::string map;       // spectrum and coordinates
+  std::string residual;  // the residual variance curve
+  std::string scores;
 };
 
 // What became of a piece, for the messages apps/ prints: taken from the folder; saved; passed
@@ -60,6 +67,12 @@ class WorkFolder final : public StepStore {
                  std::size_t count) override;
   void save_rows(std::size_t batch, const DistanceRows& rows, std::size_t first,
                  std::size_t count) override;
+  std::optional<MapStep> load_map() override;
+  void save_map(const MapStep& map) override;
+  std::optional<ResidualVarianceCurve> load_residual() override;
+  void save_residual(const ResidualVarianceCurve& curve) override;
+  std::optional<Assessment> load_scores() override;
+  void save_scores(const Assessment& scores) override;
 
   const std::filesystem::path& path() const { return folder_; }
   std::size_t pieces_loaded() const { return loaded_; }
@@ -69,16 +82,19 @@ class WorkFolder final : public StepStore {
   void remove();
 
  private:
-  // The verified piece of `step`, or empty (stale and damaged ones reported).
-  std::filesystem::path find(const std::string& step, const std::string& key);
-  // Reads the verified piece of `step` through `read`; a piece that fails to read is
-  // reported as damaged and removed. False when there is none.
+  // Reads the piece of `step` saved with `key` through `read`, once its checksum is verified;
+  // pieces of other keys are reported stale, torn ones or ones that fail to read damaged (and
+  // removed). False when there is none.
   bool take(const std::string& step, const std::string& key,
             const std::function<void(const H5Reader&)>& read);
   // Writes a piece through `fill` with `key`, names it by its checksum, and removes the step's
   // other pieces.
   void save(const std::string& step, const std::string& key,
             const std::function<void(H5Writer&)>& fill);
+  // A piece holding one text (JSON) attribute; `check` parses it and throws when it is bad.
+  std::optional<std::string> take_text(const std::string& step, const std::string& key,
+                                       const std::function<void(const std::string&)>& check);
+  void save_text(const std::string& step, const std::string& key, const std::string& text);
   void damaged(const std::string& step, const std::filesystem::path& file, const std::string& why);
 
   std::filesystem::path folder_;

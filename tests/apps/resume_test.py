@@ -2,8 +2,9 @@
 signals"): a run stopped by SIGTERM during the landmark rows exits 75, prints the command that
 resumes, and leaves whole pieces; that command resumes (and says so); a second stop during the
 resumed run; SIGKILL at three moments; a second SIGINT stopping at once; torn and altered
-pieces found and recomputed with a warning; a new score k taking every saved step back; the
-folder removed after success unless kept.
+pieces found and recomputed with a warning; a kill during the scores resumed from the saved
+map and residual variance without reading the landmark rows; the scores taken back; a new score
+k rescoring only; the folder removed after success unless kept.
 
 The reference for every map is an uninterrupted run of the same command with --no-work-dir
 (the engine's own path, landmarks picked beside their rows): the resumed map must hold the
@@ -279,21 +280,44 @@ check("damaged pieces: one warning each, naming the piece and recomputing it",
       and all("recomputing" in l for l in warned), r.stdout)
 same_map("after damaged pieces", out, ref)
 
-# A new score k: every saved step is taken back (graph, landmarks, all 16 batches); only the
-# scores differ from a scored run's.
-scored = path("scored.h5")
-r = run(embed(scored, [*common, "--keep-geodesics", "--keep-work-dir", "--sample", "300",
-                       "--work-dir", folder], 2))
-check("scored run on the kept folder: exit 0", r.returncode == 0, r.stderr)
-check("scored run: every step taken from the folder",
-      "graph taken" in r.stdout and r.stdout.count("rows-") == 16, r.stdout)
-with h5py.File(scored, "r") as f, h5py.File(ref, "r") as g:
-    check("scored run: the same coordinates", np.array_equal(f["coords"][()], g["coords"][()]))
+# A kill during the scores: the rerun takes the graph, the map (spectrum and coordinates) and
+# the residual variance back, reads no landmark rows, and scores; its map equals an
+# uninterrupted scored run's. A new --score-k then rescores only; the same one takes the
+# scores back too.
+ref_scored = path("ref-scored.h5")
+scored_args = [*common, "--sample", "300"]
+r = run(embed(ref_scored, [*scored_args, "--no-work-dir"], 2))
+check("scored reference: exit 0", r.returncode == 0, r.stderr)
+out = path("scored.h5")
+folder = out + ".work"
+_, _, code, _ = signal_when(start(embed(out, scored_args, 1)),
+                            lambda: bool(pieces(folder, "residual")), signal.SIGKILL,
+                            "SIGKILL once the residual variance is saved (the scores running)")
+check("SIGKILL during the scores: killed", code == -signal.SIGKILL, f"exit {code}")
+check("SIGKILL during the scores: the map and residual pieces are saved",
+      pieces(folder, "map") and pieces(folder, "residual") and not pieces(folder, "scores"),
+      str(pieces(folder)))
+r = run(embed(out, [*scored_args, "--keep-work-dir"], 2))
+taken = r.stdout
+check("resumed in the scores: exit 0", r.returncode == 0, r.stderr)
+check("resumed in the scores: graph, map and residual variance taken, no landmark rows read",
+      "graph taken" in taken and "map taken" in taken and "residual taken" in taken
+      and "rows-" not in taken and "scores taken" not in taken, taken)
+same_map("resumed in the scores", out, ref_scored)
+again = path("again.h5")
+r = run(embed(again, [*scored_args, "--keep-work-dir", "--work-dir", folder], 2))
+check("the same command again: the scores taken back too",
+      r.returncode == 0 and "map taken" in r.stdout and "scores taken" in r.stdout, r.stdout)
+same_map("scores taken from the folder", again, ref_scored)
 rescored = path("rescored.h5")
-r = run(embed(rescored, [*common, "--keep-geodesics", "--sample", "300", "--score-k", "7",
-                         "--work-dir", folder], 2))
-check("new --score-k: exit 0, every step taken, the folder then removed",
-      r.returncode == 0 and "landmarks taken" in r.stdout and r.stdout.count("rows-") == 16
+r = run(embed(rescored, [*scored_args, "--score-k", "7", "--work-dir", folder], 2))
+check("new --score-k: exit 0, the map taken back, the scores made again, the folder removed",
+      r.returncode == 0 and "map taken" in r.stdout and "residual taken" in r.stdout
+      and "scores taken" not in r.stdout and "rows-" not in r.stdout
       and not os.path.exists(folder), r.stdout + r.stderr)
+with h5py.File(rescored, "r") as f, h5py.File(ref_scored, "r") as g:
+    check("new --score-k: the same coordinates, scores at k = 7",
+          np.array_equal(f["coords"][()], g["coords"][()]) and "k7" in f["quality"]
+          and "k7" not in g["quality"], str(list(f["quality"])))
 
 finish(work)

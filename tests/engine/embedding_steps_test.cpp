@@ -175,21 +175,6 @@ TEST_CASE("source_rows: landmark rows of a cycle, the same nodes in any node ord
   for (std::size_t l = 0; l < 4; ++l) CHECK(r.old_of_new[t.rows.sources[l]] == s.rows.sources[l]);
 }
 
-TEST_CASE("spaced_rows: evenly spaced rows i * N / count", "[steps]") {
-  DistanceRows all;
-  all.rows = 10;
-  all.cols = 2;
-  for (NodeId r = 0; r < 10; ++r) {
-    all.sources.push_back(r);
-    all.values.insert(all.values.end(), {float(r), float(r) + 0.5f});
-  }
-  // The documented rule in embedding_steps.hpp (common practice, no source).
-  const DistanceRows four = spaced_rows(all, 4);
-  CHECK(four.sources == std::vector<NodeId>{0, 2, 5, 7});
-  CHECK(four.values == std::vector<float>{0, 0.5f, 2, 2.5f, 5, 5.5f, 7, 7.5f});
-  CHECK(spaced_rows(all, 20).sources.size() == 10);
-}
-
 TEST_CASE("map_nodes: a path unfolds onto a line in exact and landmark mode", "[steps]") {
   // Classical MDS of distances |i - j| recovers the points i up to translation and sign
   // (Torgerson 1952; analytic ground truth); landmark MDS is exact when the landmarks

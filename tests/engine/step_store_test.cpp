@@ -49,6 +49,21 @@ class MemoryStore final : public StepStore {
     batches[b].assign(rows.row(first), rows.row(first) + n * rows.cols);
     if (stop_after_batches && batches.size() >= stop_after_batches) stop = true;
   }
+  std::optional<MapStep> map;
+  std::optional<ResidualVarianceCurve> residual;
+  std::optional<Assessment> scores;
+  std::optional<MapStep> load_map() override {
+    if (map) ++loads;
+    return map;
+  }
+  void save_map(const MapStep& m) override { map = m; }
+  std::optional<ResidualVarianceCurve> load_residual() override {
+    if (residual) ++loads;
+    return residual;
+  }
+  void save_residual(const ResidualVarianceCurve& c) override { residual = c; }
+  std::optional<Assessment> load_scores() override { return scores; }
+  void save_scores(const Assessment& a) override { scores = a; }
 };
 
 void same_result(const EmbedResult& a, const EmbedResult& b) {
@@ -90,6 +105,43 @@ TEST_CASE("a run with a step store, stopped and resumed, equals a run without", 
 
   store.loads = 0;
   const EmbedResult again = embed_points(points, o, {}, &store);
-  CHECK(store.loads == 1 + 1 + 14);  // everything taken back
+  CHECK(store.loads == 1 + 1 + 14 + 1);  // everything taken back, the map too
   same_result(again, plain);
+}
+
+TEST_CASE("with the map and residual variance saved, a rerun reads no landmark rows", "[resume]") {
+  // Landmark and exact mode; the reference is the store-less run, as above.
+  const PointSet points = swiss_roll(1500, 6).points;
+  for (bool exact : {false, true}) {
+    EmbedOptions o;
+    o.graph.neighbourhood = NearestK{8};
+    o.landmarks.count = exact ? LandmarkChoice{AllLandmarks{}} : LandmarkChoice{LandmarkCount{40}};
+    o.residual = ResidualOptions{.sources = 30, .seed = 3};
+    const EmbedResult plain = embed_points(points, o);
+    REQUIRE(plain.residual.has_value());
+
+    MemoryStore store;
+    const EmbedResult first = embed_points(points, o, {}, &store);
+    REQUIRE(store.map.has_value());
+    REQUIRE(store.residual.has_value());
+    CHECK(store.batches.size() == (exact ? 0u : 14u));
+    same_result(first, plain);
+
+    store.loads = 0;
+    const EmbedResult again = embed_points(points, o, {}, &store);
+    CHECK(store.loads == 3);  // graph, map, residual: no choice, no rows
+    same_result(again, plain);
+    CHECK(again.residual->by_dims == plain.residual->by_dims);
+    CHECK(again.landmarks.landmarks == plain.landmarks.landmarks);
+    CHECK(again.geodesic.rows == 0);  // not asked for (keep_geodesics off)
+
+    // The rows are read back when the result must carry them.
+    o.keep_geodesics = true;
+    const EmbedResult with_rows = embed_points(points, o);
+    store.loads = 0;
+    const EmbedResult kept = embed_points(points, o, {}, &store);
+    CHECK(store.loads == (exact ? 3u : 3u + 1 + 14));  // exact mode recomputes its rows
+    CHECK(kept.geodesic.values == with_rows.geodesic.values);
+    CHECK(kept.coords.values == plain.coords.values);
+  }
 }
