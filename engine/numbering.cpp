@@ -4,6 +4,7 @@
 #include <numeric>
 #include <string>
 
+#include "engine/detail/parallel_chunks.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl {
@@ -90,21 +91,30 @@ void gather_columns(DistanceRows& rows, const Numbering& source_of_column) {
   check_gather(source_of_column, rows.cols, "gather_columns");
   const std::size_t width = source_of_column.size();
   const std::span<const NodeId> source = source_of_column.values();
+  // Rows are independent, so they are gathered in parallel (one row of scratch per chunk of
+  // rows) and the bytes do not depend on the thread count.
+  constexpr std::size_t kRowsPerChunk = 16;
   if (width == rows.cols) {
-    std::vector<float> scratch(width);
-    for (std::size_t l = 0; l < rows.rows; ++l) {
-      float* row = rows.row(l);
-      std::copy_n(row, width, scratch.data());
-      for (std::size_t c = 0; c < width; ++c) row[c] = scratch[source[c]];
-    }
+    detail::parallel_chunks(rows.rows, kRowsPerChunk, {}, "map rows",
+                            [&](std::size_t b, std::size_t e) {
+                              std::vector<float> scratch(width);
+                              for (std::size_t l = b; l < e; ++l) {
+                                float* row = rows.row(l);
+                                std::copy_n(row, width, scratch.data());
+                                for (std::size_t c = 0; c < width; ++c) row[c] = scratch[source[c]];
+                              }
+                            });
     return;
   }
   std::vector<float> values(rows.rows * width);
-  for (std::size_t l = 0; l < rows.rows; ++l) {
-    const float* from = rows.row(l);
-    float* to = values.data() + l * width;
-    for (std::size_t c = 0; c < width; ++c) to[c] = from[source[c]];
-  }
+  detail::parallel_chunks(rows.rows, kRowsPerChunk, {}, "map rows",
+                          [&](std::size_t b, std::size_t e) {
+                            for (std::size_t l = b; l < e; ++l) {
+                              const float* from = rows.row(l);
+                              float* to = values.data() + l * width;
+                              for (std::size_t c = 0; c < width; ++c) to[c] = from[source[c]];
+                            }
+                          });
   rows.values = std::move(values);
   rows.cols = width;
 }

@@ -14,6 +14,7 @@
 #include "engine/detail/absolute_trace.hpp"
 #include "engine/detail/centred_operator.hpp"
 #include "engine/detail/eigen_top.hpp"
+#include "engine/detail/parallel_chunks.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
 
@@ -117,10 +118,17 @@ void require_finite(const DistanceRows& rows, const char* stage) {
       throw DataError(std::string(stage) + ": row " + std::to_string(r) + " starts at node " +
                       std::to_string(rows.sources[r]) + ", beyond the " +
                       std::to_string(rows.cols) + " nodes");
-  const auto bad = std::find_if(rows.values.begin(), rows.values.end(),
-                                [](float v) { return !std::isfinite(v) || v < 0.0f; });
-  if (bad != rows.values.end()) {
-    const auto at = static_cast<std::size_t>(bad - rows.values.begin());
+  // Rows in parallel (L x N values: a gigabyte at a million nodes); the first bad row is
+  // named whatever the thread count.
+  std::vector<std::size_t> bad_at(rows.rows, rows.values.size());
+  detail::parallel_chunks(rows.rows, 1, {}, "spectral", [&](std::size_t r, std::size_t) {
+    const float* row = rows.row(r);
+    const float* bad =
+        std::find_if(row, row + rows.cols, [](float v) { return !std::isfinite(v) || v < 0.0f; });
+    if (bad != row + rows.cols) bad_at[r] = r * rows.cols + static_cast<std::size_t>(bad - row);
+  });
+  const std::size_t at = *std::min_element(bad_at.begin(), bad_at.end());
+  if (at < rows.values.size()) {
     throw DataError(std::string(stage) + ": geodesic row " + std::to_string(at / rows.cols) +
                     ", node " + std::to_string(at % rows.cols) +
                     " is negative, infinite or NaN (unreachable nodes must be removed upstream)");
@@ -144,16 +152,25 @@ std::string short_number(double v) {
 // H is not recorded by Dijkstra; it is estimated as D over the median, across rows, of each
 // row's shortest positive distance (a nearest neighbour, so the estimate overstates H).
 double noise_floor(const DistanceRows& rows, std::size_t order) {
+  // Rows in parallel; a maximum and a minimum do not depend on the order they are taken in,
+  // and widening float to double keeps the order, so the longest is taken in float.
+  std::vector<float> row_longest(rows.rows, 0.0f);
+  std::vector<float> row_close(rows.rows, std::numeric_limits<float>::infinity());
+  detail::parallel_chunks(rows.rows, 1, {}, "spectral", [&](std::size_t r, std::size_t) {
+    const float* row = rows.row(r);
+    float high = 0.0f, close = std::numeric_limits<float>::infinity();
+    for (std::size_t j = 0; j < rows.cols; ++j) {
+      high = std::max(high, row[j]);
+      if (row[j] > 0.0f) close = std::min(close, row[j]);
+    }
+    row_longest[r] = high;
+    row_close[r] = close;
+  });
   double longest = 0.0;
   std::vector<double> nearest;
   for (std::size_t r = 0; r < rows.rows; ++r) {
-    const float* row = rows.row(r);
-    float close = std::numeric_limits<float>::infinity();
-    for (std::size_t j = 0; j < rows.cols; ++j) {
-      longest = std::max(longest, static_cast<double>(row[j]));
-      if (row[j] > 0.0f) close = std::min(close, row[j]);
-    }
-    if (std::isfinite(close)) nearest.push_back(close);
+    longest = std::max(longest, static_cast<double>(row_longest[r]));
+    if (std::isfinite(row_close[r])) nearest.push_back(row_close[r]);
   }
   if (nearest.empty() || !(longest > 0.0)) return 0.0;
   const auto middle = nearest.begin() + static_cast<std::ptrdiff_t>(nearest.size() / 2);

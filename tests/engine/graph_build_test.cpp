@@ -1,10 +1,16 @@
 #include "engine/graph_build.hpp"
 
+#include <omp.h>
+
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <map>
 #include <vector>
 
+#include "engine/detail/csr.hpp"
 #include "engine/error.hpp"
+#include "engine/random.hpp"
 
 using namespace unfurl;
 
@@ -58,4 +64,47 @@ TEST_CASE("partial distance matrices give one edge per given pair", "[graph_buil
   neg[5] = -1.0f;
   CHECK_THROWS_AS(graph_from_partial_distances(3, neg), DataError);
   CHECK_THROWS_AS(graph_from_partial_distances(2, d), DataError);
+}
+
+TEST_CASE("CSR assembly equals a pair-by-pair oracle on any thread count", "[graph_build]") {
+  // The definition in engine/detail/csr.hpp, checked against an ordered map of unordered
+  // pairs filled edge by edge (first length kept, loops dropped): common practice, no source.
+  // Repeats carry a different length each time here, so "first length wins" is visible.
+  constexpr std::size_t nodes = 5000;
+  Random random(20261202);
+  std::vector<detail::Edge> edges;
+  for (std::size_t i = 0; i < 60000; ++i) {
+    const auto a = static_cast<NodeId>(random.below(nodes));
+    const auto b = static_cast<NodeId>(i % 7 == 0 ? a : random.below(nodes));
+    edges.push_back({a, b, static_cast<float>(i)});
+    if (i % 5 == 0) edges.push_back({b, a, static_cast<float>(i) + 0.5f});  // repeat, reversed
+  }
+  std::map<std::pair<NodeId, NodeId>, float> first;
+  for (const detail::Edge& e : edges)
+    if (e.from != e.to)
+      first.try_emplace({std::min(e.from, e.to), std::max(e.from, e.to)}, e.length);
+  std::vector<std::vector<std::pair<NodeId, float>>> rows(nodes);
+  for (const auto& [pair, length] : first) {
+    rows[pair.first].push_back({pair.second, length});
+    rows[pair.second].push_back({pair.first, length});
+  }
+  NeighbourGraph expected;
+  expected.offsets.push_back(0);
+  for (auto& row : rows) {
+    std::sort(row.begin(), row.end());
+    for (const auto& [target, length] : row) {
+      expected.targets.push_back(target);
+      expected.lengths.push_back(length);
+    }
+    expected.offsets.push_back(static_cast<std::int64_t>(expected.targets.size()));
+  }
+  const int threads = omp_get_max_threads();
+  for (const int t : {1, 2, 3}) {
+    omp_set_num_threads(t);
+    const NeighbourGraph g = detail::symmetric_csr(nodes, edges);
+    CHECK(g.offsets == expected.offsets);
+    CHECK(g.targets == expected.targets);
+    CHECK(g.lengths == expected.lengths);
+  }
+  omp_set_num_threads(threads);
 }

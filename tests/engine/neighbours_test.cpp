@@ -317,8 +317,8 @@ TEST_CASE("batched exact distances equal one-at-a-time ones bit for bit", "[neig
 }
 
 TEST_CASE("results do not depend on the thread count", "[neighbours]") {
-  // 20,000 points x 8 neighbours: 160,000 edges, several of the CSR assembly's parallel
-  // chunks (1 << 16 edges each), whose rows fill in a thread-dependent order before sorting.
+  // 20,000 points x 8 neighbours: 160,000 edges, whose rows the CSR assembly splits among as
+  // many tasks as there are threads.
   const auto pts = random_points(20000, 3, 8, false);
   GraphOptions o;
   o.neighbourhood = NearestK{8};

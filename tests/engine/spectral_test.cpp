@@ -160,6 +160,11 @@ TEST_CASE("spectral options and rows are validated", "[spectral]") {
   auto rows = unfurl::test::euclidean_rows(p, {0, 5, 9});
   rows.values[7] = std::numeric_limits<float>::infinity();
   CHECK_THROWS_WITH(unfurl::landmark_mds(rows, o), Catch::Contains("geodesic row 0, node 7"));
+  // Rows are checked in parallel; the message still names the first bad value in row order.
+  rows = unfurl::test::euclidean_rows(p, {0, 5, 9});
+  rows.values[2 * 20 + 1] = std::nanf("");
+  rows.values[1 * 20 + 13] = -1.0f;
+  CHECK_THROWS_WITH(unfurl::landmark_mds(rows, o), Catch::Contains("geodesic row 1, node 13"));
   rows = unfurl::test::euclidean_rows(p, {0, 5, 9});
   CHECK_THROWS_WITH(unfurl::exact_mds(rows, o), Catch::Contains("one geodesic row per node"));
   std::atomic<bool> flag{true};
