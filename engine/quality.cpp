@@ -268,9 +268,10 @@ NeighbourhoodScores detail::neighbourhood_scores(const PointSet& input, const Po
   std::optional<detail::RankTree> tree_in, tree_map;
   std::optional<detail::DistanceScanner> scan_in, scan_map;
   std::optional<detail::ProductRanker> ranker;
+  const int threads = resolve_threads(options.threads);
   if (trees) {
     ExceptionCollector built;
-#pragma omp parallel sections num_threads(2)
+#pragma omp parallel sections num_threads(std::min(threads, 2))
     {
 #pragma omp section
       built.run([&] { tree_in.emplace(input); });
@@ -290,7 +291,6 @@ NeighbourhoodScores detail::neighbourhood_scores(const PointSet& input, const Po
   const std::size_t block = products || trees ? 64 : 8;
   const std::size_t blocks = (nq + block - 1) / block;
   const std::size_t d = input.cols, m = map.cols;
-  const int threads = resolve_threads(options.threads);
   out.threads = threads;
   ExceptionCollector errors;
 
