@@ -81,9 +81,9 @@ MemoryEstimate estimate_memory(const MemoryShape& s) {
       graphs + rows + static_cast<double>(spectral_solver_bytes(order, s.spectral)) + 12 * n * m,
       rows_name);
 
-  // After the embedding: the input, the rows (scores and the map's /landmarks), the map and
-  // its input rows; the graphs are gone. Exact mode keeps 256 spaced rows unless all are kept.
-  const double after_rows = s.exact && !s.keep_geodesics ? 4 * std::min(256.0, n) * n : rows;
+  // After the embedding: the input, the map and its input rows, and the rows only when they
+  // are kept (--keep-geodesics; else freed once the map is made); the graphs are gone.
+  const double after_rows = s.keep_geodesics ? rows : 0.0;
   const double result = input + after_rows + 4 * n * m + 24 * n;
   if (s.score) {
     const double residual = graphs + 64 * n + 4 * n * m;  // during the embedding, 16 rows a batch
