@@ -15,8 +15,10 @@ namespace {
 constexpr double kWidthQuantile = 0.25;
 constexpr double kWidthFraction = 0.5;
 // Entries ahead of the one being scanned whose graph data are prefetched: the node's offsets
-// and distance at kAhead, its edges at kAhead / 2 (by then its offsets are in cache), its
-// neighbours' distances at kAhead / 4.
+// and distance at kAhead, its edges at kAhead / 2 (by then its offsets are in cache). Its
+// neighbours' distances are not: reading the targets to prefetch them (at kAhead / 4) stalled
+// on edges not yet in cache, and dropping that stage cut a full row's CPU time on the
+// million-node Swiss roll graph to 0.72-0.76 of it (bench/RESULTS.md, lane rows).
 constexpr std::size_t kAhead = 16;
 
 double low_quantile(const std::vector<float>& lengths) {
@@ -118,11 +120,6 @@ void DeltaBuckets::sweep(const NeighbourGraph& graph, NodeId source, float* dist
         __builtin_prefetch(lengths + e);
         __builtin_prefetch(targets + last);
         __builtin_prefetch(lengths + last);
-      }
-      if (i + kAhead / 4 < bucket.size()) {
-        const NodeId ahead = bucket[i + kAhead / 4].node;
-        for (std::int64_t e = offsets[ahead]; e < offsets[ahead + 1]; ++e)
-          __builtin_prefetch(dist + targets[e]);
       }
       const Entry entry = bucket[i];
       const NodeId u = entry.node;

@@ -58,6 +58,17 @@ void require_rows_equal_textbook(const unfurl::NeighbourGraph& g, std::size_t so
     std::size_t finite = 0;
     for (float v : expected) finite += std::isfinite(v);
     REQUIRE(reached == finite);
+    // Exact mode's shortcut (rank = node id): final for every node ranked after the source,
+    // and it counts the later nodes it could not reach.
+    std::vector<NodeId> rank(g.nodes());
+    std::size_t later_unreached = 0;
+    for (std::size_t v = 0; v < g.nodes(); ++v) {
+      rank[v] = static_cast<NodeId>(v);
+      later_unreached += v > source && !std::isfinite(expected[v]);
+    }
+    REQUIRE(buckets.run_to_later(g, source, rank, row.data()) == later_unreached);
+    for (std::size_t v = source + 1; v < g.nodes(); ++v)
+      REQUIRE(std::memcmp(&row[v], &expected[v], sizeof(float)) == 0);
   }
 }
 
