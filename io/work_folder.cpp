@@ -399,16 +399,9 @@ void WorkFolder::save_map(const MapStep& m) {
   });
 }
 
-std::optional<std::string> WorkFolder::take_text(
-    const std::string& step, const std::string& key,
-    const std::function<void(const std::string&)>& check) {
-  std::string text;
-  const bool taken = take(step, key, [&](const H5Reader& in) {
-    text = in.string_attribute("/", "text");
-    check(text);
-  });
-  if (!taken) return std::nullopt;
-  return text;
+bool WorkFolder::take_text(const std::string& step, const std::string& key,
+                           const std::function<void(const std::string&)>& parse) {
+  return take(step, key, [&](const H5Reader& in) { parse(in.string_attribute("/", "text")); });
 }
 
 void WorkFolder::save_text(const std::string& step, const std::string& key,
@@ -418,10 +411,9 @@ void WorkFolder::save_text(const std::string& step, const std::string& key,
 
 std::optional<ResidualVarianceCurve> WorkFolder::load_residual() {
   ResidualVarianceCurve c;
-  const auto text = take_text("residual", keys_.residual, [&](const std::string& t) {
-    c = json::parse(t).get<ResidualVarianceCurve>();
-  });
-  if (!text) return std::nullopt;
+  if (!take_text("residual", keys_.residual,
+                 [&](const std::string& t) { c = json::parse(t).get<ResidualVarianceCurve>(); }))
+    return std::nullopt;
   return c;
 }
 
@@ -431,9 +423,9 @@ void WorkFolder::save_residual(const ResidualVarianceCurve& curve) {
 
 std::optional<Assessment> WorkFolder::load_scores() {
   Assessment a;
-  const auto text = take_text("scores", keys_.scores,
-                              [&](const std::string& t) { a = json::parse(t).get<Assessment>(); });
-  if (!text) return std::nullopt;
+  if (!take_text("scores", keys_.scores,
+                 [&](const std::string& t) { a = json::parse(t).get<Assessment>(); }))
+    return std::nullopt;
   return a;
 }
 

@@ -91,9 +91,10 @@ class WorkFolder final : public StepStore {
   // other pieces.
   void save(const std::string& step, const std::string& key,
             const std::function<void(H5Writer&)>& fill);
-  // A piece holding one text (JSON) attribute; `check` parses it and throws when it is bad.
-  std::optional<std::string> take_text(const std::string& step, const std::string& key,
-                                       const std::function<void(const std::string&)>& check);
+  // A piece holding one text (JSON) attribute, handed to `parse`, which throws when it is
+  // bad. False when there is none.
+  bool take_text(const std::string& step, const std::string& key,
+                 const std::function<void(const std::string&)>& parse);
   void save_text(const std::string& step, const std::string& key, const std::string& text);
   void damaged(const std::string& step, const std::filesystem::path& file, const std::string& why);
 
