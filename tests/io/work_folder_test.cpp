@@ -51,7 +51,7 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   rows.values.resize(rows.rows * rows.cols);
   fill_landmark_rows(graph.graph, rows, 0, rows.rows);
   {
-    io::WorkFolder w(dir, {"graph-key", "landmarks-key"});
+    io::WorkFolder w(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key"});
     CHECK_FALSE(w.load_graph());
     w.save_graph(graph);
     w.save_landmarks(choice);
@@ -60,7 +60,8 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
     CHECK(w.pieces_saved() == 4);
   }
   Events ev;
-  io::WorkFolder w(dir, {"graph-key", "landmarks-key"}, ev.notice());
+  io::WorkFolder w(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key"},
+                   ev.notice());
   const auto g = w.load_graph();
   REQUIRE(g);
   CHECK(g->graph.offsets == graph.graph.offsets);
@@ -86,7 +87,9 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
 
   // Other parameters: the piece is passed over (and kept until a new one replaces it).
   Events other;
-  io::WorkFolder changed(dir, {"graph-key", "other-landmarks"}, other.notice());
+  io::WorkFolder changed(dir,
+                         {"graph-key", "other-landmarks", "map-key", "residual-key", "scores-key"},
+                         other.notice());
   CHECK_FALSE(changed.load_landmarks());
   CHECK(other.count(io::PieceEvent::stale) == 1);
   changed.save_landmarks(choice);
@@ -111,7 +114,8 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
     f.write(&b, 1);
   }
   Events damaged;
-  io::WorkFolder again(dir, {"graph-key", "landmarks-key"}, damaged.notice());
+  io::WorkFolder again(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key"},
+                       damaged.notice());
   CHECK_FALSE(again.load_rows(0, back, 0, 4));
   CHECK_FALSE(again.load_rows(1, back, 4, 3));
   CHECK(damaged.count(io::PieceEvent::damaged) == 2);
