@@ -79,6 +79,9 @@ struct Workspace {
   std::vector<double> row;
   std::vector<std::vector<Ranked>> cand_in, cand_map;  // per query, sorted candidates
   std::vector<Ranked> tree_in, tree_map;               // one query's lists from the trees
+  std::vector<detail::NearestList> lists;              // a group of queries' direct scan
+  std::vector<double> dist2;                           // group x chunk
+  std::vector<std::vector<NodeId>> others;             // per query, the ids ranked by products
   std::vector<double> q_pending;                       // queries that need a counting pass
   std::vector<NodeId> pending_self;
   std::vector<std::size_t> pending_query;
@@ -145,8 +148,9 @@ void ranks_in_other_space(const detail::DistanceScanner& other, const double* qu
 // `scan`'s space, in ranking order, by the direct double scan, eight queries at a time.
 void direct_candidates(const detail::DistanceScanner& scan, const double* q,
                        std::span<const std::uint32_t> selves, std::size_t kc, Workspace& ws,
-                       std::vector<detail::NearestList>& lists, std::vector<double>& dist2,
                        std::vector<std::vector<Ranked>>& cand) {
+  std::vector<detail::NearestList>& lists = ws.lists;
+  std::vector<double>& dist2 = ws.dist2;
   constexpr std::size_t kGroup = 8;
   const std::size_t n = scan.rows(), dims = scan.dims(), chunk = scan.chunk();
   cand.resize(std::max(cand.size(), selves.size()));
@@ -297,9 +301,6 @@ NeighbourhoodScores detail::neighbourhood_scores(const PointSet& input, const Po
 #pragma omp parallel num_threads(threads)
   {
     Workspace ws;
-    std::vector<detail::NearestList> lists;
-    std::vector<double> dist2;
-    std::vector<std::vector<NodeId>> others;
     std::vector<std::vector<std::size_t>> rank_in, rank_map;
 #pragma omp for schedule(dynamic)
     for (std::size_t blk = 0; blk < blocks; ++blk) {
@@ -315,19 +316,19 @@ NeighbourhoodScores detail::neighbourhood_scores(const PointSet& input, const Po
           ws.q_map.resize(count * m);
           for (std::size_t b = 0; b < count; ++b)
             scan_map->load_query(queries[q0 + b], ws.q_map.data() + b * m);
-          direct_candidates(*scan_map, ws.q_map.data(), selves, kc, ws, lists, dist2, ws.cand_map);
+          direct_candidates(*scan_map, ws.q_map.data(), selves, kc, ws, ws.cand_map);
           if (products) {
-            others.resize(count);
+            ws.others.resize(count);
             for (std::size_t b = 0; b < count; ++b) {
-              others[b].clear();
-              for (std::size_t p = 0; p < kmax; ++p) others[b].push_back(ws.cand_map[b][p].id);
+              ws.others[b].clear();
+              for (std::size_t p = 0; p < kmax; ++p) ws.others[b].push_back(ws.cand_map[b][p].id);
             }
-            ranker->rank(selves, kmax, std::span(others.data(), count), ws.cand_in, rank_in);
+            ranker->rank(selves, kmax, std::span(ws.others.data(), count), ws.cand_in, rank_in);
           } else {
             ws.q_in.resize(count * d);
             for (std::size_t b = 0; b < count; ++b)
               scan_in->load_query(queries[q0 + b], ws.q_in.data() + b * d);
-            direct_candidates(*scan_in, ws.q_in.data(), selves, kc, ws, lists, dist2, ws.cand_in);
+            direct_candidates(*scan_in, ws.q_in.data(), selves, kc, ws, ws.cand_in);
             ranks_in_other_space(*scan_in, ws.q_in.data(), selves, ws.cand_map, ws.cand_in, kmax,
                                  ws, rank_in);
           }
