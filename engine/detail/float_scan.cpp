@@ -5,6 +5,10 @@
 namespace unfurl::detail {
 namespace {
 constexpr double kUnitRoundoff = 0x1p-24;  // float32 unit roundoff
+// Products of tiny coordinates underflow: each rounding then errs by up to 2^-149 absolutely,
+// or 2^-126 where the kernel runs with flush-to-zero (a process built with fast-math flags),
+// which no bound relative to the norms covers. 2^-120 a term covers both with room.
+constexpr double kUnderflowPerTerm = 0x1p-120;
 }  // namespace
 
 ScanData prepare_scan(const PointSet& data) {
@@ -34,7 +38,7 @@ ScanData prepare_scan(const PointSet& data) {
 double scan_slack(const ScanData& s, double norm2) {
   const double gamma = 2.0 * static_cast<double>(s.cols + 4) * kUnitRoundoff;
   const double reach = std::sqrt(norm2) + s.max_norm;
-  return gamma * reach * reach;
+  return gamma * reach * reach + static_cast<double>(s.cols + 4) * kUnderflowPerTerm;
 }
 
 double centred_norm2(const ScanData& s, const float* row) {

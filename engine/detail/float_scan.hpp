@@ -33,7 +33,8 @@ struct ScanData {
 ScanData prepare_scan(const PointSet& data);
 
 // Bound on |approximate - exact| squared distance for a centred query of squared norm
-// `norm2` against any data row.
+// `norm2` against any data row: float32 rounding relative to the norms, plus an absolute
+// term for products that underflow (with or without flush-to-zero).
 double scan_slack(const ScanData& s, double norm2);
 
 // The squared norm of `row` once centred and rounded as the scan stores rows.

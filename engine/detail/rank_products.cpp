@@ -15,9 +15,6 @@ constexpr std::size_t kMinColumns = 16;
 // Largest centred norm whose square, times the few terms of an approximation, stays finite
 // in float32 (about 3.4e38).
 constexpr double kMaxNorm = 1e18;
-// Products of tiny coordinates underflow: each rounding then errs by up to 2^-149 absolutely
-// (2^-126 if the kernel flushes subnormals to zero), which the relative bound does not cover.
-constexpr double kUnderflowPerTerm = 0x1p-120;
 
 struct QueryState {
   std::vector<double> q;          // the query as doubles, as DistanceScanner::load_query
@@ -64,7 +61,7 @@ void ProductRanker::rank(std::span<const std::uint32_t> selves, std::size_t coun
     std::sort(st.threshold.begin(), st.threshold.end(), Before{});
     st.below.assign(st.threshold.size(), 0);
     st.candidates.reset(keep);
-    st.slack = qb.slack[b] + static_cast<double>(d + 4) * kUnderflowPerTerm;
+    st.slack = qb.slack[b];
   }
 
   std::vector<double> approx(kColumnBlock);

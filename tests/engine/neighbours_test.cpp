@@ -1,6 +1,9 @@
 #include "engine/neighbours.hpp"
 
 #include <omp.h>
+#if defined(__x86_64__)
+#include <xmmintrin.h>
+#endif
 
 #include <algorithm>
 #include <atomic>
@@ -116,6 +119,33 @@ TEST_CASE("scan stays exact when the data sit far from the origin", "[neighbours
                         {.k = 5, .search = Search::scan, .exclude_self = true, .block_rows = 16}),
               brute_knn(data, data, 5, true));
 }
+
+#if defined(__x86_64__)
+TEST_CASE("scan stays exact when float products flush to zero", "[neighbours]") {
+  // A process built with fast-math flags runs with flush-to-zero and denormals-are-zero set:
+  // then each product of tiny coordinates errs by up to 2^-126 absolutely, which no bound
+  // relative to the norms covers. At these scales the coordinates and squared norms are normal
+  // floats but many products are not; both scales returned wrong neighbours before the bound
+  // had an absolute term. Oracle: brute force in double (no source).
+  const auto set_flush = [](bool on) {
+#pragma omp parallel
+    {
+      const unsigned bits = 0x8040;  // MXCSR: flush-to-zero (bit 15), denormals-are-zero (bit 6)
+      _mm_setcsr(on ? (_mm_getcsr() | bits) : (_mm_getcsr() & ~bits));
+    }
+  };
+  for (const float scale : {3e-20f, 1e-19f}) {
+    INFO("scale " << scale);
+    auto data = random_points(300, 40, 11, false);
+    for (float& v : data.values) v *= scale;
+    set_flush(true);
+    const auto got = exact_knn(
+        data, data, {.k = 5, .search = Search::scan, .exclude_self = true, .block_rows = 16});
+    set_flush(false);
+    check_equal(got, brute_knn(data, data, 5, true));
+  }
+}
+#endif
 
 TEST_CASE("points whose squared distances overflow float32 are refused, not searched",
           "[neighbours]") {
