@@ -100,16 +100,32 @@ std::vector<double> log_ticks(Range r) {
   return ticks;
 }
 
-std::string log_tick_label(double t) {
-  const double v = std::pow(10.0, t);
-  const int decade = static_cast<int>(std::floor(t + 1e-9));
-  const double mantissa = v / std::pow(10.0, decade);
-  const bool round_mantissa = std::abs(mantissa - std::round(mantissa)) < 1e-6;
-  if (round_mantissa && (decade >= 6 || decade < -3))
-    return fmt::format("{}e{}", std::lround(mantissa), decade);
-  if (v >= 1 && std::abs(v - std::round(v)) < 1e-6 * v && v < 1e15)
-    return count_text(static_cast<std::size_t>(std::llround(v)));
-  return fmt::format("{:.6g}", v);
+std::vector<std::string> log_tick_labels(std::span<const double> ticks) {
+  struct Parts {
+    double value, mantissa;
+    int decade;
+    bool round;  // a whole mantissa: 1, 2 or 5 times a power of ten
+  };
+  std::vector<Parts> parts;
+  bool powers = false;  // some tick reads well only as a power of ten
+  for (double t : ticks) {
+    Parts p{std::pow(10.0, t), 0, static_cast<int>(std::floor(t + 1e-9)), false};
+    p.mantissa = p.value / std::pow(10.0, p.decade);
+    p.round = std::abs(p.mantissa - std::round(p.mantissa)) < 1e-6;
+    powers = powers || (p.round && (p.decade >= 6 || p.decade < -3));
+    parts.push_back(p);
+  }
+  std::vector<std::string> labels;
+  for (const Parts& p : parts) {
+    if (p.round && powers)
+      labels.push_back(fmt::format("{}e{}", std::lround(p.mantissa), p.decade));
+    else if (p.value >= 1 && std::abs(p.value - std::round(p.value)) < 1e-6 * p.value &&
+             p.value < 1e15)
+      labels.push_back(count_text(static_cast<std::size_t>(std::llround(p.value))));
+    else
+      labels.push_back(fmt::format("{:.6g}", p.value));
+  }
+  return labels;
 }
 
 std::string count_text(std::size_t n) {
@@ -236,8 +252,14 @@ void Chart::axes(const std::string& x_label, const std::string& y_label, bool in
   if (log_x) xt = log_ticks(x_);
   if (log_y) yt = log_ticks(y_);
   if (!y_ticks) yt.clear();
-  auto x_label_of = [&](double t) { return log_x ? log_tick_label(t) : tick_label(t, x_step); };
-  auto y_label_of = [&](double t) { return log_y ? log_tick_label(t) : tick_label(t, y_step); };
+  const auto labels_of = [](const std::vector<double>& ticks, bool log, double step) {
+    if (log) return log_tick_labels(ticks);
+    std::vector<std::string> labels;
+    for (double t : ticks) labels.push_back(tick_label(t, step));
+    return labels;
+  };
+  const std::vector<std::string> x_labels = labels_of(xt, log_x, x_step);
+  const std::vector<std::string> y_labels = labels_of(yt, log_y, y_step);
   cairo_set_line_width(cr_, 1);
   set_colour({0.9, 0.9, 0.9});
   for (double t : xt) {
@@ -252,15 +274,15 @@ void Chart::axes(const std::string& x_label, const std::string& y_label, bool in
   set_colour({0.2, 0.2, 0.2});
   cairo_rectangle(cr_, plot_.x - 0.5, plot_.y - 0.5, plot_.w + 1, plot_.h + 1);
   cairo_stroke(cr_);
-  for (double t : xt) {
-    cairo_move_to(cr_, std::round(px(t)) + 0.5, plot_.y + plot_.h);
-    cairo_line_to(cr_, std::round(px(t)) + 0.5, plot_.y + plot_.h + 5);
-    text(px(t), plot_.y + plot_.h + 8, x_label_of(t), 0.5, 0, 12);
+  for (std::size_t i = 0; i < xt.size(); ++i) {
+    cairo_move_to(cr_, std::round(px(xt[i])) + 0.5, plot_.y + plot_.h);
+    cairo_line_to(cr_, std::round(px(xt[i])) + 0.5, plot_.y + plot_.h + 5);
+    text(px(xt[i]), plot_.y + plot_.h + 8, x_labels[i], 0.5, 0, 12);
   }
-  for (double t : yt) {
-    cairo_move_to(cr_, plot_.x - 5, std::round(py(t)) + 0.5);
-    cairo_line_to(cr_, plot_.x, std::round(py(t)) + 0.5);
-    text(plot_.x - 8, py(t), y_label_of(t), 1, 0.5, 12);
+  for (std::size_t i = 0; i < yt.size(); ++i) {
+    cairo_move_to(cr_, plot_.x - 5, std::round(py(yt[i])) + 0.5);
+    cairo_line_to(cr_, plot_.x, std::round(py(yt[i])) + 0.5);
+    text(plot_.x - 8, py(yt[i]), y_labels[i], 1, 0.5, 12);
   }
   cairo_stroke(cr_);
   set_colour({0, 0, 0});

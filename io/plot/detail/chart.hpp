@@ -5,6 +5,7 @@
 
 #include <cairo.h>
 
+#include <span>
 #include <string>
 #include <vector>
 
@@ -34,8 +35,10 @@ std::vector<double> ticks_at(Range r, double step);
 // every power of ten, with 2 and 5 times each when the axis spans less than two decades; an
 // axis too short for three of those gets nice_ticks of the values themselves.
 std::vector<double> log_ticks(Range r);
-// The label of the value 10^t at a log tick t: "10,000", "0.002", "1e6", "2e-5".
-std::string log_tick_label(double t);
+// The labels of the values 10^t at the log ticks t of one axis: plain ("10,000", "0.002")
+// while every tick reads well so, else powers of ten for all of them ("1e4", "1e6",
+// "2e-5"), so that one axis never mixes the two forms.
+std::vector<std::string> log_tick_labels(std::span<const double> ticks);
 
 // "1,234,567".
 std::string count_text(std::size_t n);

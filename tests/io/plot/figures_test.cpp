@@ -45,10 +45,14 @@ TEST_CASE("log_ticks: powers of ten, 2 and 5 between on short axes, labels as va
   REQUIRE(four_decades.size() == 4);
   for (std::size_t i = 0; i < 4; ++i)
     CHECK(four_decades[i] == Approx(std::pow(10.0, 4 + double(i))).epsilon(1e-12));
-  CHECK(detail::log_tick_label(4) == "10,000");
-  CHECK(detail::log_tick_label(6) == "1e6");
-  CHECK(detail::log_tick_label(std::log10(2e-5)) == "2e-5");
-  CHECK(detail::log_tick_label(std::log10(0.002)) == "0.002");
+  using Labels = std::vector<std::string>;
+  const auto labels = [](std::vector<double> ticks) { return detail::log_tick_labels(ticks); };
+  CHECK(labels({2, 3, 4}) == Labels{"100", "1,000", "10,000"});
+  CHECK(labels({std::log10(0.002), std::log10(0.005)}) == Labels{"0.002", "0.005"});
+  // One axis never mixes the forms: from a tick that reads well only as a power of ten
+  // (10^6 and up, under 10^-3) on, all of them are powers of ten.
+  CHECK(labels({4, 5, 6, 7}) == Labels{"1e4", "1e5", "1e6", "1e7"});
+  CHECK(labels({std::log10(2e-5), -4, -3}) == Labels{"2e-5", "1e-4", "1e-3"});
   // Landmark counts 32 to 2,048: under two decades, so 50, 100, 200, 500, 1,000, 2,000.
   const auto landmarks = values({std::log10(32.0), std::log10(2048.0)});
   const std::vector<double> expected{50, 100, 200, 500, 1000, 2000};
@@ -63,7 +67,7 @@ TEST_CASE("log_ticks: powers of ten, 2 and 5 between on short axes, labels as va
   for (std::size_t i = 0; i < ticks.size(); ++i) {
     CHECK(ticks[i] >= short_axis.lo - 1e-12);
     CHECK(ticks[i] <= short_axis.hi + 1e-12);
-    if (i) CHECK(detail::log_tick_label(ticks[i]) != detail::log_tick_label(ticks[i - 1]));
+    if (i) CHECK(detail::log_tick_labels(ticks)[i] != detail::log_tick_labels(ticks)[i - 1]);
   }
 }
 
