@@ -33,7 +33,7 @@ std::string rate_text(double rate) {
 std::string unit_of(const std::string& step) {
   if (step == "graph") return "query rows";
   if (step == "landmark rows" || step == "geodesic rows" || step == "placement" ||
-      step == "residual variance")
+      step == "residual variance" || step == "residual rows")
     return "rows";
   if (step == "spectral" || step == "scores") return "points";
   return "units";

@@ -97,7 +97,15 @@ io::WorkKeys work_keys(const GlobalOptions& g, const EmbedArgs& a, const json& i
   json scores = {
       {"residual", residual},     {"score_k", a.score.ks},    {"score_k_given", a.score.ks_given},
       {"method", a.score.method}, {"sample", a.score.sample}, {"linear", a.linear}};
-  return {graph.dump(), landmarks.dump(), map.dump(), residual.dump(), scores.dump()};
+  // The residual variance's source rows need neither landmarks nor map: the nodes the
+  // components and node order leave, and the seed of the draw.
+  json residual_rows = {{"graph", graph},
+                        {"disconnected", a.graph.disconnected},
+                        {"node_order", a.map.node_order},
+                        {"residual_seed", g.seed},
+                        {"step", "residual rows"}};
+  return {graph.dump(),    landmarks.dump(), map.dump(),
+          residual.dump(), scores.dump(),    residual_rows.dump()};
 }
 
 WorkRun::WorkRun(const GlobalOptions& g, const WorkArgs& w, const EmbedArgs& a,

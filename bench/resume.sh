@@ -5,12 +5,16 @@
 # shared machine falls on both sides alike, and the load average is printed beside each.
 #   overhead: `embed --no-work-dir` against `embed` (saving every piece, folder removed at
 #             the end), ROUNDS pairs; ratio = with / without per pair.
-#   resumed:  a kept work folder cut back to 14 of its 16 row batches (87.5% of the rows, a
-#             little under the issue's 90%), copied fresh before each run (the copy is not
-#             timed); ratio = resumed / the straight run with the work folder of the same
-#             round. With scores and with --no-score. The steps of every run (seconds each,
-#             from `embed --json`) follow the tables: what a resumed run spends its time on,
-#             and, in the saved runs, the landmark choice that runs before the rows.
+#   resumed:  a straight run with a work folder killed (SIGKILL) as soon as its 15th of 16
+#             landmark row batches is saved (93.75% of the rows; the issue asks about 90%):
+#             the folder holds exactly what a real kill at that moment leaves, every piece
+#             made before it (the graph, the residual variance's source rows, the landmark
+#             choice, 15 batches). Copied fresh before each run (the copy is not timed);
+#             ratio = resumed / the straight run with the work folder of the same round. With
+#             scores and with --no-score. The resumed map's datasets are compared with the
+#             straight run's once per mode (they must be equal byte for byte). The steps of
+#             every run (seconds each, from `embed --json`) follow the tables: what a resumed
+#             run spends its time on.
 # Writes Markdown tables to stdout; paste them into bench/RESULTS.md with the date.
 #
 # usage: bench/resume.sh BUILD_DIR WORK_DIR [N] [ROUNDS] [SCORES: both|on|off]
@@ -34,16 +38,19 @@ for mode in "${modes[@]}"; do
   score=; [ "$mode" = off ] && score=--no-score
   tag=${score:+-noscore}
   base=(--quiet embed "$points" --k 10 --landmarks 256 $score)
-  # The 87.5% folder: a complete kept folder without its last two batches and without the
-  # pieces after the rows (map, residual variance, scores).
+  # The ~90% folder: killed as the 15th row batch appears (pieces appear whole, by rename).
   rm -rf "$work/template$tag.work"
-  "$unfurl" "${base[@]}" -o "$work/full$tag.h5" --work-dir "$work/template$tag.work" --keep-work-dir
-  rm -f "$work/template$tag.work"/rows-0014.*.h5 "$work/template$tag.work"/rows-0015.*.h5 \
-    "$work/template$tag.work"/map.*.h5 "$work/template$tag.work"/residual.*.h5 \
-    "$work/template$tag.work"/scores.*.h5
+  "$unfurl" "${base[@]}" -o "$work/template$tag.h5" --work-dir "$work/template$tag.work" > /dev/null &
+  pid=$!
+  until compgen -G "$work/template$tag.work/rows-0014.*.h5" > /dev/null; do
+    kill -0 "$pid" 2> /dev/null || { echo "the run ended before its 15th row batch" >&2; exit 1; }
+    sleep 0.02
+  done
+  kill -9 "$pid"
+  wait "$pid" 2> /dev/null || true
   echo
   echo "scores: ${score:-on}"
-  echo "| round | without folder s | with folder s | ratio | resumed (87.5%) s | ratio to straight | load before |"
+  echo "| round | without folder s | with folder s | ratio | resumed (15/16) s | ratio to straight | load before |"
   echo "|---|---|---|---|---|---|---|"
   for r in $(seq 1 "$rounds"); do
     l=$(load)
@@ -54,6 +61,16 @@ for mode in "${modes[@]}"; do
     a=$(secs "plain$tag-$r"); b=$(secs "saved$tag-$r"); c=$(secs "resumed$tag-$r")
     echo "| $r | $a | $b | $(awk -v a="$a" -v b="$b" 'BEGIN{printf "%.3f", b/a}') | $c | $(awk -v b="$b" -v c="$c" 'BEGIN{printf "%.3f", c/b}') | $l |"
   done
+  /usr/bin/python3 -c 'import sys, h5py, numpy as np
+def data(name):
+    out = {}
+    with h5py.File(name, "r") as f:
+        f.visititems(lambda k, o: out.update({k: o[()]}) if isinstance(o, h5py.Dataset) else None)
+    return out
+a, b = data(sys.argv[1]), data(sys.argv[2])
+same = a.keys() == b.keys() and all(np.array_equal(a[k], b[k]) for k in a)
+print("- the resumed map'"'"'s datasets equal the straight run'"'"'s byte for byte:", "yes" if same else "NO")' \
+    "$work/saved.h5" "$work/resumed.h5"
   for r in $(seq 1 "$rounds"); do
     for kind in plain saved resumed; do echo "- $kind$tag-$r: $(steps "$kind$tag-$r")"; done
   done

@@ -72,6 +72,48 @@ SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const Nod
   return out;
 }
 
+// Batch b of the plan's rows, shaped and named but not filled.
+DistanceRows residual_batch(const ResidualPlan& plan, std::size_t b, std::size_t nodes) {
+  DistanceRows rows;
+  const std::span<const NodeId> sources = plan.batch(b);
+  rows.sources.assign(sources.begin(), sources.end());
+  rows.rows = sources.size();
+  rows.cols = nodes;
+  rows.values.resize(rows.rows * rows.cols);
+  return rows;
+}
+
+// The residual variance's source rows for a run with a step store, made before the landmark
+// rows so that a run stopped late in those keeps them: each batch the store does not hold is
+// computed and saved, and none is held here (the landmark rows need the memory).
+void store_residual_rows(const NeighbourGraph& ordered, const ResidualPlan& plan, StepStore& store,
+                         StopToken stop) {
+  const ProgressStep step = stop.step("residual rows", plan.sources.size());
+  for (std::size_t b = 0; b < plan.batches(); ++b) {
+    if (store.has_residual_rows(b)) {
+      stop.advance(plan.batch(b).size());
+      continue;
+    }
+    store.save_residual_rows(b, residual_rows(ordered, plan, b, stop));
+  }
+}
+
+// The residual variance curve of a run with a step store: its rows taken back batch by batch
+// (one computed again when its piece is missing or damaged), correlated with the map.
+ResidualVarianceCurve stored_residual(const NeighbourGraph& ordered, const ResidualPlan& plan,
+                                      const PointSet& coords, StepStore& store, StopToken stop) {
+  return correlate_residual(
+      plan, coords,
+      [&](std::size_t b) {
+        DistanceRows rows = residual_batch(plan, b, ordered.nodes());
+        if (store.load_residual_rows(b, rows)) return rows;
+        rows = residual_rows(ordered, plan, b, stop);
+        store.save_residual_rows(b, rows);
+        return rows;
+      },
+      stop);
+}
+
 // The steps after the graph (engine/embedding_steps.hpp). node_of_point: input row -> graph
 // node; point_of_node: graph node -> representative row; node_points: row v the point of
 // node v, or empty for a given graph.
@@ -106,6 +148,23 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   result.order = ordered.order;
   result.seconds.order = watch.seconds();
   const Renumbering& order = ordered.numbering;
+
+  // With a step store (landmark mode) the residual variance's rows come before the landmark
+  // rows, unless its curve is saved already.
+  double residual_seconds = 0;
+  std::optional<ResidualPlan> residual_plan;
+  if (options.residual) {
+    watch = Stopwatch();
+    result.residual = store ? store->load_residual() : std::nullopt;
+    if (result.residual && result.residual->by_dims.size() != options.spectral.dims)
+      throw InternalError("saved residual variance does not fit the map");
+    if (!result.residual && store && !options.exact()) {
+      residual_plan =
+          plan_residual(ordered.graph.nodes(), *options.residual, order.new_of_old.values());
+      store_residual_rows(ordered.graph, *residual_plan, *store, stop);
+    }
+    residual_seconds = watch.seconds();
+  }
 
   watch = Stopwatch();
   SourceRowsOptions so{options.landmarks};
@@ -146,18 +205,15 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   }
   result.seconds.spectral = watch.seconds();
   watch = Stopwatch();
-  if (options.residual) {  // map.coords row v is node v of the ordered graph
-    result.residual = store ? store->load_residual() : std::nullopt;
-    if (result.residual && result.residual->by_dims.size() != options.spectral.dims)
-      throw InternalError("saved residual variance does not fit the map");
-    if (!result.residual) {
-      const ProgressStep step = stop.step("residual variance", 0);
-      result.residual = graph_residual_variance(ordered.graph, map.coords, *options.residual,
-                                                order.new_of_old.values(), stop);
-      if (store) store->save_residual(*result.residual);
-    }
+  if (options.residual && !result.residual) {  // map.coords row v is node v of the ordered graph
+    const ProgressStep step = stop.step("residual variance", 0);
+    result.residual = residual_plan
+                          ? stored_residual(ordered.graph, *residual_plan, map.coords, *store, stop)
+                          : graph_residual_variance(ordered.graph, map.coords, *options.residual,
+                                                    order.new_of_old.values(), stop);
+    if (store) store->save_residual(*result.residual);
   }
-  result.seconds.residual = watch.seconds();
+  result.seconds.residual = residual_seconds + watch.seconds();
   result.spectral = map.summary;
   append_warnings(result.warnings, "spectral", map.summary.warnings);
   result.spectrum = std::move(map.spectrum);

@@ -219,30 +219,61 @@ std::vector<NodeId> residual_sources(std::size_t nodes, const ResidualOptions& o
   return sources;
 }
 
+std::span<const NodeId> ResidualPlan::batch(std::size_t b) const {
+  const std::size_t first = b * kBatch;
+  return {sources.data() + first, std::min(kBatch, sources.size() - first)};
+}
+
+ResidualPlan plan_residual(std::size_t nodes, const ResidualOptions& options,
+                           std::span<const NodeId> draw_order) {
+  options.validate();
+  ResidualPlan plan;
+  plan.sources = residual_sources(nodes, options, draw_order, plan.drawn);
+  plan.sampled = plan.sources.size() < nodes;
+  return plan;
+}
+
+DistanceRows residual_rows(const NeighbourGraph& graph, const ResidualPlan& plan, std::size_t b,
+                           StopToken stop) {
+  return geodesic_rows(graph, {plan.batch(b)}, stop).rows;
+}
+
+ResidualVarianceCurve correlate_residual(const ResidualPlan& plan, const PointSet& coords,
+                                         const std::function<DistanceRows(std::size_t)>& rows_of,
+                                         StopToken stop) {
+  const auto start = std::chrono::steady_clock::now();
+  detail::require_points(coords, "residual variance map");
+  // The per-row moments are merged in row order, so neither the batch size nor where a
+  // batch came from changes the result.
+  std::vector<Moments> rows;
+  for (std::size_t b = 0; b < plan.batches(); ++b) {
+    const DistanceRows batch = rows_of(b);
+    const std::span<const NodeId> want = plan.batch(b);
+    if (batch.cols != coords.rows || batch.rows != want.size() ||
+        !std::equal(want.begin(), want.end(), batch.sources.begin(), batch.sources.end()))
+      throw InternalError("residual variance: rows of batch " + std::to_string(b) +
+                          " are not the planned ones");
+    append_row_moments(batch, coords, rows, stop);
+  }
+  ResidualVarianceCurve curve = finish(merged(rows, coords.cols), coords.cols);
+  curve.sampled = plan.sampled;
+  curve.drawn = plan.drawn;
+  if (curve.sampled) curve.standard_error = jackknife_error(rows, coords.cols);
+  curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return curve;
+}
+
 ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const PointSet& coords,
                                               const ResidualOptions& options,
                                               std::span<const NodeId> draw_order, StopToken stop) {
   const auto start = std::chrono::steady_clock::now();
-  options.validate();
+  const ResidualPlan plan = plan_residual(graph.nodes(), options, draw_order);
   detail::require_points(coords, "residual variance map");
   if (coords.rows != graph.nodes())
     throw InternalError("residual variance: a map of " + std::to_string(coords.rows) +
                         " rows for a graph of " + std::to_string(graph.nodes()) + " nodes");
-  std::string drawn;
-  const std::vector<NodeId> sources = residual_sources(graph.nodes(), options, draw_order, drawn);
-  // A batch of rows at a time: memory stays at kBatch rows whatever N is; the per-row
-  // moments are merged in row order, so the batch size does not change the result.
-  constexpr std::size_t kBatch = 16;
-  std::vector<Moments> rows;
-  for (std::size_t first = 0; first < sources.size(); first += kBatch) {
-    const std::span<const NodeId> batch(sources.data() + first,
-                                        std::min(kBatch, sources.size() - first));
-    append_row_moments(geodesic_rows(graph, {batch}, stop).rows, coords, rows, stop);
-  }
-  ResidualVarianceCurve curve = finish(merged(rows, coords.cols), coords.cols);
-  curve.sampled = sources.size() < graph.nodes();
-  curve.drawn = drawn;
-  if (curve.sampled) curve.standard_error = jackknife_error(rows, coords.cols);
+  ResidualVarianceCurve curve = correlate_residual(
+      plan, coords, [&](std::size_t b) { return residual_rows(graph, plan, b, stop); }, stop);
   curve.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   return curve;
 }

@@ -6,6 +6,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <functional>
 #include <span>
 #include <string>
 #include <vector>
@@ -58,6 +59,33 @@ ResidualVarianceCurve graph_residual_variance(const NeighbourGraph& graph, const
                                               const ResidualOptions& options,
                                               std::span<const NodeId> draw_order,
                                               StopToken stop = {});
+
+// graph_residual_variance in two halves, for a run that keeps its steps (engine/step_store.hpp):
+// the source rows depend on the graph and options only, so they can be made (and saved) before
+// the map exists; the curve then correlates them with the map, a batch of rows at a time.
+struct ResidualPlan {
+  static constexpr std::size_t kBatch = 16;  // rows per batch: memory is 16 rows whatever N is
+  std::vector<NodeId> sources;               // graph node ids, as residual_sources gives them
+  std::string drawn;                         // as residual_sources gives it
+  bool sampled = false;                      // fewer sources than nodes
+  std::size_t batches() const { return (sources.size() + kBatch - 1) / kBatch; }
+  std::span<const NodeId> batch(std::size_t b) const;  // the sources of batch b
+};
+
+// The plan of graph_residual_variance on a graph of `nodes` nodes (options validated here).
+ResidualPlan plan_residual(std::size_t nodes, const ResidualOptions& options,
+                           std::span<const NodeId> draw_order);
+
+// The geodesic rows of the plan's batch b over every node of `graph`.
+DistanceRows residual_rows(const NeighbourGraph& graph, const ResidualPlan& plan, std::size_t b,
+                           StopToken stop = {});
+
+// The curve over the plan's rows; rows_of(b) gives batch b (called once per batch, in order,
+// each batch freed before the next is asked for). InternalError when a batch is not the
+// plan's. The same curve, bit for bit, as graph_residual_variance with the same plan.
+ResidualVarianceCurve correlate_residual(const ResidualPlan& plan, const PointSet& coords,
+                                         const std::function<DistanceRows(std::size_t)>& rows_of,
+                                         StopToken stop = {});
 
 // Which rows of an N-node graph the residual variance uses (graph node ids, ascending in the
 // caller's numbering), and the words for how they were drawn.

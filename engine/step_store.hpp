@@ -4,9 +4,10 @@
 // never learns where or how it is kept. Which parameters a saved result belongs to is the
 // store's business: a load returns nothing when no whole result for this run is kept.
 //
-// Saved steps: the neighbour graph, the landmark choice, the landmark rows in batches (exact
-// mode: none of these two), the map (spectrum and coordinates with the landmarks they came
-// from), the residual variance curve, and the scores (asked for by apps/, which runs them).
+// Saved steps: the neighbour graph, the residual variance's source rows in batches, the
+// landmark choice, the landmark rows in batches (exact mode: none of these three), the map
+// (spectrum and coordinates with the landmarks they came from), the residual variance curve,
+// and the scores (asked for by apps/, which runs them).
 // Components and node order are recomputed from the graph: deterministic and short. With the
 // map saved, the rows are not read back unless the result must carry them.
 #pragma once
@@ -52,6 +53,16 @@ class StepStore {
 
   virtual std::optional<MapStep> load_map() = 0;
   virtual void save_map(const MapStep& map) = 0;
+
+  // Batch `batch` of the residual variance's source rows (engine/quality_residual.hpp's
+  // ResidualPlan): they depend on the graph and the seed only, so they are made before the
+  // landmark rows and a run stopped late in those keeps them. has_residual_rows: a piece is
+  // kept (unchecked: the load may still find it damaged or saved for other parameters).
+  // load_residual_rows fills `rows`, whose sources and shape are set, and returns true, or
+  // returns false.
+  virtual bool has_residual_rows(std::size_t batch) = 0;
+  virtual bool load_residual_rows(std::size_t batch, DistanceRows& rows) = 0;
+  virtual void save_residual_rows(std::size_t batch, const DistanceRows& rows) = 0;
 
   // EmbedOptions.residual's curve.
   virtual std::optional<ResidualVarianceCurve> load_residual() = 0;

@@ -133,6 +133,10 @@ class H5Reader {
   // std::uint32_t). Integer T requires integer storage.
   template <class T>
   std::vector<T> read(const std::string& dataset) const;
+  // The same into `out`, which must hold exactly the dataset's elements (DataError if not):
+  // for large datasets whose place is already allocated, read without a second copy.
+  template <class T>
+  void read_into(const std::string& dataset, std::span<T> out) const;
 
   // Every dataset below a group reachable by hard links, each object once (under its first
   // name), as full paths sorted by name; soft and external links are not followed.
@@ -159,6 +163,8 @@ class H5Reader {
  private:
   std::string where(const std::string& object) const;
   detail::Hid open_dataset(const std::string& dataset) const;
+  template <class T>
+  H5OpenDataset open_for(const std::string& dataset) const;    // open_data + checks for T
   H5OpenDataset open_parts(const std::string& dataset) const;  // no guards beyond the header
   detail::Hid open_attribute(const std::string& object, const std::string& name) const;
   std::filesystem::path path_;

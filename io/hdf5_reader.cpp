@@ -203,36 +203,62 @@ H5DatasetInfo H5Reader::require_rank(const std::string& dataset, std::size_t ran
   return i;
 }
 
+namespace {
+// H5Dread of a whole dataset that passed open_data into `out`, refusing lossy conversions.
 template <class T>
-std::vector<T> H5Reader::read(const std::string& dataset) const {
+void read_open(const H5OpenDataset& d, T* out) {
+  Hid dxpl(H5Pcreate(H5P_DATASET_XFER));
+  ConversionGuard guard{std::is_integral_v<T>, false};
+  if (!dxpl || H5Pset_type_conv_cb(dxpl.get(), refuse_lossy, &guard) < 0)
+    throw IoError(d.where + ": cannot set up reading");
+  if (H5Dread(d.set.get(), detail::H5Type<T>::memory(), H5S_ALL, H5S_ALL, dxpl.get(), out) < 0) {
+    if (guard.refused)
+      throw DataError(d.where + ": holds values that do not fit " + detail::H5Type<T>::name);
+    throw IoError(d.where + ": read failed (corrupt or truncated file?)");
+  }
+}
+}  // namespace
+
+template <class T>
+H5OpenDataset H5Reader::open_for(const std::string& dataset) const {
   constexpr bool integer_target = std::is_integral_v<T>;
   if (integer_target) {
     const H5DatasetInfo i = info(dataset);
     if (i.kind == H5Kind::floating)
       throw DataError(where(dataset) + ": holds floating point values, expected integers");
   }
-  const H5OpenDataset d = open_data(dataset);
+  H5OpenDataset d = open_data(dataset);
   if (integer_target && d.info.kind != H5Kind::integer)
     throw DataError(d.where + ": holds " + d.info.type_name + " values, expected integers");
+  return d;
+}
+
+template <class T>
+std::vector<T> H5Reader::read(const std::string& dataset) const {
+  const H5OpenDataset d = open_for<T>(dataset);
   std::vector<T> out(d.info.elements());
-  if (out.empty()) return out;
-  Hid dxpl(H5Pcreate(H5P_DATASET_XFER));
-  ConversionGuard guard{integer_target, false};
-  if (!dxpl || H5Pset_type_conv_cb(dxpl.get(), refuse_lossy, &guard) < 0)
-    throw IoError(d.where + ": cannot set up reading");
-  if (H5Dread(d.set.get(), detail::H5Type<T>::memory(), H5S_ALL, H5S_ALL, dxpl.get(), out.data()) <
-      0) {
-    if (guard.refused)
-      throw DataError(d.where + ": holds values that do not fit " + detail::H5Type<T>::name);
-    throw IoError(d.where + ": read failed (corrupt or truncated file?)");
-  }
+  if (!out.empty()) read_open(d, out.data());
   return out;
+}
+
+template <class T>
+void H5Reader::read_into(const std::string& dataset, std::span<T> out) const {
+  const H5OpenDataset d = open_for<T>(dataset);
+  if (out.size() != d.info.elements())
+    throw DataError(d.where + ": holds " + std::to_string(d.info.elements()) +
+                    " values, expected " + std::to_string(out.size()));
+  if (!out.empty()) read_open(d, out.data());
 }
 
 template std::vector<float> H5Reader::read<float>(const std::string&) const;
 template std::vector<double> H5Reader::read<double>(const std::string&) const;
 template std::vector<std::int64_t> H5Reader::read<std::int64_t>(const std::string&) const;
 template std::vector<std::uint32_t> H5Reader::read<std::uint32_t>(const std::string&) const;
+template void H5Reader::read_into<float>(const std::string&, std::span<float>) const;
+template void H5Reader::read_into<double>(const std::string&, std::span<double>) const;
+template void H5Reader::read_into<std::int64_t>(const std::string&, std::span<std::int64_t>) const;
+template void H5Reader::read_into<std::uint32_t>(const std::string&,
+                                                 std::span<std::uint32_t>) const;
 
 std::vector<std::string> H5Reader::datasets_under(const std::string& group) const {
   if (!has_group(group)) return {};

@@ -135,10 +135,27 @@ bool split_name(const std::string& name, std::string& step, std::string& sum) {
   return true;
 }
 
-std::string rows_step(std::size_t batch) {
-  char text[32];
-  std::snprintf(text, sizeof text, "rows-%04zu", batch);
+std::string rows_step(std::size_t batch, const char* kind = "rows") {
+  char text[48];
+  std::snprintf(text, sizeof text, "%s-%04zu", kind, batch);
   return text;
+}
+
+std::string residual_rows_step(std::size_t batch) {
+  return rows_step(batch, "residual-rows");
+}
+
+// Reads a piece's rows into place (no second copy): `rows` rows [first, first + count), whose
+// sources must be the piece's.
+void read_rows(const H5Reader& in, DistanceRows& rows, std::size_t first, std::size_t count) {
+  const std::vector<std::uint32_t> sources = in.read<std::uint32_t>("/sources");
+  if (sources.size() != count ||
+      !std::equal(sources.begin(), sources.end(), rows.sources.begin() + first))
+    throw DataError("rows start from other sources");
+  const H5DatasetInfo values = in.require_rank("/values", 2);
+  if (values.dims[0] != count || values.dims[1] != rows.cols)
+    throw DataError("rows have another shape");
+  in.read_into<float>("/values", std::span<float>(rows.row(first), count * rows.cols));
 }
 
 }  // namespace
@@ -340,14 +357,9 @@ void WorkFolder::save_landmarks(const LandmarkResult& choice) {
 bool WorkFolder::load_rows(std::size_t batch, DistanceRows& rows, std::size_t first,
                            std::size_t count) {
   return take(rows_step(batch), keys_.landmarks, [&](const H5Reader& in) {
-    const std::vector<std::uint32_t> sources = in.read<std::uint32_t>("/sources");
-    if (in.int_attribute("/", "first") != static_cast<std::int64_t>(first) ||
-        sources.size() != count ||
-        !std::equal(sources.begin(), sources.end(), rows.sources.begin() + first))
+    if (in.int_attribute("/", "first") != static_cast<std::int64_t>(first))
       throw DataError("rows start from other landmarks");
-    const std::vector<float> values = in.read<float>("/values");
-    if (values.size() != count * rows.cols) throw DataError("rows have another width");
-    std::copy(values.begin(), values.end(), rows.row(first));
+    read_rows(in, rows, first, count);
   });
 }
 
@@ -358,6 +370,28 @@ void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::siz
               {count, rows.cols});
     out.write("/sources", std::span<const NodeId>(rows.sources.data() + first, count), {count});
     out.set_int_attribute("/", "first", static_cast<std::int64_t>(first));
+  });
+}
+
+bool WorkFolder::has_residual_rows(std::size_t batch) {
+  const std::string step = residual_rows_step(batch);
+  std::error_code ec;
+  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
+    std::string s, sum;
+    if (split_name(entry.path().filename().string(), s, sum) && s == step) return true;
+  }
+  return false;
+}
+
+bool WorkFolder::load_residual_rows(std::size_t batch, DistanceRows& rows) {
+  return take(residual_rows_step(batch), keys_.residual_rows,
+              [&](const H5Reader& in) { read_rows(in, rows, 0, rows.rows); });
+}
+
+void WorkFolder::save_residual_rows(std::size_t batch, const DistanceRows& rows) {
+  save(residual_rows_step(batch), keys_.residual_rows, [&](H5Writer& out) {
+    out.write("/values", rows.values, {rows.rows, rows.cols});
+    out.write("/sources", rows.sources, {rows.rows});
   });
 }
 

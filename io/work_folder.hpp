@@ -6,6 +6,8 @@
 //   rows-BBBB.CHECKSUM.h5     batch BBBB of the landmark rows: values, sources, first row
 //   map.CHECKSUM.h5           spectrum, coordinates (ordered nodes), landmark coordinates and
 //                             sources, summaries
+//   residual-rows-BBBB.CHECKSUM.h5  batch BBBB of the residual variance's source rows: values,
+//                             sources (made before the landmark rows)
 //   residual.CHECKSUM.h5      the residual variance curve (JSON text attribute)
 //   scores.CHECKSUM.h5        the scores (JSON text attribute, per-point terms included)
 //
@@ -43,6 +45,7 @@ struct WorkKeys {
   std::string map;       // spectrum and coordinates
   std::string residual;  // the residual variance curve
   std::string scores;
+  std::string residual_rows;  // its source rows: the graph, components, node order and seed
 };
 
 // What became of a piece, for the messages apps/ prints: taken from the folder; saved; passed
@@ -69,6 +72,9 @@ class WorkFolder final : public StepStore {
                  std::size_t count) override;
   std::optional<MapStep> load_map() override;
   void save_map(const MapStep& map) override;
+  bool has_residual_rows(std::size_t batch) override;
+  bool load_residual_rows(std::size_t batch, DistanceRows& rows) override;
+  void save_residual_rows(std::size_t batch, const DistanceRows& rows) override;
   std::optional<ResidualVarianceCurve> load_residual() override;
   void save_residual(const ResidualVarianceCurve& curve) override;
   std::optional<Assessment> load_scores() override;

@@ -2,8 +2,10 @@
 signals"): a run stopped by SIGTERM during the landmark rows exits 75, prints the command that
 resumes, and leaves whole pieces; that command resumes (and says so); a second stop during the
 resumed run; SIGKILL at three moments; a second SIGINT stopping at once; torn and altered
-pieces found and recomputed with a warning; a kill during the scores resumed from the saved
-map and residual variance without reading the landmark rows; the scores taken back; a new score
+pieces found and recomputed with a warning; a kill during the residual variance's source rows
+(made before the landmark rows) and an altered batch of them recomputed with a warning; a kill
+during the scores resumed from the saved map and residual variance without reading the
+landmark rows; the scores taken back; a new score
 k rescoring only; the folder removed after success unless kept.
 
 The reference for every map is an uninterrupted run of the same command with --no-work-dir
@@ -290,12 +292,45 @@ r = run(embed(ref_scored, [*scored_args, "--no-work-dir"], 2))
 check("scored reference: exit 0", r.returncode == 0, r.stderr)
 out = path("scored.h5")
 folder = out + ".work"
+
+# First a kill during the residual variance's source rows, which a run with a work folder
+# makes before the landmark rows (so that a run killed late in those has them); one saved
+# batch is then altered. The next run takes the whole batches back and warns about the altered
+# one, which it makes again.
 _, _, code, _ = signal_when(start(embed(out, scored_args, 1)),
-                            lambda: bool(pieces(folder, "residual")), signal.SIGKILL,
+                            lambda: len(pieces(folder, "residual-rows-")) >= 3, signal.SIGKILL,
+                            "SIGKILL during the residual variance's rows")
+check("SIGKILL during the residual rows: killed", code == -signal.SIGKILL, f"exit {code}")
+early = pieces(folder, "residual-rows-")
+check("SIGKILL during the residual rows: some batches saved, no landmark rows yet",
+      3 <= len(early) < 16 and not pieces(folder, "rows-"), str(pieces(folder)))
+bad = []
+for name in early:  # a geodesic row is 0 at its own source (analytic), finite elsewhere
+    with h5py.File(os.path.join(folder, name), "r") as f:
+        values, sources = f["values"][()], f["sources"][()]
+    if (values.shape != (len(sources), 200_000) or not np.isfinite(values).all()
+            or any(values[i, s] != 0 for i, s in enumerate(sources))):
+        bad.append(name)
+check("SIGKILL during the residual rows: every batch left is whole", not bad, str(bad))
+altered = early[1]
+with open(os.path.join(folder, altered), "r+b") as f:
+    f.seek(os.path.getsize(os.path.join(folder, altered)) // 2)
+    b = f.read(1)
+    f.seek(-1, 1)
+    f.write(bytes([b[0] ^ 0x40]))
+
+o, _, code, _ = signal_when(start(embed(out, scored_args, 1)),
+                            lambda: bool(pieces(folder, "residual.")), signal.SIGKILL,
                             "SIGKILL once the residual variance is saved (the scores running)")
 check("SIGKILL during the scores: killed", code == -signal.SIGKILL, f"exit {code}")
+warned = [l for l in o.splitlines() if l.startswith("warning: work folder:")]
+check("the altered residual batch: one warning naming it, and made again",
+      len(warned) == 1 and altered in warned[0] and "recomputing" in warned[0]
+      and len(pieces(folder, "residual-rows-")) == 16 and altered not in pieces(folder), o)
+check("the whole residual batches taken back",
+      all(f"resume: {n.split('.')[0]} taken" in o for n in early if n != altered), o)
 check("SIGKILL during the scores: the map and residual pieces are saved",
-      pieces(folder, "map") and pieces(folder, "residual") and not pieces(folder, "scores"),
+      pieces(folder, "map") and pieces(folder, "residual.") and not pieces(folder, "scores"),
       str(pieces(folder)))
 r = run(embed(out, [*scored_args, "--keep-work-dir"], 2))
 taken = r.stdout

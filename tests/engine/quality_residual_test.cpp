@@ -6,6 +6,7 @@
 #include <cmath>
 #include <numeric>
 
+#include "engine/error.hpp"
 #include "engine/geodesic.hpp"
 #include "engine/neighbours.hpp"
 #include "engine/quality_residual.hpp"
@@ -129,4 +130,37 @@ TEST_CASE("the residual variance's source count shrinks with the graph within it
   REQUIRE(curve.sampled);
   CHECK(curve.pairs == 50u * 2999u);
   CHECK(curve.drawn.find("paired with 50 source nodes") != std::string::npos);
+}
+
+TEST_CASE("the residual variance from rows made apart equals the one-pass curve", "[quality]") {
+  // The reference is graph_residual_variance, itself checked above against the direct
+  // all-pairs formula (Tenenbaum et al. 2000, note 42) and its own standard error.
+  const Roll r = roll(1500, 33);
+  unfurl::ResidualOptions o;
+  o.all_pairs_limit = 1000;
+  o.sources = 40;  // three batches: 16, 16 and 8 rows
+  o.seed = 9;
+  const auto one_pass = unfurl::graph_residual_variance(r.graph, r.truth, o, {});
+  const auto plan = unfurl::plan_residual(r.graph.nodes(), o, {});
+  REQUIRE(plan.batches() == 3);
+  CHECK(plan.batch(2).size() == 8);
+  // Every batch made first (as a run keeps them), then handed over out of storage.
+  std::vector<unfurl::DistanceRows> kept;
+  for (std::size_t b = 0; b < plan.batches(); ++b)
+    kept.push_back(unfurl::residual_rows(r.graph, plan, b));
+  std::size_t asked = 0;
+  const auto apart = unfurl::correlate_residual(plan, r.truth, [&](std::size_t b) {
+    CHECK(b == asked++);
+    return kept[b];
+  });
+  CHECK(asked == 3);
+  CHECK(apart.by_dims == one_pass.by_dims);
+  CHECK(apart.standard_error == one_pass.standard_error);
+  CHECK(apart.pairs == one_pass.pairs);
+  CHECK(apart.drawn == one_pass.drawn);
+  CHECK(apart.sampled);
+  // Rows of other sources are refused, not correlated.
+  CHECK_THROWS_AS(
+      unfurl::correlate_residual(plan, r.truth, [&](std::size_t b) { return kept[(b + 1) % 3]; }),
+      unfurl::InternalError);
 }

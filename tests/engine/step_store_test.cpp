@@ -49,6 +49,24 @@ class MemoryStore final : public StepStore {
     batches[b].assign(rows.row(first), rows.row(first) + n * rows.cols);
     if (stop_after_batches && batches.size() >= stop_after_batches) stop = true;
   }
+  std::map<std::size_t, DistanceRows> residual_batches;
+  std::size_t residual_loads = 0;
+  std::size_t residual_saves = 0;
+  std::optional<std::size_t> damaged_residual;  // kept, but found damaged when loaded
+  bool has_residual_rows(std::size_t b) override { return residual_batches.count(b) > 0; }
+  bool load_residual_rows(std::size_t b, DistanceRows& rows) override {
+    auto it = residual_batches.find(b);
+    if (it == residual_batches.end() || damaged_residual == b) return false;
+    REQUIRE(it->second.sources == rows.sources);
+    rows = it->second;
+    ++residual_loads;
+    return true;
+  }
+  void save_residual_rows(std::size_t b, const DistanceRows& rows) override {
+    residual_batches[b] = rows;
+    ++residual_saves;
+    if (damaged_residual == b) damaged_residual.reset();
+  }
   std::optional<MapStep> map;
   std::optional<ResidualVarianceCurve> residual;
   std::optional<Assessment> scores;
@@ -143,5 +161,52 @@ TEST_CASE("with the map and residual variance saved, a rerun reads no landmark r
     CHECK(store.loads == (exact ? 3u : 3u + 1 + 14));  // exact mode recomputes its rows
     CHECK(kept.geodesic.values == with_rows.geodesic.values);
     CHECK(kept.coords.values == plain.coords.values);
+  }
+}
+
+TEST_CASE("a run stopped in the landmark rows keeps the residual variance's rows", "[resume]") {
+  // The reference is the store-less run (graph_residual_variance after the map, checked in
+  // tests/engine/quality_residual_test against the direct all-pairs formula).
+  const PointSet points = swiss_roll(3000, 4).points;
+  EmbedOptions o;
+  o.graph.neighbourhood = NearestK{8};
+  o.landmarks.count = LandmarkCount{40};
+  o.residual = ResidualOptions{.all_pairs_limit = 500, .sources = 40, .seed = 3};  // 3 batches
+  const EmbedResult plain = embed_points(points, o);
+  REQUIRE(plain.residual.has_value());
+  REQUIRE(plain.residual->sampled);
+
+  MemoryStore store;
+  store.stop_after_batches = 12;  // of 14 landmark row batches
+  CHECK_THROWS_AS(embed_points(points, o, StopToken{&store.stop}, &store), InterruptedError);
+  CHECK(store.residual_batches.size() == 3);  // made before the landmark rows
+  CHECK_FALSE(store.residual.has_value());
+
+  store.stop = false;
+  store.stop_after_batches = 0;
+  const EmbedResult resumed = embed_points(points, o, StopToken{&store.stop}, &store);
+  CHECK(store.residual_loads == 3);
+  same_result(resumed, plain);
+  REQUIRE(resumed.residual.has_value());
+  CHECK(resumed.residual->by_dims == plain.residual->by_dims);
+  CHECK(resumed.residual->standard_error == plain.residual->standard_error);
+  CHECK(resumed.residual->pairs == plain.residual->pairs);
+
+  // A batch lost is made again before the landmark rows; one found damaged when loaded is
+  // made again after the map. The same curve either way.
+  for (bool lost : {true, false}) {
+    if (lost)
+      store.residual_batches.erase(1);
+    else
+      store.damaged_residual = 1;
+    store.map.reset();
+    store.residual.reset();
+    store.residual_loads = store.residual_saves = 0;
+    const EmbedResult patched = embed_points(points, o, {}, &store);
+    CHECK(store.residual_loads == (lost ? 3u : 2u));
+    CHECK(store.residual_saves == 1);
+    CHECK(store.residual_batches.size() == 3);
+    CHECK(patched.residual->by_dims == plain.residual->by_dims);
+    CHECK(patched.residual->standard_error == plain.residual->standard_error);
   }
 }

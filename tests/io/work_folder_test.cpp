@@ -1,5 +1,6 @@
 #include "io/work_folder.hpp"
 
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cstdio>
 #include <filesystem>
@@ -51,7 +52,8 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   rows.values.resize(rows.rows * rows.cols);
   fill_landmark_rows(graph.graph, rows, 0, rows.rows);
   {
-    io::WorkFolder w(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key"});
+    io::WorkFolder w(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key",
+                           "residual-rows-key"});
     CHECK_FALSE(w.load_graph());
     w.save_graph(graph);
     w.save_landmarks(choice);
@@ -60,8 +62,10 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
     CHECK(w.pieces_saved() == 4);
   }
   Events ev;
-  io::WorkFolder w(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key"},
-                   ev.notice());
+  io::WorkFolder w(
+      dir,
+      {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key", "residual-rows-key"},
+      ev.notice());
   const auto g = w.load_graph();
   REQUIRE(g);
   CHECK(g->graph.offsets == graph.graph.offsets);
@@ -88,7 +92,8 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   // Other parameters: the piece is passed over (and kept until a new one replaces it).
   Events other;
   io::WorkFolder changed(dir,
-                         {"graph-key", "other-landmarks", "map-key", "residual-key", "scores-key"},
+                         {"graph-key", "other-landmarks", "map-key", "residual-key", "scores-key",
+                          "residual-rows-key"},
                          other.notice());
   CHECK_FALSE(changed.load_landmarks());
   CHECK(other.count(io::PieceEvent::stale) == 1);
@@ -114,8 +119,10 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
     f.write(&b, 1);
   }
   Events damaged;
-  io::WorkFolder again(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key"},
-                       damaged.notice());
+  io::WorkFolder again(
+      dir,
+      {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key", "residual-rows-key"},
+      damaged.notice());
   CHECK_FALSE(again.load_rows(0, back, 0, 4));
   CHECK_FALSE(again.load_rows(1, back, 4, 3));
   CHECK(damaged.count(io::PieceEvent::damaged) == 2);
@@ -146,4 +153,70 @@ TEST_CASE("checksum64 and the content fingerprint change with any byte", "[work_
   char hex[17];
   std::snprintf(hex, sizeof hex, "%016llx", static_cast<unsigned long long>(sum));
   CHECK(io::content_fingerprint(file, true) == hex);
+}
+
+TEST_CASE("work folder: residual rows round-trip in place; damaged or stale ones are refused",
+          "[work_folder]") {
+  // Common practice, no source: a checksum in the name verified before use; the rows are
+  // Dijkstra rows of a small Swiss roll graph, compared bit for bit with what was saved.
+  test::TempFolder tmp;
+  const fs::path dir = tmp.path() / "run.work";
+  GraphOptions go;
+  go.neighbourhood = NearestK{6};
+  const NodeGraph graph = node_graph(swiss_roll(300, 5).points, go);
+  LandmarkOptions lo;
+  lo.count = LandmarkCount{5};
+  DistanceRows rows = choose_landmarks(graph.graph, lo).rows;
+  rows.values.resize(rows.rows * rows.cols);
+  fill_landmark_rows(graph.graph, rows, 0, rows.rows);
+  const io::WorkKeys keys{"g", "l", "m", "r", "s", "residual-rows"};
+  auto empty_like = [&] {
+    DistanceRows back = rows;
+    back.values.assign(rows.values.size(), -1.0f);
+    return back;
+  };
+  {
+    io::WorkFolder w(dir, keys);
+    CHECK_FALSE(w.has_residual_rows(0));
+    w.save_residual_rows(0, rows);
+    w.save_residual_rows(1, rows);
+  }
+  Events ev;
+  io::WorkFolder w(dir, keys, ev.notice());
+  CHECK(w.has_residual_rows(0));
+  CHECK_FALSE(w.has_residual_rows(2));
+  DistanceRows back = empty_like();
+  CHECK(w.load_residual_rows(0, back));
+  CHECK(back.values == rows.values);
+  // Rows asked for with other sources: the piece is not theirs.
+  DistanceRows shifted = empty_like();
+  std::rotate(shifted.sources.begin(), shifted.sources.begin() + 1, shifted.sources.end());
+  CHECK_FALSE(w.load_residual_rows(1, shifted));
+  CHECK(ev.count(io::PieceEvent::damaged) == 1);
+
+  // One byte altered: found by the checksum before HDF5 reads it, removed, reported.
+  const fs::path piece = only_piece(dir, "residual-rows-0000");
+  {
+    std::fstream f(piece, std::ios::in | std::ios::out | std::ios::binary);
+    const auto at = static_cast<std::streamoff>(fs::file_size(piece) / 2);
+    char b = 0;
+    f.seekg(at);
+    f.read(&b, 1);
+    f.seekp(at);
+    f.put(static_cast<char>(b ^ 0x20));
+  }
+  back = empty_like();
+  CHECK_FALSE(w.load_residual_rows(0, back));
+  CHECK(ev.count(io::PieceEvent::damaged) == 2);
+  CHECK_FALSE(fs::exists(piece));
+  CHECK_FALSE(w.has_residual_rows(0));
+
+  // Other parameters (a new seed): kept but passed over.
+  w.save_residual_rows(0, rows);
+  Events other;
+  io::WorkFolder changed(dir, {"g", "l", "m", "r", "s", "other seed"}, other.notice());
+  CHECK(changed.has_residual_rows(0));
+  back = empty_like();
+  CHECK_FALSE(changed.load_residual_rows(0, back));
+  CHECK(other.count(io::PieceEvent::stale) == 1);
 }
