@@ -141,7 +141,8 @@ void WorkRun::failed() {
   if (!folder_.existed()) folder_.remove();
 }
 
-void WorkRun::stopped() const {
+void WorkRun::stopped() {
+  folder_.flush();
   std::fflush(stdout);
   fmt::print(
       stderr, "unfurl: stopped; {} saved in {} ({} this run); resume with:\n  {}\n",

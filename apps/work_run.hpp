@@ -42,8 +42,9 @@ class WorkRun {
   // After a failure other than a stop: removes the folder if this run created it (the same
   // command would fail the same way; an earlier run's pieces are kept).
   void failed();
-  // On a stop request: prints on stderr what is saved and the exact command that resumes.
-  void stopped() const;
+  // On a stop request: waits for the pieces being written, then prints on stderr what is
+  // saved and the exact command that resumes.
+  void stopped();
   // The pieces this run took from the folder instead of computing them (the run record's
   // "resumed" field; empty for a run from scratch).
   const std::vector<std::string>& resumed_from() const { return resumed_from_; }

@@ -1,6 +1,9 @@
 #include "engine/embedding.hpp"
 
 #include <algorithm>
+#include <atomic>
+#include <memory>
+#include <mutex>
 
 #include "engine/embedding_steps.hpp"
 #include "engine/error.hpp"
@@ -34,39 +37,101 @@ std::size_t landmark_count(const EmbedOptions& options, std::size_t nodes) {
   return l;
 }
 
-// source_rows for a run with a step store: the choice first, then the rows batch by batch,
-// each taken from the store when it holds it, else computed and saved. The same bytes as
-// source_rows: the choice is the same sequence and every row the same Dijkstra run.
+// The first row of each batch: batch b holds rows [first[b], first[b + 1]).
+std::vector<std::size_t> batch_starts(std::size_t rows) {
+  const std::size_t per_batch = (rows + kRowBatches - 1) / kRowBatches;
+  std::vector<std::size_t> first;
+  for (std::size_t f = 0; f < rows; f += per_batch) first.push_back(f);
+  first.push_back(rows);
+  return first;
+}
+
+// Maxmin with nothing saved: the rows are computed beside the choice, as source_rows does,
+// and saved as they come: the choice as soon as it is made, each batch once all its rows are
+// done (batches finish in any order; those done before the choice wait for it, so that a
+// saved batch always has its choice). Calls to the store come from the thread that finished
+// the work, one at a time under `saving`.
+void rows_beside_choice(const NeighbourGraph& ordered, const LandmarkOptions& lo, StepStore& store,
+                        LandmarkResult& picked, StopToken stop) {
+  const std::vector<std::size_t> first = batch_starts(lo.resolved_count(ordered.nodes()));
+  const std::size_t batches = first.size() - 1;
+  std::vector<std::size_t> batch_of(first.back());
+  for (std::size_t b = 0; b < batches; ++b)
+    std::fill(batch_of.begin() + first[b], batch_of.begin() + first[b + 1], b);
+  std::unique_ptr<std::atomic<std::size_t>[]> left(new std::atomic<std::size_t>[batches]);
+  for (std::size_t b = 0; b < batches; ++b) left[b] = first[b + 1] - first[b];
+  std::mutex saving;
+  bool chosen = false;
+  std::vector<std::size_t> waiting;  // batches done before the choice was saved
+  LandmarkHooks hooks;
+  hooks.chosen = [&](const DistanceRows& rows, const LandmarkSummary& summary) {
+    LandmarkResult choice;
+    choice.rows.rows = rows.rows;
+    choice.rows.cols = rows.cols;
+    choice.rows.sources = rows.sources;
+    choice.summary = summary;
+    const std::lock_guard<std::mutex> lock(saving);
+    store.save_landmarks(choice);
+    chosen = true;
+    for (std::size_t b : waiting) store.save_rows(b, rows, first[b], first[b + 1] - first[b]);
+  };
+  hooks.row_done = [&](const DistanceRows& rows, std::size_t row) {
+    const std::size_t b = batch_of[row];
+    if (left[b].fetch_sub(1) != 1) return;
+    const std::lock_guard<std::mutex> lock(saving);
+    if (chosen)
+      store.save_rows(b, rows, first[b], first[b + 1] - first[b]);
+    else
+      waiting.push_back(b);
+  };
+  pick_landmarks_into(ordered, lo, picked, hooks, stop);
+}
+
+// source_rows for a run with a step store: the choice and the rows, each batch taken from the
+// store when it holds it, else computed and saved. The same bytes as source_rows: the choice
+// is the same sequence and every row the same Dijkstra run.
 SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const NodeId> draw_order,
                               const SourceRowsOptions& options, StepStore& store, StopToken stop) {
   const Stopwatch watch;
   LandmarkOptions lo = options.landmarks;
   lo.draw_order = draw_order;
-  std::optional<LandmarkResult> picked = store.load_landmarks();
+  SourceRows out;
+  LandmarkResult picked;
+  const StoreFlush flushed(&store);  // after the rows it guards: runs before they are freed
+  std::optional<LandmarkResult> saved = store.load_landmarks();
   const std::size_t count = lo.resolved_count(ordered.nodes());
-  if (picked && (picked->rows.rows != count || picked->rows.cols != ordered.nodes() ||
-                 picked->rows.sources.size() != count))
+  if (saved && (saved->rows.rows != count || saved->rows.cols != ordered.nodes() ||
+                saved->rows.sources.size() != count))
     throw InternalError("saved landmark choice does not fit the graph");
-  if (!picked) {
+  if (!saved && lo.pick == Pick::maxmin) {
+    const ProgressStep step = stop.step("landmark rows", count);
+    rows_beside_choice(ordered, lo, store, picked, stop);
+    out.rows = std::move(picked.rows);
+    out.summary = std::move(picked.summary);
+    out.summary.seconds = watch.seconds();
+    return out;
+  }
+  if (saved) {
+    picked = std::move(*saved);
+  } else {  // a random draw: instant, saved before any row
     const ProgressStep step = stop.step("landmark choice", 0);
     picked = choose_landmarks(ordered, lo, stop);
-    store.save_landmarks(*picked);
+    store.save_landmarks(picked);
   }
-  SourceRows out;
-  out.rows = std::move(picked->rows);
-  out.summary = std::move(picked->summary);
+  out.rows = std::move(picked.rows);
+  out.summary = std::move(picked.summary);
   DistanceRows& rows = out.rows;
   rows.values.resize(rows.rows * rows.cols);
-  const std::size_t per_batch = (rows.rows + kRowBatches - 1) / kRowBatches;
+  const std::vector<std::size_t> first = batch_starts(rows.rows);
   const ProgressStep step = stop.step("landmark rows", rows.rows);
-  for (std::size_t b = 0, first = 0; first < rows.rows; ++b, first += per_batch) {
-    const std::size_t n = std::min(per_batch, rows.rows - first);
-    if (store.load_rows(b, rows, first, n)) {
+  for (std::size_t b = 0; b + 1 < first.size(); ++b) {
+    const std::size_t n = first[b + 1] - first[b];
+    if (store.load_rows(b, rows, first[b], n)) {
       stop.advance(n);  // taken back: done as far as the run is concerned
       continue;
     }
-    fill_landmark_rows(ordered, rows, first, n, stop);
-    store.save_rows(b, rows, first, n);
+    fill_landmark_rows(ordered, rows, first[b], n, stop);
+    store.save_rows(b, rows, first[b], n);  // written while the next batch is computed
   }
   out.summary.seconds = watch.seconds();
   return out;
@@ -262,6 +327,7 @@ EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, St
   if (saved && saved->node_of_point.size() != points.rows)
     throw InternalError("saved graph does not fit the points");
   NodeGraph nodes;
+  const StoreFlush flushed(store);  // the saved graph's arrays live until it has run
   if (saved) {
     nodes = std::move(*saved);
     nodes.node_points = gather_rows(points, nodes.point_of_node);

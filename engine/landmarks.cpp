@@ -46,7 +46,7 @@ namespace {
 // with_rows false: the choice alone (rows.values stays empty).
 void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
                  std::span<const NodeId> draw_order, DistanceRows& rows, LandmarkSummary& summary,
-                 bool with_rows, StopToken stop) {
+                 bool with_rows, const LandmarkHooks& hooks, StopToken stop) {
   const std::size_t n = graph.nodes();
   std::vector<double> nearest(n, std::numeric_limits<double>::infinity());
   std::vector<char> chosen(n, 0);
@@ -84,7 +84,7 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
       chosen[pick] = 1;
       rows.sources[k] = pick;
       if (with_rows) {
-#pragma omp task default(none) firstprivate(k, pick) shared(rows, graph, work, errors, stop)
+#pragma omp task default(none) firstprivate(k, pick) shared(rows, graph, work, errors, stop, hooks)
         errors.run([&] {
           if (errors.failed()) return;
           stop.check("landmarks");
@@ -92,6 +92,7 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
           const std::size_t unreachable = mine.run(pick, rows.row(k));
           if (unreachable > 0) detail::throw_unreachable(unreachable, graph.nodes(), pick);
           stop.advance(1);
+          if (hooks.row_done) hooks.row_done(rows, k);
         });
       }
       errors.run([&] {
@@ -102,14 +103,19 @@ void pick_maxmin(const NeighbourGraph& graph, std::uint64_t seed,
         if (unreachable > 0) detail::throw_unreachable(unreachable, n, pick);
       });
     }
+    if (!errors.failed())
+      errors.run([&] {  // before the last rows are done: a caller may save the choice now
+        summary.coverage_radius = *std::max_element(nearest.begin(), nearest.end());
+        if (hooks.chosen) hooks.chosen(rows, summary);
+      });
 #pragma omp taskwait
   }
   errors.rethrow();
-  summary.coverage_radius = *std::max_element(nearest.begin(), nearest.end());
 }
 
 void pick_random(const NeighbourGraph& graph, std::uint64_t seed,
-                 std::span<const NodeId> draw_order, DistanceRows& rows, bool with_rows,
+                 std::span<const NodeId> draw_order, DistanceRows& rows,
+                 const LandmarkSummary& summary, bool with_rows, const LandmarkHooks& hooks,
                  StopToken stop) {
   // Partial Fisher-Yates shuffle: the first L entries are a uniform draw without repeats.
   std::vector<NodeId> ids(graph.nodes());
@@ -123,16 +129,19 @@ void pick_random(const NeighbourGraph& graph, std::uint64_t seed,
     std::swap(ids[k], ids[j]);
     rows.sources[k] = ids[k];
   }
-  if (with_rows) detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
+  if (hooks.chosen) hooks.chosen(rows, summary);
+  if (!with_rows) return;
+  detail::fill_geodesic_rows(graph, rows, 0, rows.rows, stop);
+  if (hooks.row_done)
+    for (std::size_t k = 0; k < rows.rows; ++k) hooks.row_done(rows, k);
 }
 
-LandmarkResult landmarks_of(const NeighbourGraph& graph, const LandmarkOptions& options,
-                            bool with_rows, StopToken stop) {
+void landmarks_of(const NeighbourGraph& graph, const LandmarkOptions& options, bool with_rows,
+                  const LandmarkHooks& hooks, StopToken stop, LandmarkResult& result) {
   const auto start = std::chrono::steady_clock::now();
   const std::size_t n = graph.nodes();
   options.validate(n);
   detail::check_graph(graph);
-  LandmarkResult result;
   DistanceRows& rows = result.rows;
   rows.rows = options.resolved_count(n);
   rows.cols = n;
@@ -144,23 +153,32 @@ LandmarkResult landmarks_of(const NeighbourGraph& graph, const LandmarkOptions& 
   summary.pick = options.pick;
   summary.threads = omp_get_max_threads();
   if (options.pick == Pick::maxmin)
-    pick_maxmin(graph, options.seed, options.draw_order, rows, summary, with_rows, stop);
+    pick_maxmin(graph, options.seed, options.draw_order, rows, summary, with_rows, hooks, stop);
   else
-    pick_random(graph, options.seed, options.draw_order, rows, with_rows, stop);
+    pick_random(graph, options.seed, options.draw_order, rows, summary, with_rows, hooks, stop);
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  return result;
 }
 
 }  // namespace
 
 LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
                               StopToken stop) {
-  return landmarks_of(graph, options, true, stop);
+  LandmarkResult result;
+  landmarks_of(graph, options, true, {}, stop, result);
+  return result;
+}
+
+void pick_landmarks_into(const NeighbourGraph& graph, const LandmarkOptions& options,
+                         LandmarkResult& result, const LandmarkHooks& hooks, StopToken stop) {
+  result = LandmarkResult{};
+  landmarks_of(graph, options, true, hooks, stop, result);
 }
 
 LandmarkResult choose_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
                                 StopToken stop) {
-  return landmarks_of(graph, options, false, stop);
+  LandmarkResult result;
+  landmarks_of(graph, options, false, {}, stop, result);
+  return result;
 }
 
 void fill_landmark_rows(const NeighbourGraph& graph, DistanceRows& rows, std::size_t first,

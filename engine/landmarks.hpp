@@ -16,6 +16,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <functional>
 #include <span>
 #include <string>
 #include <variant>
@@ -85,6 +86,22 @@ struct LandmarkResult {
 // connected, InterruptedError when `stop` is requested (polled before every pick and row).
 LandmarkResult pick_landmarks(const NeighbourGraph& graph, const LandmarkOptions& options,
                               StopToken stop = {});
+
+// What a caller that saves the rows as they come (resume) learns while they are computed.
+struct LandmarkHooks {
+  // Once, on the choosing thread, when every source is chosen and the summary is final but for
+  // its seconds; rows may still be computing: read rows.sources and the summary only.
+  std::function<void(const DistanceRows& rows, const LandmarkSummary& summary)> chosen;
+  // Once per row, on the thread that computed it, once its values are written (random picks:
+  // after the last row). Rows finish in any order.
+  std::function<void(const DistanceRows& rows, std::size_t row)> row_done;
+};
+
+// pick_landmarks into `result`, calling `hooks` on the way (an exception from a hook ends the
+// pick and is rethrown). `result` is the caller's, so that rows a hook handed on stay valid
+// while an exception unwinds. Same bytes as pick_landmarks.
+void pick_landmarks_into(const NeighbourGraph& graph, const LandmarkOptions& options,
+                         LandmarkResult& result, const LandmarkHooks& hooks, StopToken stop = {});
 
 // The choice alone, for a caller that computes the rows in batches it can save (resume):
 // the sources and summary pick_landmarks gives, in its order, with rows.values left empty.

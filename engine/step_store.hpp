@@ -10,6 +10,12 @@
 // and the scores (asked for by apps/, which runs them).
 // Components and node order are recomputed from the graph: deterministic and short. With the
 // map saved, the rows are not read back unless the result must carry them.
+//
+// A store may save in the background. Calls come from one thread at a time, not always the
+// same one (row batches are saved by the thread that finished them). save_graph and save_rows
+// may keep reading the arrays they were given until flush() returns, so the engine keeps them
+// alive and unchanged until then: a StoreFlush declared after them flushes before they go,
+// also when an exception unwinds.
 #pragma once
 
 #include <cstddef>
@@ -71,6 +77,27 @@ class StepStore {
   // The scores of the map as assess_map gives them (the caller's options are in the key).
   virtual std::optional<Assessment> load_scores() = 0;
   virtual void save_scores(const Assessment& scores) = 0;
+
+  // Returns once every save so far is stored or reported unsaved. A store that saves at once
+  // has nothing to do.
+  virtual void flush() {}
+};
+
+// Flushes a store (if any) when it goes out of scope, normally or by an exception.
+class StoreFlush {
+ public:
+  explicit StoreFlush(StepStore* store) : store_(store) {}
+  ~StoreFlush() {
+    try {
+      if (store_) store_->flush();
+    } catch (...) {  // a failed save is the store's to report; nothing to add while unwinding
+    }
+  }
+  StoreFlush(const StoreFlush&) = delete;
+  StoreFlush& operator=(const StoreFlush&) = delete;
+
+ private:
+  StepStore* store_;
 };
 
 }  // namespace unfurl

@@ -81,6 +81,13 @@ class H5Writer {
     write(dataset, std::span<const T>(values), dims, options);
   }
 
+  // Declares a dataset whose bytes the caller puts into the file itself, after close(), at the
+  // returned byte offset: product(dims) * sizeof(T) bytes, as stored (little-endian). The
+  // storage is contiguous, allocated now and never filled, so the file holds a hole there
+  // until then. A dataset of no elements has no storage: returns 0, nothing to put.
+  template <class T>
+  std::uint64_t reserve(const std::string& dataset, const std::vector<std::size_t>& dims);
+
   void create_group(const std::string& group);  // parents too; an existing group is fine
 
   // Attributes on an existing group or dataset; an attribute of the same name is replaced.

@@ -1,4 +1,5 @@
 #include <algorithm>
+#include <bit>
 #include <cerrno>
 #include <cstring>
 #include <limits>
@@ -122,6 +123,38 @@ template void H5Writer::write<std::int64_t>(const std::string&, std::span<const 
                                             const std::vector<std::size_t>&, H5WriteOptions);
 template void H5Writer::write<std::uint32_t>(const std::string&, std::span<const std::uint32_t>,
                                              const std::vector<std::size_t>&, H5WriteOptions);
+
+template <class T>
+std::uint64_t H5Writer::reserve(const std::string& dataset, const std::vector<std::size_t>& dims) {
+  static_assert(std::endian::native == std::endian::little,
+                "the caller's bytes are stored as they are: little-endian, as H5Type::file()");
+  if (!file_) throw InternalError(where(dataset) + ": file already closed");
+  std::size_t elements = 1;
+  for (std::size_t d : dims) elements *= d;
+  Hid space = make_space(dims);
+  Hid dcpl(H5Pcreate(H5P_DATASET_CREATE));
+  if (!space || !dcpl || H5Pset_layout(dcpl.get(), H5D_CONTIGUOUS) < 0 ||
+      H5Pset_alloc_time(dcpl.get(), H5D_ALLOC_TIME_EARLY) < 0 ||
+      H5Pset_fill_time(dcpl.get(), H5D_FILL_TIME_NEVER) < 0)
+    throw IoError(where(dataset) + ": cannot describe dataset");
+  Hid lcpl = link_properties();
+  Hid set(H5Dcreate2(file_.get(), dataset.c_str(), detail::H5Type<T>::file(), space.get(),
+                     lcpl.get(), dcpl.get(), H5P_DEFAULT));
+  if (!set) throw IoError(where(dataset) + ": cannot create dataset");
+  if (elements == 0) return 0;
+  const haddr_t at = H5Dget_offset(set.get());
+  if (at == HADDR_UNDEF) throw IoError(where(dataset) + ": no storage was allocated");
+  return static_cast<std::uint64_t>(at);
+}
+
+template std::uint64_t H5Writer::reserve<float>(const std::string&,
+                                                const std::vector<std::size_t>&);
+template std::uint64_t H5Writer::reserve<double>(const std::string&,
+                                                 const std::vector<std::size_t>&);
+template std::uint64_t H5Writer::reserve<std::int64_t>(const std::string&,
+                                                       const std::vector<std::size_t>&);
+template std::uint64_t H5Writer::reserve<std::uint32_t>(const std::string&,
+                                                        const std::vector<std::size_t>&);
 
 void H5Writer::create_group(const std::string& group) {
   if (group == "/") return;

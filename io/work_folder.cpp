@@ -11,6 +11,9 @@
 #include <nlohmann/json.hpp>
 
 #include "engine/error.hpp"
+#include "io/detail/checksum.hpp"
+#include "io/detail/piece_names.hpp"
+#include "io/detail/piece_writer.hpp"
 #include "io/detail/temp_names.hpp"
 #include "io/hdf5_file.hpp"
 
@@ -73,66 +76,10 @@ namespace {
 namespace fs = std::filesystem;
 using json = nlohmann::json;
 
-constexpr std::uint64_t kGolden = 0x9E3779B97F4A7C15ull;
-constexpr std::uint64_t kOdd = 0xD6E8FEB86659FD93ull;
+using detail::hex16;
 
-// Streaming form of checksum64: every update but the last passes a multiple of 32 bytes.
-class Checksum {
- public:
-  void update(std::span<const std::byte> bytes) {
-    std::size_t i = 0;
-    for (; i + 32 <= bytes.size(); i += 32)
-      for (int lane = 0; lane < 4; ++lane) mix(lane, word(bytes.data() + i + 8 * lane));
-    int lane = 0;
-    for (; i + 8 <= bytes.size(); i += 8) mix(lane++, word(bytes.data() + i));
-    if (i < bytes.size()) {
-      std::uint64_t last = 0;
-      std::memcpy(&last, bytes.data() + i, bytes.size() - i);
-      mix(lane, last ^ 0xFF);
-    }
-    length_ += bytes.size();
-  }
-  std::uint64_t value() const {
-    std::uint64_t h = length_ * kGolden;
-    for (int lane = 0; lane < 4; ++lane) h = std::rotl(h ^ lanes_[lane], 23) * kOdd;
-    // Final mix: splitmix64's finaliser (Steele, Lea and Flood, OOPSLA 2014).
-    h ^= h >> 30;
-    h *= 0xBF58476D1CE4E5B9ull;
-    h ^= h >> 27;
-    h *= 0x94D049BB133111EBull;
-    return h ^ (h >> 31);
-  }
-
- private:
-  static std::uint64_t word(const std::byte* p) {
-    std::uint64_t w;
-    std::memcpy(&w, p, 8);
-    return w;
-  }
-  void mix(int lane, std::uint64_t w) {
-    lanes_[lane] = std::rotl(lanes_[lane] + w * kOdd, 31) * kGolden;
-  }
-  std::uint64_t lanes_[4] = {1, 2, 3, 4};
-  std::uint64_t length_ = 0;
-};
-
-std::string hex16(std::uint64_t v) {
-  char text[17];
-  std::snprintf(text, sizeof text, "%016llx", static_cast<unsigned long long>(v));
-  return text;
-}
-
-// "STEP.CHECKSUM.h5" -> STEP and CHECKSUM, or false for any other name.
 bool split_name(const std::string& name, std::string& step, std::string& sum) {
-  if (name.size() < 21 || name.compare(name.size() - 3, 3, ".h5") != 0) return false;
-  const std::size_t dot = name.size() - 20;
-  if (name[dot] != '.') return false;
-  sum = name.substr(dot + 1, 16);
-  if (!std::all_of(sum.begin(), sum.end(),
-                   [](char c) { return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'f'); }))
-    return false;
-  step = name.substr(0, dot);
-  return true;
+  return detail::split_piece_name(name, step, sum);
 }
 
 std::string rows_step(std::size_t batch, const char* kind = "rows") {
@@ -158,10 +105,21 @@ void read_rows(const H5Reader& in, DistanceRows& rows, std::size_t first, std::s
   in.read_into<float>("/values", std::span<float>(rows.row(first), count * rows.cols));
 }
 
+using Lending = std::vector<detail::LentBytes>;
+
+// A dataset whose bytes the writer thread takes from `values` (which must stay unchanged until
+// the folder is flushed) instead of HDF5 copying them now.
+template <class T>
+void lend(H5Writer& out, Lending& lent, const std::string& dataset, std::span<const T> values,
+          const std::vector<std::size_t>& dims) {
+  const std::uint64_t at = out.reserve<T>(dataset, dims);
+  if (!values.empty()) lent.push_back({at, std::as_bytes(values)});
+}
+
 }  // namespace
 
 std::uint64_t checksum64(std::span<const std::byte> bytes) {
-  Checksum c;
+  detail::Checksum c;
   c.update(bytes);
   return c.value();
 }
@@ -170,7 +128,7 @@ std::uint64_t file_checksum(const fs::path& file) {
   std::ifstream in(file, std::ios::binary);
   if (!in) throw IoError(file.string() + ": cannot open to check it");
   std::vector<std::byte> block(std::size_t{1} << 20);  // a multiple of 32 bytes
-  Checksum c;
+  detail::Checksum c;
   while (in) {
     in.read(reinterpret_cast<char*>(block.data()), static_cast<std::streamsize>(block.size()));
     c.update(std::span(block).first(static_cast<std::size_t>(in.gcount())));
@@ -207,7 +165,11 @@ std::string content_fingerprint(const fs::path& file, bool full) {
 }
 
 WorkFolder::WorkFolder(fs::path folder, WorkKeys keys, PieceNotice notice, StopToken stop)
-    : folder_(std::move(folder)), keys_(std::move(keys)), notice_(std::move(notice)), stop_(stop) {
+    : folder_(std::move(folder)),
+      keys_(std::move(keys)),
+      notice_(std::move(notice)),
+      stop_(stop),
+      writer_(std::make_unique<detail::PieceWriter>()) {
   std::error_code ec;
   existed_ = fs::exists(folder_, ec);
   if (existed_ && !fs::is_directory(folder_, ec))
@@ -221,46 +183,69 @@ void WorkFolder::damaged(const std::string& step, const fs::path& file, const st
   fs::remove(file, ec);
 }
 
+WorkFolder::~WorkFolder() {
+  try {
+    flush();
+  } catch (...) {  // a notice that threw: nothing left to tell it to
+  }
+}
+
+void WorkFolder::report(const std::vector<detail::PieceOutcome>& outcomes) {
+  for (const detail::PieceOutcome& o : outcomes) {
+    if (o.kind == detail::PieceOutcome::Kind::saved) {
+      ++saved_;
+      if (notice_) notice_(PieceEvent::saved, o.step, "");
+    } else if (o.kind == detail::PieceOutcome::Kind::unsaved) {
+      // The folder is a convenience: a full disk or a lost folder costs the resume, not the run.
+      unsaved_ = true;
+      if (notice_) notice_(PieceEvent::unsaved, o.step, o.error);
+    }
+  }
+}
+
+void WorkFolder::flush() {
+  const std::vector<detail::PieceOutcome> done = writer_->drain();
+  const std::lock_guard<std::mutex> lock(mutex_);
+  report(done);
+}
+
 void WorkFolder::save(const std::string& step, const std::string& key,
                       const std::function<void(H5Writer&)>& fill) {
+  save_lending(step, key, [&](H5Writer& out, Lending&) { fill(out); });
+}
+
+void WorkFolder::save_lending(const std::string& step, const std::string& key,
+                              const std::function<void(H5Writer&, Lending&)>& fill) {
+  const std::lock_guard<std::mutex> lock(mutex_);
+  report(writer_->finished());
   if (unsaved_) return;
   std::error_code made;
   fs::create_directories(folder_, made);  // created with the first piece, not before
   const fs::path temp = detail::temp_name_for(folder_ / (step + ".h5"));
   try {
+    detail::PieceJob job{folder_, step, temp, {}};
     {
       H5Writer out(temp);
-      fill(out);
+      fill(out, job.lent);
       out.set_string_attribute("/", "key", key);
       out.close();
     }
-    const fs::path target = folder_ / (step + "." + hex16(file_checksum(temp)) + ".h5");
-    fs::rename(temp, target);
-    std::error_code ec;
-    for (const auto& entry : fs::directory_iterator(folder_, ec)) {
-      std::string s, sum;
-      if (entry.path() != target && split_name(entry.path().filename().string(), s, sum) &&
-          s == step)
-        fs::remove(entry.path(), ec);
-    }
+    writer_->submit(std::move(job));
   } catch (const InterruptedError&) {
     std::error_code ec;
     fs::remove(temp, ec);
     throw;
   } catch (const std::exception& e) {
-    // The folder is a convenience: a full disk or a lost folder costs the resume, not the run.
     std::error_code ec;
     fs::remove(temp, ec);
     unsaved_ = true;
     if (notice_) notice_(PieceEvent::unsaved, step, e.what());
-    return;
   }
-  ++saved_;
-  if (notice_) notice_(PieceEvent::saved, step, "");
 }
 
 bool WorkFolder::take(const std::string& step, const std::string& key,
                       const std::function<void(const H5Reader&)>& read) {
+  const std::lock_guard<std::mutex> lock(mutex_);
   std::error_code ec;
   std::vector<fs::path> candidates;
   for (const auto& entry : fs::directory_iterator(folder_, ec)) {
@@ -322,12 +307,12 @@ std::optional<NodeGraph> WorkFolder::load_graph() {
 }
 
 void WorkFolder::save_graph(const NodeGraph& g) {
-  save("graph", keys_.graph, [&](H5Writer& out) {
-    out.write("/offsets", g.graph.offsets, {g.graph.offsets.size()});
-    out.write("/targets", g.graph.targets, {g.graph.targets.size()});
-    out.write("/lengths", g.graph.lengths, {g.graph.lengths.size()});
-    out.write("/node_of_point", g.node_of_point.values(), {g.node_of_point.size()});
-    out.write("/point_of_node", g.point_of_node.values(), {g.point_of_node.size()});
+  save_lending("graph", keys_.graph, [&](H5Writer& out, Lending& lent) {
+    lend(out, lent, "/offsets", std::span(g.graph.offsets), {g.graph.offsets.size()});
+    lend(out, lent, "/targets", std::span(g.graph.targets), {g.graph.targets.size()});
+    lend(out, lent, "/lengths", std::span(g.graph.lengths), {g.graph.lengths.size()});
+    lend(out, lent, "/node_of_point", g.node_of_point.values(), {g.node_of_point.size()});
+    lend(out, lent, "/point_of_node", g.point_of_node.values(), {g.point_of_node.size()});
     json s = {{"graph", g.summary}};
     if (g.dimension) s["dimension"] = *g.dimension;
     out.set_string_attribute("/", "summary", s.dump());
@@ -365,9 +350,9 @@ bool WorkFolder::load_rows(std::size_t batch, DistanceRows& rows, std::size_t fi
 
 void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::size_t first,
                            std::size_t count) {
-  save(rows_step(batch), keys_.landmarks, [&](H5Writer& out) {
-    out.write("/values", std::span<const float>(rows.row(first), count * rows.cols),
-              {count, rows.cols});
+  save_lending(rows_step(batch), keys_.landmarks, [&](H5Writer& out, Lending& lent) {
+    lend(out, lent, "/values", std::span<const float>(rows.row(first), count * rows.cols),
+         {count, rows.cols});
     out.write("/sources", std::span<const NodeId>(rows.sources.data() + first, count), {count});
     out.set_int_attribute("/", "first", static_cast<std::int64_t>(first));
   });
@@ -468,6 +453,7 @@ void WorkFolder::save_scores(const Assessment& scores) {
 }
 
 void WorkFolder::remove() {
+  flush();
   std::error_code ec;
   std::vector<fs::path> pieces;
   if (!fs::is_directory(folder_, ec)) return;

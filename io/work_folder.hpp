@@ -18,6 +18,14 @@
 // reported and recomputed, and the HDF5 library never reads a damaged file. Pieces are not
 // flushed to disk one by one (that would cost the run seconds): the checksum is the guard.
 //
+// Saving runs beside the computation: a save writes the piece's HDF5 structure and small
+// arrays at once, and a writer thread of the folder's own (io/detail/piece_writer.hpp) puts
+// the large arrays in, names the piece by its checksum and renames it, pieces in the order
+// saved. save_graph and save_rows lend their arrays instead of copying them (the caller keeps
+// them unchanged until flush(), as StepStore says); the other saves copy what they need.
+// A failed write is reported as a notice (PieceEvent::unsaved) at the next call and ends the
+// saving for the run; the run goes on.
+//
 // Every piece carries its step's key (text naming the input's identity and every parameter
 // the step depends on, made by apps/); a piece with another key belongs to other parameters
 // and is recomputed, and saving a piece removes the step's pieces of other keys.
@@ -27,8 +35,11 @@
 #include <cstdint>
 #include <filesystem>
 #include <functional>
+#include <memory>
+#include <mutex>
 #include <span>
 #include <string>
+#include <vector>
 
 #include "engine/step_store.hpp"
 
@@ -36,6 +47,11 @@ namespace unfurl::io {
 
 class H5Reader;  // io/hdf5_file.hpp
 class H5Writer;
+namespace detail {
+struct LentBytes;  // io/detail/piece_writer.hpp
+struct PieceOutcome;
+class PieceWriter;
+}  // namespace detail
 
 // Text keys of the saved steps. The landmark rows share the landmarks' key (the rows follow
 // from the choice and the graph); a key should contain the keys of the steps before it.
@@ -52,6 +68,9 @@ struct WorkKeys {
 // over because it belongs to other parameters; damaged (checksum or contents) and removed; or
 // not saved (the write failed: no further piece is saved this run, the run goes on).
 enum class PieceEvent { loaded, saved, stale, damaged, unsaved };
+// Called on a thread that calls the folder (never its writer thread), with the folder's lock
+// held: it must not call the folder back. `saved` and `unsaved` come when the writer has
+// finished the piece: at a later call, or at flush().
 using PieceNotice =
     std::function<void(PieceEvent event, const std::string& piece, const std::string& detail)>;
 
@@ -61,6 +80,7 @@ class WorkFolder final : public StepStore {
   // something other than a folder; removes temporary files that ended processes left in it.
   WorkFolder(std::filesystem::path folder, WorkKeys keys, PieceNotice notice = {},
              StopToken stop = {});
+  ~WorkFolder() override;  // waits for the writer (flush), reporting as flush does
 
   std::optional<NodeGraph> load_graph() override;
   void save_graph(const NodeGraph& graph) override;
@@ -79,12 +99,14 @@ class WorkFolder final : public StepStore {
   void save_residual(const ResidualVarianceCurve& curve) override;
   std::optional<Assessment> load_scores() override;
   void save_scores(const Assessment& scores) override;
+  // Waits until every piece saved so far is on disk or reported unsaved.
+  void flush() override;
 
   const std::filesystem::path& path() const { return folder_; }
   std::size_t pieces_loaded() const { return loaded_; }
-  std::size_t pieces_saved() const { return saved_; }
-  bool existed() const { return existed_; }  // the folder was there before this run
-  // Removes every piece and then the folder itself when nothing else is left in it.
+  std::size_t pieces_saved() const { return saved_; }  // finished so far: flush() first
+  bool existed() const { return existed_; }            // the folder was there before this run
+  // Flushes, removes every piece and then the folder itself when nothing else is left in it.
   void remove();
 
  private:
@@ -94,9 +116,14 @@ class WorkFolder final : public StepStore {
   bool take(const std::string& step, const std::string& key,
             const std::function<void(const H5Reader&)>& read);
   // Writes a piece through `fill` with `key`, names it by its checksum, and removes the step's
-  // other pieces.
+  // other pieces; the writer thread finishes it. save_lending's `fill` may also reserve
+  // datasets and lend their bytes (lend() in the .cpp) instead of writing them.
   void save(const std::string& step, const std::string& key,
             const std::function<void(H5Writer&)>& fill);
+  void save_lending(const std::string& step, const std::string& key,
+                    const std::function<void(H5Writer&, std::vector<detail::LentBytes>&)>& fill);
+  // Counts and reports what the writer finished (lock held).
+  void report(const std::vector<detail::PieceOutcome>& outcomes);
   // A piece holding one text (JSON) attribute, handed to `parse`, which throws when it is
   // bad. False when there is none.
   bool take_text(const std::string& step, const std::string& key,
@@ -111,6 +138,8 @@ class WorkFolder final : public StepStore {
   std::size_t loaded_ = 0, saved_ = 0;
   bool existed_ = false;
   bool unsaved_ = false;  // a save failed: save no more
+  std::mutex mutex_;      // one thread at a time in HDF5 through this folder, and the counts
+  std::unique_ptr<detail::PieceWriter> writer_;
 };
 
 // A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a

@@ -1,12 +1,12 @@
 """End-to-end tests of the work folder of `unfurl embed` (README "Long runs: resuming and
 signals"): a run stopped by SIGTERM during the landmark rows exits 75, prints the command that
 resumes, and leaves whole pieces; that command resumes (and says so); a second stop during the
-resumed run; SIGKILL at three moments; a second SIGINT stopping at once; torn and altered
-pieces found and recomputed with a warning; a kill during the residual variance's source rows
-(made before the landmark rows) and an altered batch of them recomputed with a warning; a kill
-during the scores resumed from the saved map and residual variance without reading the
-landmark rows; the scores taken back; a new score
-k rescoring only; the folder removed after success unless kept.
+resumed run; SIGKILL at three moments, and twice while the landmark choice and its rows overlap;
+a second SIGINT stopping at once; torn and altered pieces found and recomputed with a warning; a
+kill during the residual variance's source rows (made before the landmark rows) and an altered
+batch of them recomputed with a warning; a kill during the scores resumed from the saved map and
+residual variance without reading the landmark rows; the scores taken back; a new score k
+rescoring only; the folder removed after success unless kept.
 
 The reference for every map is an uninterrupted run of the same command with --no-work-dir
 (the engine's own path, landmarks picked beside their rows): the resumed map must hold the
@@ -229,6 +229,29 @@ r = run(args)
 check("after three kills: exit 0", r.returncode == 0, r.stderr)
 check("after three kills: resumed", "resume: taking saved steps" in r.stdout, r.stdout)
 same_map("resumed after three kills", out, ref)
+
+# SIGKILL while the landmark choice and its rows overlap (2 threads: rows are computed beside
+# the choice and saved as their batches complete, the choice as soon as it is made): killed the
+# moment the choice piece appears, then again once a batch has been saved after it. Every
+# piece left must be whole; the rerun must equal the reference.
+out = path("overlap.h5")
+folder = out + ".work"
+args = embed(out, [*fast, "--keep-geodesics"], 2)
+_, _, code, _ = signal_when(start(args), lambda: bool(pieces(folder, "landmarks")),
+                            signal.SIGKILL, "SIGKILL as the landmark choice is saved")
+check("SIGKILL as the choice is saved: killed", code == -signal.SIGKILL, f"exit {code}")
+whole_pieces("SIGKILL as the choice is saved", folder, ref)
+shutil.rmtree(folder)
+_, _, code, _ = signal_when(start(args), lambda: bool(pieces(folder, "rows-")),
+                            signal.SIGKILL, "SIGKILL at the first saved batch")
+check("SIGKILL at the first saved batch: killed", code == -signal.SIGKILL, f"exit {code}")
+check("SIGKILL at the first saved batch: the choice was saved before any batch",
+      bool(pieces(folder, "landmarks")), str(pieces(folder)))
+whole_pieces("SIGKILL at the first saved batch", folder, ref)
+r = run(args)
+check("after the kills in the overlap: exit 0, resumed", r.returncode == 0
+      and "landmarks taken" in r.stdout, r.stdout + r.stderr)
+same_map("resumed after the kills in the overlap", out, ref)
 
 # A second SIGINT stops at once (exit 130 = 128 + SIGINT), leaving whole pieces. The first
 # stop is fast (the next Dijkstra run), so the second must follow closely; two signals

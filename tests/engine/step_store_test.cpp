@@ -112,13 +112,16 @@ TEST_CASE("a run with a step store, stopped and resumed, equals a run without", 
   CHECK_THROWS_AS(embed_points(points, o, StopToken{&store.stop}, &store), InterruptedError);
   CHECK(store.graph.has_value());
   CHECK(store.landmarks.has_value());
-  CHECK(store.batches.size() == 5);
+  // Rows run beside the choice: batches done by then are saved with it, and rows running
+  // when the stop came still finish their batches.
+  const std::size_t saved = store.batches.size();
+  CHECK(saved >= 5);
 
   store.stop = false;
   store.stop_after_batches = 0;
   const EmbedResult resumed = embed_points(points, o, StopToken{&store.stop}, &store);
-  CHECK(store.loads == 1 + 1 + 5);    // graph, landmarks, the five saved batches
-  CHECK(store.batches.size() == 14);  // 40 rows in batches of ceil(40 / 16) = 3
+  CHECK(store.loads == 1 + 1 + saved);  // graph, landmarks, the saved batches
+  CHECK(store.batches.size() == 14);    // 40 rows in batches of ceil(40 / 16) = 3
   same_result(resumed, plain);
 
   store.loads = 0;

@@ -1,12 +1,16 @@
 #include "io/work_folder.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <catch2/catch.hpp>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <iterator>
+#include <span>
 #include <vector>
 
+#include "engine/embedding.hpp"
 #include "engine/embedding_steps.hpp"
 #include "engine/synthetic.hpp"
 #include "tests/io/temp_folder.hpp"
@@ -59,8 +63,23 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
     w.save_landmarks(choice);
     w.save_rows(0, rows, 0, 4);
     w.save_rows(1, rows, 4, 3);
+    w.flush();  // the writer thread finishes pieces in the background
     CHECK(w.pieces_saved() == 4);
   }
+  // Each name carries checksum64 of the file's bytes as they are on disk (common practice,
+  // no source: a checksum of the whole file in its name).
+  std::size_t named = 0;
+  for (const auto& e : fs::directory_iterator(dir)) {
+    const std::string name = e.path().filename().string();
+    std::ifstream in(e.path(), std::ios::binary);
+    std::vector<char> chars((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+    char sum[17];
+    std::snprintf(sum, sizeof sum, "%016llx",
+                  static_cast<unsigned long long>(io::checksum64(std::as_bytes(std::span(chars)))));
+    CHECK(name.substr(name.size() - 19) == std::string(sum) + ".h5");
+    ++named;
+  }
+  CHECK(named == 4);
   Events ev;
   io::WorkFolder w(
       dir,
@@ -98,6 +117,7 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   CHECK_FALSE(changed.load_landmarks());
   CHECK(other.count(io::PieceEvent::stale) == 1);
   changed.save_landmarks(choice);
+  changed.flush();
   CHECK(fs::exists(only_piece(dir, "landmarks")));
   std::size_t landmark_pieces = 0;
   for (const auto& e : fs::directory_iterator(dir))
@@ -131,6 +151,76 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
 
   again.remove();
   CHECK_FALSE(fs::exists(dir));
+}
+
+TEST_CASE(
+    "a stopped embedding leaves its work folder drained: every finished batch saved, no "
+    "temporary file; the resumed run equals one without a folder",
+    "[work_folder][resume]") {
+  // The reference is the folder-less run (the engine's one-pass path, itself checked against
+  // scikit-learn's Isomap in tests/reference); the Swiss roll is DESIGN.md's.
+  class StopAfterRows final : public StepStore {  // the folder, stopping the run as a signal
+   public:
+    explicit StopAfterRows(io::WorkFolder& f) : f_(f) {}
+    std::atomic<bool> stop{false};
+    std::size_t rows_saved = 0;
+    std::optional<NodeGraph> load_graph() override { return f_.load_graph(); }
+    void save_graph(const NodeGraph& g) override { f_.save_graph(g); }
+    std::optional<LandmarkResult> load_landmarks() override { return f_.load_landmarks(); }
+    void save_landmarks(const LandmarkResult& c) override { f_.save_landmarks(c); }
+    bool load_rows(std::size_t b, DistanceRows& r, std::size_t first, std::size_t n) override {
+      return f_.load_rows(b, r, first, n);
+    }
+    void save_rows(std::size_t b, const DistanceRows& r, std::size_t first,
+                   std::size_t n) override {
+      f_.save_rows(b, r, first, n);
+      if (++rows_saved == 3) stop = true;
+    }
+    std::optional<MapStep> load_map() override { return f_.load_map(); }
+    void save_map(const MapStep& m) override { f_.save_map(m); }
+    std::optional<ResidualVarianceCurve> load_residual() override { return f_.load_residual(); }
+    void save_residual(const ResidualVarianceCurve& c) override { f_.save_residual(c); }
+    std::optional<Assessment> load_scores() override { return f_.load_scores(); }
+    void save_scores(const Assessment& a) override { f_.save_scores(a); }
+    void flush() override { f_.flush(); }
+
+   private:
+    io::WorkFolder& f_;
+  };
+  test::TempFolder tmp;
+  const fs::path dir = tmp.path() / "stop.work";
+  const io::WorkKeys keys{"graph", "landmarks", "map", "residual", "scores"};
+  const PointSet points = swiss_roll(3000, 4).points;
+  EmbedOptions o;
+  o.graph.neighbourhood = NearestK{8};
+  o.landmarks.count = LandmarkCount{40};
+  o.keep_geodesics = true;
+  const EmbedResult plain = embed_points(points, o);
+  {
+    io::WorkFolder folder(dir, keys);
+    StopAfterRows store(folder);
+    CHECK_THROWS_AS(embed_points(points, o, StopToken{&store.stop}, &store), InterruptedError);
+    // No flush here: the engine drained the writer before the exception left it.
+    std::size_t batches = 0, temporaries = 0, landmarks = 0;
+    for (const auto& e : fs::directory_iterator(dir)) {
+      const std::string name = e.path().filename().string();
+      batches += name.rfind("rows-", 0) == 0;
+      landmarks += name.rfind("landmarks.", 0) == 0;
+      temporaries += name.find(".part-") != std::string::npos;
+    }
+    CHECK(batches == store.rows_saved);
+    CHECK(batches >= 3);
+    CHECK(landmarks == 1);
+    CHECK(temporaries == 0);
+    CHECK(folder.pieces_saved() == 2 + batches);  // graph, landmarks, batches
+  }
+  Events ev;
+  io::WorkFolder again(dir, keys, ev.notice());
+  const EmbedResult resumed = embed_points(points, o, {}, &again);
+  CHECK(ev.count(io::PieceEvent::loaded) >= 2 + 3);
+  CHECK(resumed.coords.values == plain.coords.values);
+  CHECK(resumed.geodesic.values == plain.geodesic.values);
+  CHECK(resumed.landmark_rows == plain.landmark_rows);
 }
 
 TEST_CASE("checksum64 and the content fingerprint change with any byte", "[work_folder]") {
