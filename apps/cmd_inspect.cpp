@@ -116,12 +116,25 @@ nlohmann::json points_json(const io::PointReadResult& r,
           {"columns", columns}};
 }
 
+// The non-Euclidean ratio as the map's /spectrum records it: "not computed" (a run without
+// scores) or a map from before the attribute existed say so, never 0.
+std::string ratio_text(const nlohmann::json& spectrum) {
+  const std::string method = spectrum.value("mass_method", std::string("not recorded"));
+  if (!spectrum.contains("negative_ratio") || !spectrum["negative_ratio"].is_number())
+    return method;
+  const double ratio = spectrum["negative_ratio"].get<double>();
+  if (method != "estimated") return fmt::format("{:.4f} ({})", ratio, method);
+  return fmt::format("{:.4f} +- {:.4f} (estimated)", ratio,
+                     spectrum.value("negative_ratio_standard_error", 0.0));
+}
+
 // The map's record: what it holds and the attributes that say how and from what it was made.
 nlohmann::json map_record(const io::MapContents& m) {
   return {{"rows", m.coords.rows},
           {"dims", m.coords.cols},
           {"landmarks", m.landmark_rows.size()},
           {"eigenvalues", m.spectrum.size()},
+          {"non_euclidean_ratio", ratio_text(m.spectrum_attributes)},
           {"landmark_geodesics", m.landmark_geodesic.has_value()},
           {"extras", m.extras.size()},
           {"attributes", m.attributes}};
@@ -140,6 +153,7 @@ void print_map_record(const GlobalOptions& g, const io::MapContents& m) {
   say(g, fmt::format("map: {} rows x {} dims, {} landmarks, {} eigenvalues{}, {} further datasets",
                      m.coords.rows, m.coords.cols, m.landmark_rows.size(), m.spectrum.size(),
                      m.landmark_geodesic ? ", landmark geodesics kept" : "", m.extras.size()));
+  say(g, "  non-Euclidean ratio: " + ratio_text(m.spectrum_attributes));
   for (const char* key :
        {"command", "program_version", "creation_time", "seed", "seconds", "input", "parameters"})
     if (m.attributes.contains(key))

@@ -76,6 +76,8 @@ EmbedOptions job_options(const GlobalOptions& g, const EmbedArgs& a, std::size_t
   options.graph = to_graph_options(a.graph);
   options.components = to_component_options(a.graph);
   apply_map_options(a.map, g.seed, options);
+  // The whole spectrum's masses (the non-Euclidean ratio) are a score.
+  options.spectral.mass = !a.no_score;
   adapt_graph_k(a.graph, n, options.graph);
   return options;
 }

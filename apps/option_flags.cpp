@@ -39,6 +39,7 @@ constexpr std::array kTable{
     FieldFlag{"SpectralOptions.krylov", "", ""},
     FieldFlag{"SpectralOptions.max_iterations", "", ""},
     FieldFlag{"SpectralOptions.tolerance", "", ""},
+    FieldFlag{"SpectralOptions.mass", "", "--no-score"},
     FieldFlag{"SpectralOptions.probes", "", ""},
     FieldFlag{"SpectralOptions.quadrature", "", ""},
     FieldFlag{"LinearOptions.dims", "", "--dims"},

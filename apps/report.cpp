@@ -43,14 +43,20 @@ json spectrum_json(const EmbedResult& r) {
   json j = {{"which", s.spectrum_complete ? "all" : "largest"},
             {"count", largest_of(r).size()},
             {"order", s.order},
-            {"mass_method", m.exact ? "exact" : "estimated"},
-            {"positive_mass", m.positive},
-            {"negative_mass", m.negative},
             {"trace", m.trace},
-            {"negative_ratio", m.ratio()},
-            {"negative_ratio_standard_error", m.ratio_error()},
             {"noise_floor", r.spectral.noise_floor},
             {"noise_axes", r.spectral.noise_axes}};
+  if (!s.spectrum_complete) j["smallest_computed"] = smallest_of(r);
+  if (!m.computed) {
+    // No masses and no ratio rather than zeros a reader could take for figures.
+    j["mass_method"] = "not computed";
+    return j;
+  }
+  j["mass_method"] = m.exact ? "exact" : "estimated";
+  j["positive_mass"] = m.positive;
+  j["negative_mass"] = m.negative;
+  j["negative_ratio"] = m.ratio();
+  j["negative_ratio_standard_error"] = m.ratio_error();
   if (!m.exact) {
     j["mass_standard_error"] = m.standard_error;
     j["mass_source"] =
@@ -59,7 +65,6 @@ json spectrum_json(const EmbedResult& r) {
         "probes";
     j["probes"] = m.probes;
     j["quadrature_steps"] = m.steps;
-    j["smallest_computed"] = smallest_of(r);
   }
   return j;
 }
@@ -245,11 +250,12 @@ void print_embedding(const GlobalOptions& g, const EmbedResult& r) {
     eig += (i ? ", " : "") + fmt::format("{:.4g}", largest[i]);
   const SpectrumMass& m = r.spectrum_mass;
   const std::string ratio =
-      m.exact ? fmt::format("{:.4f} (exact, whole spectrum)", m.ratio())
-              : fmt::format(
-                    "{:.4f} +- {:.4f} (estimated over the whole spectrum by stochastic "
-                    "Lanczos quadrature, {} probes; +- one standard error)",
-                    m.ratio(), m.ratio_error(), m.probes);
+      !m.computed ? std::string("not computed (--no-score)")
+      : m.exact   ? fmt::format("{:.4f} (exact, whole spectrum)", m.ratio())
+                  : fmt::format(
+                        "{:.4f} +- {:.4f} (estimated over the whole spectrum by stochastic "
+                          "Lanczos quadrature, {} probes; +- one standard error)",
+                        m.ratio(), m.ratio_error(), m.probes);
   say(g, fmt::format("spectral: {} solver, largest eigenvalues {}{} ({} of {}); non-Euclidean "
                      "ratio {} ({:.2f} s)",
                      r.spectral.solver, eig, largest.size() > 6 ? ", ..." : "",

@@ -90,9 +90,10 @@ io::WorkKeys work_keys(const GlobalOptions& g, const EmbedArgs& a, const json& i
                     {"landmarks", landmark_text(a.map.landmarks)},
                     {"pick", a.map.pick},
                     {"seed", g.seed}};
-  // The map adds nothing the landmarks do not fix (dims is there); the residual variance its
-  // seed (ResidualOptions' other fields are not options); the scores what assess_map reads.
-  json map = {{"landmarks", landmarks}, {"step", "map"}};
+  // The map adds to what the landmarks fix (dims is there) whether the whole spectrum's masses
+  // are estimated (a score); the residual variance its seed (ResidualOptions' other fields are
+  // not options); the scores what assess_map reads.
+  json map = {{"landmarks", landmarks}, {"step", "map"}, {"spectrum_mass", !a.no_score}};
   json residual = {{"map", map}, {"residual_seed", g.seed}};
   json scores = {
       {"residual", residual},     {"score_k", a.score.ks},    {"score_k_given", a.score.ks_given},

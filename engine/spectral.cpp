@@ -45,8 +45,9 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
+// Without the mass estimate the deflation pairs serve nothing: dims pairs at each end.
 detail::IterativeSettings iterative_settings(const SpectralOptions& o) {
-  return {o.krylov, o.max_iterations, o.tolerance, o.negative_end, o.deflate};
+  return {o.krylov, o.max_iterations, o.tolerance, o.negative_end, o.mass ? o.deflate : o.dims};
 }
 
 }  // namespace
@@ -69,6 +70,12 @@ namespace {
 template <class Op>
 SpectrumMass estimated_mass(Op& op, double trace, const detail::EigenPairs& pairs,
                             const SpectralOptions& o, SpectralSummary& s) {
+  if (!o.mass) {
+    SpectrumMass unknown;
+    unknown.computed = false;
+    unknown.trace = trace;
+    return unknown;
+  }
   const detail::AbsoluteTrace abs = detail::absolute_trace(op, pairs.computed, pairs.spectrum,
                                                            o.probes, o.quadrature, o.probe_seed);
   s.operations_mass = abs.operations;
@@ -389,7 +396,7 @@ std::size_t spectral_solver_bytes(std::size_t n, const SpectralOptions& options)
   // The sizes iterative_top and absolute_trace allocate (engine/detail/eigen_top.hpp,
   // engine/detail/absolute_trace.hpp).
   const std::size_t m = options.dims;
-  const std::size_t end = std::max(m, options.deflate);
+  const std::size_t end = std::max(m, options.mass ? options.deflate : m);
   const bool both = options.negative_end && 2 * end < n;
   const std::size_t wanted = both ? 2 * end : m;
   const std::size_t ncv = detail::krylov_size(n, m, options.krylov);
@@ -400,6 +407,7 @@ std::size_t spectral_solver_bytes(std::size_t n, const SpectralOptions& options)
   const std::size_t steps = std::min(options.quadrature, n > wanted ? n - wanted : 0);
   const std::size_t mass = (p * steps) * n * sizeof(float) +  // the probes' Lanczos vectors
                            (3 * p + wanted + m) * n * sizeof(double);  // z, current, w; pairs
+  if (!options.mass) return lanczos + detail::CentredSquaredOperator::work_bytes(n, 1);
   return std::max(lanczos, mass) + detail::CentredSquaredOperator::work_bytes(n, p);
 }
 

@@ -36,7 +36,10 @@ struct SpectralOptions {
   std::size_t max_iterations = 1000;  // Lanczos restarts before giving up (a warning, not an error)
   double tolerance = 1e-10;           // Lanczos relative tolerance on the eigenvalues
   bool negative_end = true;           // Lanczos: also find the most negative eigenvalues
-  // Lanczos only: the whole spectrum's masses are estimated (see SpectrumMass).
+  // Lanczos only: the whole spectrum's masses are estimated (see SpectrumMass), a score.
+  // Off: SpectrumMass::computed is false, the solver finds only the pairs the map needs (dims
+  // at each end, not `deflate`) and the probes never run; the dense solver has the masses free.
+  bool mass = true;
   std::size_t deflate = 8;       // eigenpairs found at each end (at least dims), deflated
   std::size_t probes = 16;       // random sign vectors of the trace(|B|) estimate
   std::size_t quadrature = 50;   // Lanczos steps per probe
@@ -56,6 +59,7 @@ struct SpectralOptions {
 //   negative = (trace|B| - trace B) / 2,  positive = (trace|B| + trace B) / 2.
 // Neither is allowed below the sum of the computed eigenvalues of its sign.
 struct SpectrumMass {
+  bool computed = true;  // false: not computed (SpectralOptions.mass off); only trace is known
   bool exact = false;
   double positive = 0.0;
   double negative = 0.0;
@@ -65,6 +69,7 @@ struct SpectrumMass {
   std::size_t probes = 0;       // estimated: random sign vectors used
   std::size_t steps = 0;        // estimated: Lanczos quadrature steps per probe
 
+  // 0 when not computed: read `computed` before showing it.
   double ratio() const { return positive > 0.0 ? negative / positive : 0.0; }
   // Standard error of ratio() propagated from that of trace(|B|):
   // d(negative / positive) / d trace|B| = trace B / (2 positive^2).
@@ -126,10 +131,10 @@ SpectralResult exact_mds(const DistanceRows& all_rows, const SpectralOptions& op
 // Bytes the eigen solver holds besides the rows for B of this order (L, or N in exact mode).
 // Dense (order <= dense_limit): B, its eigenvectors and Eigen's workspace, 3 order^2 doubles.
 // Lanczos: the larger of Spectra's phase (a basis of max(krylov, 2 w + 1) vectors plus the
-// residual, w = 2 max(dims, deflate) pairs wanted at both ends, the Ritz vectors three
-// times) and the mass estimate's phase (probes x quadrature float32 vectors, three blocks of
-// probes doubles, the w computed pairs), plus the operator's buffers
-// (CentredSquaredOperator::work_bytes for `probes` vectors).
+// residual, w = 2 max(dims, deflate) pairs wanted at both ends (2 dims without the mass), the
+// Ritz vectors three times) and the mass estimate's phase (probes x quadrature float32
+// vectors, three blocks of probes doubles, the w computed pairs), plus the operator's buffers
+// (CentredSquaredOperator::work_bytes for `probes` vectors, one without the mass).
 std::size_t spectral_solver_bytes(std::size_t order, const SpectralOptions& options = {});
 
 // Peak bytes of exact mode on n nodes: the N x N float32 rows, spectral_solver_bytes, the

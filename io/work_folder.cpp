@@ -29,8 +29,8 @@ NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(IntrinsicDimension, estimate, k, averaging, p
                                    points_skipped, warnings)
 NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(LandmarkSummary, landmarks, nodes, pick, coverage_radius,
                                    choice_visits, seconds, threads, warnings)
-NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(SpectrumMass, exact, positive, negative, trace, standard_error,
-                                   probes, steps)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(SpectrumMass, computed, exact, positive, negative, trace,
+                                   standard_error, probes, steps)
 NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(SpectralSummary, solver, converged, spectrum_complete, largest,
                                    order, points, iterations, operations, positive, negative,
                                    operations_mass, noise_floor, noise_axes, seconds, threads,

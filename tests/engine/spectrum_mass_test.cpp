@@ -5,6 +5,7 @@
 #include <Spectra/MatOp/DenseSymMatProd.h>
 
 #include <Eigen/Dense>
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <numeric>
@@ -159,6 +160,40 @@ TEST_CASE("the non-Euclidean ratio and masses come from the whole spectrum, dens
   for (double v : lanczos.spectrum)
     if (v < 0) listed -= v;
   CHECK(listed < 0.8 * want.negative);
+}
+
+TEST_CASE("without the mass estimate the Lanczos path computes no masses and the same map",
+          "[spectral]") {
+  // Reference: every eigenvalue of B from Eigen's dense solver (as above).
+  const auto rows = roll_geodesics(500, 21);
+  const Whole want = whole_spectrum(rows);
+  unfurl::SpectralOptions o;
+  o.dense_limit = 100;
+  const auto with = unfurl::exact_mds(rows, o);
+  o.mass = false;
+  const auto without = unfurl::exact_mds(rows, o);
+  CHECK(with.mass.computed);
+  REQUIRE(!without.mass.computed);
+  CHECK(without.summary.operations_mass == 0);
+  CHECK(without.summary.operations < with.summary.operations);  // dims pairs, not deflate
+  CHECK(without.mass.positive == 0);  // nothing filled in that could pass for a figure
+  CHECK(without.mass.trace == Approx(want.positive - want.negative).epsilon(1e-9));
+  const Eigen::Index n = want.values.size();
+  for (Eigen::Index k = 0; k < 2; ++k)  // ascending in Eigen: the top pairs are last
+    CHECK(without.spectrum[static_cast<std::size_t>(k)] ==
+          Approx(want.values[n - 1 - k]).epsilon(1e-9));
+  REQUIRE(without.coords.values.size() == with.coords.values.size());
+  double largest = 0, moved = 0;
+  for (std::size_t i = 0; i < with.coords.values.size(); ++i) {
+    largest = std::max(largest, double(std::abs(with.coords.values[i])));
+    moved = std::max(moved, double(std::abs(with.coords.values[i] - without.coords.values[i])));
+  }
+  CHECK(moved <= 1e-5 * largest);
+  // The dense solver has the whole spectrum anyway: its masses stay exact.
+  o.dense_limit = 1000;
+  const auto dense = unfurl::exact_mds(rows, o);
+  CHECK(dense.mass.computed);
+  CHECK(dense.mass.exact);
 }
 
 TEST_CASE("the estimated masses do not depend on the thread count", "[spectral]") {

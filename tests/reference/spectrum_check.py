@@ -128,7 +128,38 @@ with tempfile.TemporaryDirectory() as work:
         f.create_dataset("points", data=roll)
     d1600 = geodesics(roll)
     # Exact mode above the dense limit: the Lanczos solver and an estimated whole spectrum.
-    spectrum_case("exact-1600", roll, d1600, ["--landmarks", "all"])
+    _, scored_path = spectrum_case("exact-1600", roll, d1600, ["--landmarks", "all"])
+    # --no-score skips the estimate (a score): the map and report say "not computed" instead
+    # of a ratio, and the map is the scored run's (eigenvalues vs numpy eigvalsh).
+    plain_path = os.path.join(work, "exact-1600-plain.h5")
+    plain_json = os.path.join(work, "exact-1600-plain.json")
+    out = unfurl("embed", points_file, "-o", plain_path, "--k", str(K), "--dims", "2",
+                 "--landmarks", "all", "--no-score", "--json", plain_json)
+    with open(plain_json) as f:
+        spectral = json.load(f)["embedding"]["spectral"]
+    with h5py.File(plain_path, "r") as f:
+        attrs = dict(f["/spectrum"].attrs)
+        stored = f["/spectrum"][()]
+        plain_coords = f["/coords"][()]
+    with h5py.File(scored_path, "r") as f:
+        scored_coords = f["/coords"][()]
+    check("exact-1600 --no-score: report and map say the mass is not computed, give no ratio",
+          spectral["mass_method"] == "not computed" and "negative_ratio" not in spectral and
+          attrs.get("mass_method") == "not computed" and "negative_ratio" not in attrs and
+          "positive_mass" not in attrs and spectral["operations"]["mass"] == 0,
+          f"{spectral['mass_method']}, attributes {sorted(attrs)}")
+    check("exact-1600 --no-score: the summary line says not computed",
+          "non-Euclidean ratio not computed" in out.stdout,
+          " | ".join(out.stdout.strip().splitlines()[-2:]))
+    inspected = unfurl("inspect", plain_path)
+    check("exact-1600 --no-score: inspect says not computed",
+          "non-Euclidean ratio: not computed" in inspected.stdout, "")
+    values, _, _ = whole_spectrum(d1600)
+    check("exact-1600 --no-score: top eigenvalues vs numpy eigvalsh",
+          np.allclose(stored[:2], values[:2], rtol=1e-4), f"{stored[:2]} vs {values[:2]}")
+    moved = np.abs(plain_coords.astype(np.float64) - scored_coords).max()
+    check("exact-1600 --no-score: the map equals the scored run's (float32 rounding)",
+          moved <= 1e-5 * np.abs(scored_coords).max(), f"largest move {moved:.3g}")
 
     points_file = os.path.join(work, "roll2000.h5")
     roll = swiss_roll(2000, 12)
