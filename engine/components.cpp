@@ -1,11 +1,13 @@
 #include "engine/components.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <chrono>
 #include <numeric>
 #include <tuple>
 
 #include "engine/detail/csr.hpp"
+#include "engine/detail/parallel_chunks.hpp"
 #include "engine/error.hpp"
 #include "engine/neighbours.hpp"
 
@@ -187,20 +189,57 @@ void ComponentOptions::validate() const {
 
 ComponentLabels connected_components(const NeighbourGraph& graph) {
   const std::size_t n = graph.nodes();
-  UnionFind uf(n);
-  for (std::size_t v = 0; v < n; ++v)
-    for (auto e = graph.offsets[v]; e < graph.offsets[v + 1]; ++e)
-      uf.unite(v, graph.targets[static_cast<std::size_t>(e)]);
+  // Concurrent union-find: a root is only ever linked below a smaller root (by compare and
+  // exchange), so parents only decrease, every root ends as its component's smallest node
+  // whatever the threads' interleaving, and path halving may run beside the links. Each
+  // undirected edge is stored both ways (graph.hpp), so one direction suffices.
+  std::vector<std::uint32_t> parent(n);
+  detail::parallel_chunks(n, 1 << 16, {}, "components", [&](std::size_t b, std::size_t e) {
+    for (std::size_t v = b; v < e; ++v) parent[v] = static_cast<std::uint32_t>(v);
+  });
+  const auto find = [&](std::uint32_t v) {
+    for (;;) {
+      std::atomic_ref<std::uint32_t> link(parent[v]);
+      const std::uint32_t up = link.load(std::memory_order_relaxed);
+      if (up == v) return v;
+      const std::uint32_t above =
+          std::atomic_ref<std::uint32_t>(parent[up]).load(std::memory_order_relaxed);
+      if (above != up) link.store(above, std::memory_order_relaxed);  // path halving
+      v = above;
+    }
+  };
+  detail::parallel_chunks(n, 1 << 14, {}, "components", [&](std::size_t b, std::size_t e) {
+    for (std::size_t v = b; v < e; ++v)
+      for (auto k = graph.offsets[v]; k < graph.offsets[v + 1]; ++k) {
+        std::uint32_t x = static_cast<std::uint32_t>(v),
+                      y = graph.targets[static_cast<std::size_t>(k)];
+        if (y <= x) continue;
+        for (;;) {
+          x = find(x);
+          y = find(y);
+          if (x == y) break;
+          if (x < y) std::swap(x, y);  // link the larger root below the smaller
+          std::uint32_t expected = x;
+          if (std::atomic_ref<std::uint32_t>(parent[x]).compare_exchange_strong(
+                  expected, y, std::memory_order_relaxed))
+            break;
+        }
+      }
+  });
+  // Roots are the smallest nodes of their components, so in node order a root comes before
+  // its members and components get their numbers by smallest node.
+  detail::parallel_chunks(n, 1 << 16, {}, "components", [&](std::size_t b, std::size_t e) {
+    for (std::size_t v = b; v < e; ++v) parent[v] = find(static_cast<std::uint32_t>(v));
+  });
   ComponentLabels c;
   c.label.resize(n);
-  std::vector<std::uint32_t> of_root(n, UINT32_MAX);
   for (std::size_t v = 0; v < n; ++v) {
-    const std::size_t root = uf.find(v);
-    if (of_root[root] == UINT32_MAX) {
-      of_root[root] = static_cast<std::uint32_t>(c.count++);
+    if (parent[v] == v) {
+      c.label[v] = static_cast<std::uint32_t>(c.count++);
       c.size.push_back(0);
+    } else {
+      c.label[v] = c.label[parent[v]];
     }
-    c.label[v] = of_root[root];
     ++c.size[c.label[v]];
   }
   return c;

@@ -97,10 +97,12 @@ void summarise(const NeighbourGraph& g, GraphSummary& s) {
   for (std::size_t v = 0; v < g.nodes(); ++v) degree[v] = g.degree(v);
   s.isolated_nodes = static_cast<std::size_t>(std::count(degree.begin(), degree.end(), 0u));
   if (!degree.empty()) {
-    std::sort(degree.begin(), degree.end());
-    s.degree_min = degree.front();
-    s.degree_median = degree[(degree.size() - 1) / 2];
-    s.degree_max = degree.back();
+    const auto [low, high] = std::minmax_element(degree.begin(), degree.end());
+    s.degree_min = *low;
+    s.degree_max = *high;
+    const auto median = degree.begin() + static_cast<std::ptrdiff_t>((degree.size() - 1) / 2);
+    std::nth_element(degree.begin(), median, degree.end());  // the lower median, as sorted
+    s.degree_median = *median;
   }
   std::vector<float> lengths;
   lengths.reserve(s.undirected_edges);

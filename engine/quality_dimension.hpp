@@ -13,10 +13,12 @@
 
 #include <cmath>
 #include <cstddef>
+#include <exception>
 #include <span>
 #include <string>
 #include <vector>
 
+#include "engine/detail/parallel_chunks.hpp"
 #include "engine/points.hpp"
 #include "engine/stop.hpp"
 
@@ -74,20 +76,40 @@ IntrinsicDimension levina_bickel_lists(std::size_t n, std::size_t k, Distance di
   IntrinsicDimension out;
   out.k = k;
   if (k < 2) return detail::finish_levina_bickel(out, 0);  // throws, naming DimensionOptions.k
-  std::vector<double> t(k);
-  // Summed in row order in double: the result does not depend on any thread count.
+  // Each row's term in parallel (NaN: a skipped row), then summed in row order in double:
+  // the result does not depend on any thread count. A chunk stops at its first bad row and
+  // the lowest such chunk's error is raised, so the message names the first bad row.
+  constexpr std::size_t kChunk = 1 << 14;
+  std::vector<double> term(n);
+  std::vector<std::exception_ptr> failure((n + kChunk - 1) / kChunk);
+  detail::parallel_chunks(n, kChunk, {}, "graph", [&](std::size_t first, std::size_t last) {
+    std::vector<double> t(k);
+    try {
+      for (std::size_t i = first; i < last; ++i) {
+        for (std::size_t j = 0; j < k; ++j) t[j] = distance(i, j);
+        detail::check_dimension_row(i, t);
+        if (t[0] == 0) {
+          term[i] = std::nan("");
+          continue;
+        }
+        const double log_tk = std::log(t[k - 1]);
+        double s = 0;
+        for (std::size_t j = 0; j + 1 < k; ++j) s += log_tk - std::log(t[j]);
+        term[i] = s / static_cast<double>(k - 1);
+      }
+    } catch (...) {
+      failure[first / kChunk] = std::current_exception();
+    }
+  });
+  for (const std::exception_ptr& e : failure)
+    if (e) std::rethrow_exception(e);
   double inverse_sum = 0;
-  for (std::size_t i = 0; i < n; ++i) {
-    for (std::size_t j = 0; j < k; ++j) t[j] = distance(i, j);
-    detail::check_dimension_row(i, t);
-    if (t[0] == 0) {
+  for (const double x : term) {
+    if (std::isnan(x)) {
       ++out.points_skipped;
       continue;
     }
-    const double log_tk = std::log(t[k - 1]);
-    double s = 0;
-    for (std::size_t j = 0; j + 1 < k; ++j) s += log_tk - std::log(t[j]);
-    inverse_sum += s / static_cast<double>(k - 1);
+    inverse_sum += x;
     ++out.points_used;
   }
   return detail::finish_levina_bickel(std::move(out), inverse_sum);

@@ -6,6 +6,7 @@
 
 #include "engine/detail/neighbour_search.hpp"
 #include "engine/detail/parallel_chunks.hpp"
+#include "engine/detail/parallel_sort.hpp"
 #include "engine/detail/pca.hpp"
 #include "engine/error.hpp"
 
@@ -110,15 +111,19 @@ std::vector<NodeId> morton(const PointSet& p) {
   for (std::size_t a = 0; a < m; ++a) width = std::max(width, hi[a] - lo[a]);
   const double cells = width > 0.0 ? 2097151.0 / width : 0.0;
   std::vector<std::pair<std::uint64_t, NodeId>> keys(n);
-  for (std::size_t i = 0; i < n; ++i) {
-    std::uint64_t key = 0;
-    for (std::size_t a = 0; a < m; ++a)
-      key |= spread_bits(static_cast<std::uint64_t>((coord[i * m + a] - lo[a]) * cells)) << a;
-    keys[i] = {key, static_cast<NodeId>(i)};
-  }
-  std::sort(keys.begin(), keys.end());
+  detail::parallel_chunks(n, 1 << 16, {}, "node order", [&](std::size_t b, std::size_t e) {
+    for (std::size_t i = b; i < e; ++i) {
+      std::uint64_t key = 0;
+      for (std::size_t a = 0; a < m; ++a)
+        key |= spread_bits(static_cast<std::uint64_t>((coord[i * m + a] - lo[a]) * cells)) << a;
+      keys[i] = {key, static_cast<NodeId>(i)};
+    }
+  });
+  detail::parallel_sort(keys);  // the node index makes every key distinct
   std::vector<NodeId> order(n);
-  for (std::size_t i = 0; i < n; ++i) order[i] = keys[i].second;
+  detail::parallel_chunks(n, 1 << 16, {}, "node order", [&](std::size_t b, std::size_t e) {
+    for (std::size_t i = b; i < e; ++i) order[i] = keys[i].second;
+  });
   return order;
 }
 

@@ -5,6 +5,7 @@
 #include <tuple>
 
 #include "engine/detail/dijkstra.hpp"
+#include "engine/detail/parallel_chunks.hpp"
 #include "engine/error.hpp"
 #include "engine/parallel.hpp"
 #include "engine/timer.hpp"
@@ -165,19 +166,28 @@ ShortCircuitResult find_short_circuits(const NeighbourGraph& graph,
 
   // Stage 1, in edge order: the long edges.
   const std::vector<NodeScale> scales = node_scales(graph, stop);
-  std::vector<ShortCircuitEdge> candidates;
+  // Chunks of nodes in parallel, each into its own list, joined in node order.
+  constexpr std::size_t kChunk = 1 << 15;
+  const std::size_t n = graph.nodes();
+  std::vector<std::vector<ShortCircuitEdge>> found((n + kChunk - 1) / kChunk);
   const double f = options.length_factor;
-  for (std::size_t a = 0; a < graph.nodes(); ++a) {
-    if (!scales[a].known) continue;
-    for (auto e = graph.offsets[a]; e < graph.offsets[a + 1]; ++e) {
-      const NodeId b = graph.targets[static_cast<std::size_t>(e)];
-      if (b <= a || !scales[b].known) continue;
-      const float w = graph.lengths[static_cast<std::size_t>(e)];
-      const float scale_a = scales[a].without(w), scale_b = scales[b].without(w);
-      if (w > f * scale_a && w > f * scale_b)
-        candidates.push_back({static_cast<NodeId>(a), b, w, scale_a, scale_b});
-    }
-  }
+  detail::parallel_chunks(
+      n, kChunk, stop, "short circuits", [&](std::size_t first, std::size_t last) {
+        std::vector<ShortCircuitEdge>& out = found[first / kChunk];
+        for (std::size_t a = first; a < last; ++a) {
+          if (!scales[a].known) continue;
+          for (auto e = graph.offsets[a]; e < graph.offsets[a + 1]; ++e) {
+            const NodeId b = graph.targets[static_cast<std::size_t>(e)];
+            if (b <= a || !scales[b].known) continue;
+            const float w = graph.lengths[static_cast<std::size_t>(e)];
+            const float scale_a = scales[a].without(w), scale_b = scales[b].without(w);
+            if (w > f * scale_a && w > f * scale_b)
+              out.push_back({static_cast<NodeId>(a), b, w, scale_a, scale_b});
+          }
+        }
+      });
+  std::vector<ShortCircuitEdge> candidates;
+  for (const auto& part : found) candidates.insert(candidates.end(), part.begin(), part.end());
   s.long_edges = candidates.size();
 
   // Stage 2: each candidate's detour, into its own slot.

@@ -3,6 +3,7 @@
 #include "engine/detail/duplicates.hpp"
 
 #include "engine/detail/parallel_chunks.hpp"
+#include "engine/detail/parallel_sort.hpp"
 
 #include <algorithm>
 #include <cstdint>
@@ -36,7 +37,7 @@ DuplicateGroups find_duplicates(const PointSet& points, StopToken stop) {
   parallel_chunks(n, 65536, stop, "graph", [&](std::size_t b, std::size_t e) {
     for (std::size_t i = b; i < e; ++i) keys[i] = {hash_row(points.row(i), d), i};
   });
-  std::sort(keys.begin(), keys.end());
+  parallel_sort(keys);  // the row index makes every key distinct
   std::vector<std::size_t> first(n);
   for (std::size_t i = 0; i < n; ++i) first[i] = i;
   std::vector<std::size_t> firsts;  // distinct rows met so far in the current run
