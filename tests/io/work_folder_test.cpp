@@ -180,6 +180,13 @@ TEST_CASE(
     void save_map(const MapStep& m) override { f_.save_map(m); }
     std::optional<ResidualVarianceCurve> load_residual() override { return f_.load_residual(); }
     void save_residual(const ResidualVarianceCurve& c) override { f_.save_residual(c); }
+    bool has_residual_rows(std::size_t b) override { return f_.has_residual_rows(b); }
+    bool load_residual_rows(std::size_t b, DistanceRows& r) override {
+      return f_.load_residual_rows(b, r);
+    }
+    void save_residual_rows(std::size_t b, const DistanceRows& r) override {
+      f_.save_residual_rows(b, r);
+    }
     std::optional<Assessment> load_scores() override { return f_.load_scores(); }
     void save_scores(const Assessment& a) override { f_.save_scores(a); }
     void flush() override { f_.flush(); }
@@ -189,7 +196,7 @@ TEST_CASE(
   };
   test::TempFolder tmp;
   const fs::path dir = tmp.path() / "stop.work";
-  const io::WorkKeys keys{"graph", "landmarks", "map", "residual", "scores"};
+  const io::WorkKeys keys{"graph", "landmarks", "map", "residual", "scores", "residual-rows"};
   const PointSet points = swiss_roll(3000, 4).points;
   EmbedOptions o;
   o.graph.neighbourhood = NearestK{8};
