@@ -192,8 +192,9 @@ PieceWriter::~PieceWriter() {
 void PieceWriter::submit(PieceJob job) {
   {
     const std::lock_guard<std::mutex> lock(mutex_);
-    queue_.push_back(std::move(job));
+    // Started before the job is queued: if it cannot start, nothing is left for drain().
     if (!thread_.joinable()) thread_ = std::thread([this] { run(); });
+    queue_.push_back(std::move(job));
   }
   changed_.notify_all();
 }
