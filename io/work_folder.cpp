@@ -256,6 +256,7 @@ void WorkFolder::save(const std::string& step, const std::string& key,
     return;
   }
   ++saved_;
+  saved_now_.insert(step);
   if (notice_) notice_(PieceEvent::saved, step, "");
 }
 
@@ -290,6 +291,7 @@ bool WorkFolder::take(const std::string& step, const std::string& key,
       damaged(step, file, e.what());
       continue;
     }
+    if (saved_now_.count(step)) return true;  // this run's own piece: no resume
     ++loaded_;
     if (notice_) notice_(PieceEvent::loaded, step, "");
     return true;

@@ -27,6 +27,7 @@
 #include <cstdint>
 #include <filesystem>
 #include <functional>
+#include <set>
 #include <span>
 #include <string>
 
@@ -111,6 +112,9 @@ class WorkFolder final : public StepStore {
   std::size_t loaded_ = 0, saved_ = 0;
   bool existed_ = false;
   bool unsaved_ = false;  // a save failed: save no more
+  // Steps saved by this run: read back (the residual rows after the map) without counting
+  // as loaded, since nothing is resumed.
+  std::set<std::string> saved_now_;
 };
 
 // A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a
