@@ -231,6 +231,7 @@ void WorkFolder::save_lending(const std::string& step, const std::string& key,
       out.close();
     }
     writer_->submit(std::move(job));
+    saved_now_.insert(step);
   } catch (const InterruptedError&) {
     std::error_code ec;
     fs::remove(temp, ec);
@@ -246,6 +247,7 @@ void WorkFolder::save_lending(const std::string& step, const std::string& key,
 bool WorkFolder::take(const std::string& step, const std::string& key,
                       const std::function<void(const H5Reader&)>& read) {
   const std::lock_guard<std::mutex> lock(mutex_);
+  report(writer_->drain());  // a piece this run queued is on disk before it is looked for
   std::error_code ec;
   std::vector<fs::path> candidates;
   for (const auto& entry : fs::directory_iterator(folder_, ec)) {
@@ -275,6 +277,7 @@ bool WorkFolder::take(const std::string& step, const std::string& key,
       damaged(step, file, e.what());
       continue;
     }
+    if (saved_now_.count(step)) return true;  // this run's own piece: no resume
     ++loaded_;
     if (notice_) notice_(PieceEvent::loaded, step, "");
     return true;

@@ -37,6 +37,7 @@
 #include <functional>
 #include <memory>
 #include <mutex>
+#include <set>
 #include <span>
 #include <string>
 #include <vector>
@@ -140,6 +141,9 @@ class WorkFolder final : public StepStore {
   bool unsaved_ = false;  // a save failed: save no more
   std::mutex mutex_;      // one thread at a time in HDF5 through this folder, and the counts
   std::unique_ptr<detail::PieceWriter> writer_;
+  // Steps saved by this run: read back (the residual rows after the map) without counting
+  // as loaded, since nothing is resumed.
+  std::set<std::string> saved_now_;
 };
 
 // A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a

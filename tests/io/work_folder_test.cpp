@@ -252,7 +252,7 @@ TEST_CASE("checksum64 and the content fingerprint change with any byte", "[work_
   CHECK(io::content_fingerprint(file, true) == hex);
 }
 
-TEST_CASE("work folder: residual rows round-trip in place; damaged or stale ones are refused",
+TEST_CASE("work folder: residual rows round-trip in place, damaged or stale ones are refused",
           "[work_folder]") {
   // Common practice, no source: a checksum in the name verified before use; the rows are
   // Dijkstra rows of a small Swiss roll graph, compared bit for bit with what was saved.
@@ -273,10 +273,17 @@ TEST_CASE("work folder: residual rows round-trip in place; damaged or stale ones
     return back;
   };
   {
-    io::WorkFolder w(dir, keys);
+    Events own;
+    io::WorkFolder w(dir, keys, own.notice());
     CHECK_FALSE(w.has_residual_rows(0));
     w.save_residual_rows(0, rows);
     w.save_residual_rows(1, rows);
+    // Read back by the run that saved it: taken, but not a resume (no loaded event).
+    DistanceRows back = empty_like();
+    CHECK(w.load_residual_rows(0, back));
+    CHECK(back.values == rows.values);
+    CHECK(own.count(io::PieceEvent::loaded) == 0);
+    CHECK(w.pieces_loaded() == 0);
   }
   Events ev;
   io::WorkFolder w(dir, keys, ev.notice());
