@@ -362,6 +362,8 @@ void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::siz
 }
 
 bool WorkFolder::has_residual_rows(std::size_t batch) {
+  const std::lock_guard<std::mutex> lock(mutex_);
+  report(writer_->drain());  // a piece this run queued is on disk before it is looked for
   const std::string step = residual_rows_step(batch);
   std::error_code ec;
   for (const auto& entry : fs::directory_iterator(folder_, ec)) {

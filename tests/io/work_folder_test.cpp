@@ -317,6 +317,7 @@ TEST_CASE("work folder: residual rows round-trip in place, damaged or stale ones
 
   // Other parameters (a new seed): kept but passed over.
   w.save_residual_rows(0, rows);
+  w.flush();  // the writer thread finishes pieces in the background
   Events other;
   io::WorkFolder changed(dir, {"g", "l", "m", "r", "s", "other seed"}, other.notice());
   CHECK(changed.has_residual_rows(0));
