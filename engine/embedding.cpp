@@ -154,12 +154,17 @@ DistanceRows residual_batch(const ResidualPlan& plan, std::size_t b, std::size_t
 void store_residual_rows(const NeighbourGraph& ordered, const ResidualPlan& plan, StepStore& store,
                          StopToken stop) {
   const ProgressStep step = stop.step("residual rows", plan.sources.size());
+  DistanceRows saving;  // the batch the store may still be writing while the next is computed
+  const StoreFlush flushed(&store);
   for (std::size_t b = 0; b < plan.batches(); ++b) {
     if (store.has_residual_rows(b)) {
       stop.advance(plan.batch(b).size());
       continue;
     }
-    store.save_residual_rows(b, residual_rows(ordered, plan, b, stop));
+    DistanceRows rows = residual_rows(ordered, plan, b, stop);
+    store.flush();  // the previous batch is stored: its memory may go
+    saving = std::move(rows);
+    store.save_residual_rows(b, saving);
   }
 }
 
@@ -174,6 +179,7 @@ ResidualVarianceCurve stored_residual(const NeighbourGraph& ordered, const Resid
         if (store.load_residual_rows(b, rows)) return rows;
         rows = residual_rows(ordered, plan, b, stop);
         store.save_residual_rows(b, rows);
+        store.flush();  // the batch is freed once correlated
         return rows;
       },
       stop);

@@ -12,10 +12,10 @@
 // map saved, the rows are not read back unless the result must carry them.
 //
 // A store may save in the background. Calls come from one thread at a time, not always the
-// same one (row batches are saved by the thread that finished them). save_graph and save_rows
-// may keep reading the arrays they were given until flush() returns, so the engine keeps them
-// alive and unchanged until then: a StoreFlush declared after them flushes before they go,
-// also when an exception unwinds.
+// same one (row batches are saved by the thread that finished them). save_graph, save_rows and
+// save_residual_rows may keep reading the arrays they were given until flush() returns, so the
+// engine keeps them alive and unchanged until then: a StoreFlush declared after them flushes before
+// they go, also when an exception unwinds.
 #pragma once
 
 #include <cstddef>

@@ -379,8 +379,8 @@ bool WorkFolder::load_residual_rows(std::size_t batch, DistanceRows& rows) {
 }
 
 void WorkFolder::save_residual_rows(std::size_t batch, const DistanceRows& rows) {
-  save(residual_rows_step(batch), keys_.residual_rows, [&](H5Writer& out) {
-    out.write("/values", rows.values, {rows.rows, rows.cols});
+  save_lending(residual_rows_step(batch), keys_.residual_rows, [&](H5Writer& out, Lending& lent) {
+    lend(out, lent, "/values", std::span<const float>(rows.values), {rows.rows, rows.cols});
     out.write("/sources", rows.sources, {rows.rows});
   });
 }
