@@ -74,6 +74,7 @@ std::vector<double> nice_ticks(Range r, int target, double* step_out) {
 }
 
 std::string tick_label(double value, double step) {
+  if (value == 0) value = 0.0;  // a tick at -0 reads "0", not "-0"
   const double magnitude = std::max(std::abs(value), step);
   if (magnitude >= 1e6 || magnitude < 1e-3) {
     // Enough significant digits that neighbouring ticks read differently.

@@ -33,6 +33,13 @@ TEST_CASE("nice_ticks: evenly spaced 1, 2 or 5 steps inside the range, at least 
     }
 }
 
+TEST_CASE("tick_label: a tick at negative zero reads 0", "[plot]") {
+  // An empty figure's axis ran from -0.05 to 1.05 and labelled its first tick "-0".
+  CHECK(detail::tick_label(-0.0, 1.0) == "0");
+  CHECK(detail::tick_label(-0.0, 0.1) == "0.0");
+  CHECK(detail::tick_label(-1.0, 1.0) == "-1");
+}
+
 TEST_CASE("log_ticks: powers of ten, 2 and 5 between on short axes, labels as values", "[plot]") {
   // Decade ticks with 2 and 5 between them on a short log axis: common practice, no source.
   // Positions are log10 of the values, so 10^t must come back as the labelled value.
