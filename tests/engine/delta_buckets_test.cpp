@@ -1,5 +1,6 @@
 #include "engine/detail/delta_buckets.hpp"
 
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <cstring>
@@ -10,6 +11,7 @@
 
 #include "engine/detail/dijkstra.hpp"
 #include "engine/neighbours.hpp"
+#include "engine/random.hpp"
 #include "engine/synthetic.hpp"
 #include "tests/test_util.hpp"
 
@@ -91,6 +93,35 @@ TEST_CASE("delta-stepping rows equal textbook Dijkstra's to the bit on random gr
           zeros.lengths[static_cast<std::size_t>(e)] = 0.0f;
     for (const auto* g : {&spread, &ties, &zeros}) require_rows_equal_textbook(*g, 25);
   }
+}
+
+TEST_CASE("delta-stepping rows equal textbook Dijkstra's at nodes of high degree", "[geodesic]") {
+  // A node's edges are relaxed in rounds of at most 64 (engine/detail/delta_buckets.cpp,
+  // kStaged): hubs of degree 63 to 499 cross one or more round boundaries, with lengths
+  // spread over two orders of magnitude so that later rounds still lower distances.
+  const std::size_t n = 500;
+  auto base = unfurl::test::random_connected_graph(n, 1000, 7);
+  std::vector<unfurl::test::Edge> edges;
+  for (std::size_t u = 0; u < n; ++u)
+    for (auto e = base.offsets[u]; e < base.offsets[u + 1]; ++e) {
+      const NodeId v = base.targets[static_cast<std::size_t>(e)];
+      if (u < v)
+        edges.push_back({static_cast<NodeId>(u), v, base.lengths[static_cast<std::size_t>(e)]});
+    }
+  unfurl::Random rng(8);
+  const std::size_t hub_degree[] = {63, 64, 65, 128, 129, 200, n - 1};
+  for (std::size_t h = 0; h < std::size(hub_degree); ++h)
+    for (std::size_t j = 0; j < hub_degree[h]; ++j) {
+      const auto to = static_cast<NodeId>((h + 1 + j * 7) % n);
+      if (to != h)
+        edges.push_back(
+            {static_cast<NodeId>(h), to, static_cast<float>(std::pow(10.0, -2.0 * rng.uniform()))});
+    }
+  const auto g = unfurl::test::graph_from_edges(n, edges);
+  std::size_t widest = 0;
+  for (std::size_t u = 0; u < n; ++u) widest = std::max(widest, g.degree(u));
+  REQUIRE(widest > 128);
+  require_rows_equal_textbook(g, 50);
 }
 
 TEST_CASE("delta-stepping rows equal textbook Dijkstra's on a Swiss roll kNN graph", "[geodesic]") {
