@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <atomic>
 #include <exception>
+#include <future>
 #include <memory>
 #include <mutex>
 
@@ -195,18 +196,29 @@ void store_residual_rows(const NeighbourGraph& ordered, const ResidualPlan& plan
 }
 
 // The residual variance curve of a run with a step store: its rows taken back batch by batch
-// (one computed again when its piece is missing or damaged), correlated with the map.
+// (one computed again when its piece is missing or damaged), correlated with the map. Batch
+// b + 1 is read on a thread of its own while batch b is correlated (reading is mostly waiting
+// for the disk), so two batches are alive at once; the store is still called by one thread
+// at a time: a batch is computed again only once the read ahead has returned.
 ResidualVarianceCurve stored_residual(const NeighbourGraph& ordered, const ResidualPlan& plan,
                                       const PointSet& coords, StepStore& store, StopToken stop) {
+  const auto load = [&](std::size_t b) {
+    std::optional<DistanceRows> rows = residual_batch(plan, b, ordered.nodes());
+    if (!store.load_residual_rows(b, *rows)) rows.reset();
+    return rows;
+  };
+  std::future<std::optional<DistanceRows>> ahead;  // batch b + 1; joined before it goes
   return correlate_residual(
       plan, coords,
       [&](std::size_t b) {
-        DistanceRows rows = residual_batch(plan, b, ordered.nodes());
-        if (store.load_residual_rows(b, rows)) return rows;
-        rows = residual_rows(ordered, plan, b, stop);
-        store.save_residual_rows(b, rows);
-        store.flush();  // the batch is freed once correlated
-        return rows;
+        std::optional<DistanceRows> rows = b == 0 ? load(0) : ahead.get();
+        if (!rows) {
+          rows = residual_rows(ordered, plan, b, stop);
+          store.save_residual_rows(b, *rows);
+          store.flush();  // the batch is freed once correlated
+        }
+        if (b + 1 < plan.batches()) ahead = std::async(std::launch::async, load, b + 1);
+        return std::move(*rows);
       },
       stop);
 }
