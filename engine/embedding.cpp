@@ -2,6 +2,8 @@
 
 #include <algorithm>
 #include <atomic>
+#include <exception>
+#include <future>
 #include <memory>
 #include <mutex>
 
@@ -46,6 +48,26 @@ std::vector<std::size_t> batch_starts(std::size_t rows) {
   return first;
 }
 
+// Flushes the store when an exception unwinds past it, not on the way out: the caller keeps the
+// arrays lent to the store alive and flushes later, so a batch's write overlaps what comes next.
+class FlushOnUnwind {
+ public:
+  explicit FlushOnUnwind(StepStore& store) : store_(store) {}
+  ~FlushOnUnwind() {
+    if (std::uncaught_exceptions() == unwinding_) return;
+    try {
+      store_.flush();
+    } catch (...) {  // a failed save is the store's to report; nothing to add while unwinding
+    }
+  }
+  FlushOnUnwind(const FlushOnUnwind&) = delete;
+  FlushOnUnwind& operator=(const FlushOnUnwind&) = delete;
+
+ private:
+  StepStore& store_;
+  int unwinding_ = std::uncaught_exceptions();
+};
+
 // Maxmin with nothing saved: the rows are computed beside the choice, as source_rows does,
 // and saved as they come: the choice as soon as it is made, each batch once all its rows are
 // done (batches finish in any order; those done before the choice wait for it, so that a
@@ -89,7 +111,8 @@ void rows_beside_choice(const NeighbourGraph& ordered, const LandmarkOptions& lo
 
 // source_rows for a run with a step store: the choice and the rows, each batch taken from the
 // store when it holds it, else computed and saved. The same bytes as source_rows: the choice
-// is the same sequence and every row the same Dijkstra run.
+// is the same sequence and every row the same Dijkstra run. The store may still be writing
+// the last batches on return: the caller keeps the rows alive until it has flushed.
 SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const NodeId> draw_order,
                               const SourceRowsOptions& options, StepStore& store, StopToken stop) {
   const Stopwatch watch;
@@ -97,7 +120,7 @@ SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const Nod
   lo.draw_order = draw_order;
   SourceRows out;
   LandmarkResult picked;
-  const StoreFlush flushed(&store);  // after the rows it guards: runs before they are freed
+  const FlushOnUnwind flushed(store);  // after the rows it guards: runs before they are freed
   std::optional<LandmarkResult> saved = store.load_landmarks();
   const std::size_t count = lo.resolved_count(ordered.nodes());
   if (saved && (saved->rows.rows != count || saved->rows.cols != ordered.nodes() ||
@@ -154,10 +177,14 @@ DistanceRows residual_batch(const ResidualPlan& plan, std::size_t b, std::size_t
 void store_residual_rows(const NeighbourGraph& ordered, const ResidualPlan& plan, StepStore& store,
                          StopToken stop) {
   const ProgressStep step = stop.step("residual rows", plan.sources.size());
+  // Asked before any batch is saved: the question waits for the store's writes, which would
+  // otherwise no longer overlap the next batch's rows.
+  std::vector<bool> kept(plan.batches());
+  for (std::size_t b = 0; b < plan.batches(); ++b) kept[b] = store.has_residual_rows(b);
   DistanceRows saving;  // the batch the store may still be writing while the next is computed
   const StoreFlush flushed(&store);
   for (std::size_t b = 0; b < plan.batches(); ++b) {
-    if (store.has_residual_rows(b)) {
+    if (kept[b]) {
       stop.advance(plan.batch(b).size());
       continue;
     }
@@ -169,18 +196,29 @@ void store_residual_rows(const NeighbourGraph& ordered, const ResidualPlan& plan
 }
 
 // The residual variance curve of a run with a step store: its rows taken back batch by batch
-// (one computed again when its piece is missing or damaged), correlated with the map.
+// (one computed again when its piece is missing or damaged), correlated with the map. Batch
+// b + 1 is read on a thread of its own while batch b is correlated (reading is mostly waiting
+// for the disk), so two batches are alive at once; the store is still called by one thread
+// at a time: a batch is computed again only once the read ahead has returned.
 ResidualVarianceCurve stored_residual(const NeighbourGraph& ordered, const ResidualPlan& plan,
                                       const PointSet& coords, StepStore& store, StopToken stop) {
+  const auto load = [&](std::size_t b) {
+    std::optional<DistanceRows> rows = residual_batch(plan, b, ordered.nodes());
+    if (!store.load_residual_rows(b, *rows)) rows.reset();
+    return rows;
+  };
+  std::future<std::optional<DistanceRows>> ahead;  // batch b + 1; joined before it goes
   return correlate_residual(
       plan, coords,
       [&](std::size_t b) {
-        DistanceRows rows = residual_batch(plan, b, ordered.nodes());
-        if (store.load_residual_rows(b, rows)) return rows;
-        rows = residual_rows(ordered, plan, b, stop);
-        store.save_residual_rows(b, rows);
-        store.flush();  // the batch is freed once correlated
-        return rows;
+        std::optional<DistanceRows> rows = b == 0 ? load(0) : ahead.get();
+        if (!rows) {
+          rows = residual_rows(ordered, plan, b, stop);
+          store.save_residual_rows(b, *rows);
+          store.flush();  // the batch is freed once correlated
+        }
+        if (b + 1 < plan.batches()) ahead = std::async(std::launch::async, load, b + 1);
+        return std::move(*rows);
       },
       stop);
 }
@@ -248,6 +286,7 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
   // The rows go into the result only when asked for; else a saved map needs none read back.
   const bool rows_wanted = options.keep_geodesics;
   SourceRows sources;
+  const StoreFlush rows_flushed(store);  // after the rows: the last batches may be in writing
   if (saved && !rows_wanted) {
     sources.rows.cols = ordered.graph.nodes();
     sources.all_nodes = options.exact();
@@ -266,6 +305,7 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
                        : MapStep{map_nodes(sources, options.spectral, stop), sources.rows.sources,
                                  sources.summary};
   if (store && !saved) store->save_map(made);
+  if (store) store->flush();  // the last row batches, written while the map was made, are stored
   SpectralResult& map = made.spectral;
   // Exact mode lists every node as a landmark, whichever rows are kept.
   const std::vector<NodeId> landmark_nodes = std::move(made.sources);

@@ -86,7 +86,9 @@ MemoryEstimate estimate_memory(const MemoryShape& s) {
   const double after_rows = s.keep_geodesics ? rows : 0.0;
   const double result = input + after_rows + 4 * n * m + 24 * n;
   if (s.score) {
-    const double residual = graphs + 64 * n + 4 * n * m;  // during the embedding, 16 rows a batch
+    // During the embedding, 16 rows a batch; a run with a work folder reads the next batch
+    // while it correlates one: two batches.
+    const double residual = graphs + 128 * n + 4 * n * m;
     const double q = s.score_queries ? static_cast<double>(s.score_queries) : n;
     const double neighbourhoods = result + n * (4 * d + 8) + 12 * n * (d + m) +
                                   q * (8 + 52 * static_cast<double>(s.score_ks));

@@ -21,9 +21,10 @@
 //   spectral  the rows, a dense solver 24 L^2 (L <= SpectralOptions.dense_limit) or the
 //             Lanczos solver (spectral_solver_bytes), the coordinates 12 N m
 //   scores    the rows, the map, its input rows 24 N; residual variance batches of 16 rows
-//             (64 N) while the graphs are alive; trustworthiness and continuity: a copy of the
-//             points 4 N d + 8 N, both spaces transposed 12 N (d + m), and per query point
-//             (Q: N when exact, the sample otherwise) 8 + 52 per k of sums and terms
+//             (two of 64 N: one read while one is correlated) while the graphs are alive;
+//             trustworthiness and continuity: a copy of the points 4 N d + 8 N, both spaces
+//             transposed 12 N (d + m), and per query point (Q: N when exact, the sample otherwise)
+//             8 + 52 per k of sums and terms
 //   write     the rows, the map record: coordinates and rows again, 12 N + 4 N m, and the
 //             landmark rows once more (4 L N) when they are stored (keep_geodesics)
 // Radius graphs have no k: the estimate takes the default k (10) and says so.

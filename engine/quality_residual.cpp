@@ -107,6 +107,105 @@ ResidualVarianceCurve finish(const Moments& total, std::size_t m) {
 
 namespace {
 
+// Lanes of one row's running sums: the pairs of a stretch of the row go to the lanes in turn,
+// so the sums are a fixed function of the row (any thread count) and the lanes' chains of
+// additions run side by side.
+constexpr std::size_t kLanes = 4;
+
+// One row's pairs (s, j), j != s, over a map of M axes in one pass: the sums of x - kx and
+// y_d - ky_d, shifted by the row's first pair (x its geodesic, y_d its map distances), give
+// the centred sums without the cancellation of raw sums: the shift is a value of the row, so
+// it is within the row's range of its mean (shifted data, Chan, Golub and LeVeque, The
+// American Statistician 37, 1983). Returns false when a geodesic value is not finite.
+template <std::size_t M>
+bool row_moments(const float* g, std::size_t n, std::size_t s, const float* map, Moments& out) {
+  const float* p = map + s * M;
+  const auto distances = [&](std::size_t j, double* y) {
+    const float* q = map + j * M;
+    double sum = 0;
+    for (std::size_t c = 0; c < M; ++c) {
+      const double t = static_cast<double>(p[c]) - q[c];
+      sum += t * t;
+      y[c] = std::sqrt(sum);
+    }
+  };
+  const std::size_t j0 = s == 0 ? 1 : 0;
+  const double kx = g[j0];
+  double ky[M];
+  distances(j0, ky);
+  double su[kLanes] = {}, suu[kLanes] = {}, sv[M][kLanes] = {}, svv[M][kLanes] = {},
+         suv[M][kLanes] = {};
+  const auto add = [&](std::size_t j, std::size_t lane) {
+    double y[M];
+    distances(j, y);
+    const double u = g[j] - kx;
+    su[lane] += u;
+    suu[lane] += u * u;
+    for (std::size_t c = 0; c < M; ++c) {
+      const double v = y[c] - ky[c];
+      sv[c][lane] += v;
+      svv[c][lane] += v * v;
+      suv[c][lane] += u * v;
+    }
+  };
+  const auto span = [&](std::size_t from, std::size_t to) {
+    std::size_t j = from;
+    for (; j + kLanes <= to; j += kLanes)
+      for (std::size_t lane = 0; lane < kLanes; ++lane) add(j + lane, lane);
+    for (std::size_t lane = 0; j < to; ++j, ++lane) add(j, lane);
+  };
+  span(0, s);
+  span(s + 1, n);
+  const auto total = [](const double* lanes) {
+    return (lanes[0] + lanes[1]) + (lanes[2] + lanes[3]);
+  };
+  const double count = static_cast<double>(n - 1);
+  const double tu = total(su);
+  // An Inf or NaN anywhere in the row leaves the sums so (no finite float overflows them).
+  if (!std::isfinite(tu) || !std::isfinite(total(suu)) || !std::isfinite(g[s])) return false;
+  out.n = count;
+  out.mean_x = kx + tu / count;
+  out.sxx = std::max(0.0, total(suu) - tu * tu / count);
+  for (std::size_t c = 0; c < M; ++c) {
+    const double tv = total(sv[c]);
+    out.mean_y[c] = ky[c] + tv / count;
+    out.syy[c] = std::max(0.0, total(svv[c]) - tv * tv / count);
+    out.sxy[c] = total(suv[c]) - tu * tv / count;
+  }
+  return true;
+}
+
+// Moments of one row's pairs: the one-pass sums for up to 4 map axes, else two passes.
+Moments row_pair_moments(const float* g, std::size_t n, std::size_t s, const PointSet& map,
+                         std::size_t r) {
+  Moments out(map.cols);
+  bool finite = true;
+  switch (map.cols) {
+    case 1:
+      finite = row_moments<1>(g, n, s, map.values.data(), out);
+      break;
+    case 2:
+      finite = row_moments<2>(g, n, s, map.values.data(), out);
+      break;
+    case 3:
+      finite = row_moments<3>(g, n, s, map.values.data(), out);
+      break;
+    case 4:
+      finite = row_moments<4>(g, n, s, map.values.data(), out);
+      break;
+    default:
+      detail::require_finite({g, n}, n, "residual variance: geodesic", r);
+      return group_moments(map, n, [&](std::size_t j, std::size_t& a, std::size_t& b, double& x) {
+        a = s;
+        b = j;
+        x = g[j];
+        return j != s;
+      });
+  }
+  if (!finite) detail::require_finite({g, n}, n, "residual variance: geodesic", r);
+  return out;
+}
+
 // Moments of each row's pairs (sources[r], j), j != sources[r], appended in row order.
 void append_row_moments(const DistanceRows& geodesic, const PointSet& map,
                         std::vector<Moments>& out, StopToken stop) {
@@ -116,6 +215,8 @@ void append_row_moments(const DistanceRows& geodesic, const PointSet& map,
   if (geodesic.rows == 0 || geodesic.sources.size() != geodesic.rows ||
       geodesic.values.size() != geodesic.rows * geodesic.cols)
     throw DataError("residual variance: geodesic rows are empty or inconsistent in size");
+  if (geodesic.cols < 2)
+    throw DataError("residual variance: fewer than 2 point pairs to correlate");
   const std::size_t m = map.cols;
   const std::size_t first = out.size();
   out.resize(first + geodesic.rows, Moments(m));
@@ -129,15 +230,7 @@ void append_row_moments(const DistanceRows& geodesic, const PointSet& map,
       if (s >= geodesic.cols)
         throw DataError("residual variance: geodesic row " + std::to_string(r) + " has source " +
                         std::to_string(s) + ", not a map row");
-      const float* g = geodesic.row(r);
-      detail::require_finite({g, geodesic.cols}, geodesic.cols, "residual variance: geodesic", r);
-      out[first + r] = group_moments(map, geodesic.cols,
-                                     [&](std::size_t j, std::size_t& a, std::size_t& b, double& x) {
-                                       a = s;
-                                       b = j;
-                                       x = g[j];
-                                       return j != s;
-                                     });
+      out[first + r] = row_pair_moments(geodesic.row(r), geodesic.cols, s, map, r);
     });
   }
   errors.rethrow();

@@ -164,3 +164,53 @@ TEST_CASE("the residual variance from rows made apart equals the one-pass curve"
       unfurl::correlate_residual(plan, r.truth, [&](std::size_t b) { return kept[(b + 1) % 3]; }),
       unfurl::InternalError);
 }
+
+TEST_CASE("the residual variance keeps its digits for distances far from zero", "[quality]") {
+  // Pearson's R is unchanged when a constant is added to every given distance (a textbook
+  // property of the correlation coefficient), so rows lifted by 10,000 (about 1,000 times
+  // their spread) must give the same curve: the one-pass row sums are shifted by a value of
+  // the row, and the shift must come back out of the means exactly.
+  const Roll r = roll(1500, 34);
+  unfurl::ResidualOptions o;
+  o.all_pairs_limit = 1000;
+  o.sources = 20;
+  const auto plan = unfurl::plan_residual(r.graph.nodes(), o, {});
+  std::vector<unfurl::DistanceRows> kept;
+  for (std::size_t b = 0; b < plan.batches(); ++b)
+    kept.push_back(unfurl::residual_rows(r.graph, plan, b));
+  const auto plain =
+      unfurl::correlate_residual(plan, r.truth, [&](std::size_t b) { return kept[b]; });
+  const auto lifted = unfurl::correlate_residual(plan, r.truth, [&](std::size_t b) {
+    unfurl::DistanceRows rows = kept[b];
+    for (float& v : rows.values) v += 10000.0f;
+    return rows;
+  });
+  // float rows: 10,000 + x keeps x to about 1e-3 absolute, about 1e-4 of the spread.
+  for (std::size_t d = 0; d < 2; ++d)
+    CHECK(lifted.by_dims[d] == Approx(plain.by_dims[d]).epsilon(1e-3).margin(1e-6));
+}
+
+TEST_CASE("the residual variance of many map axes agrees with that of their first axes",
+          "[quality]") {
+  // by_dims[d - 1] uses the first d axes only (Tenenbaum et al. 2000, note 42), so a map of
+  // 6 axes (the general path) and its first 2 and 4 axes (the fixed-width paths) must agree
+  // on the axes they share.
+  const Roll r = roll(600, 35);
+  const auto rows = unfurl::geodesic_rows(r.graph, {unfurl::EveryNode{}}).rows;
+  unfurl::PointSet wide(r.truth.rows, 6);
+  for (std::size_t i = 0; i < wide.rows; ++i)
+    for (std::size_t c = 0; c < 6; ++c)
+      wide.row(i)[c] = c < 2 ? r.truth.row(i)[c] : 0.01f * static_cast<float>((i * (c + 3)) % 17);
+  const auto all = unfurl::residual_variance(rows, wide);
+  REQUIRE(all.by_dims.size() == 6);
+  for (const std::size_t m : {std::size_t{2}, std::size_t{4}}) {
+    unfurl::PointSet first(wide.rows, m);
+    for (std::size_t i = 0; i < wide.rows; ++i)
+      std::copy(wide.row(i), wide.row(i) + m, first.row(i));
+    const auto part = unfurl::residual_variance(rows, first);
+    for (std::size_t d = 0; d < m; ++d)
+      CHECK(part.by_dims[d] == Approx(all.by_dims[d]).epsilon(1e-9));
+  }
+  CHECK(all.by_dims[0] == Approx(all_pairs(rows, r.truth, 1)).epsilon(1e-7));
+  CHECK(all.by_dims[1] == Approx(all_pairs(rows, r.truth, 2)).epsilon(1e-7));
+}
