@@ -39,6 +39,7 @@ constexpr std::array kTable{
     FieldFlag{"SpectralOptions.krylov", "", ""},
     FieldFlag{"SpectralOptions.max_iterations", "", ""},
     FieldFlag{"SpectralOptions.tolerance", "", ""},
+    FieldFlag{"SpectralOptions.negative_end", "", "--no-score"},
     FieldFlag{"SpectralOptions.mass", "", "--no-score"},
     FieldFlag{"SpectralOptions.probes", "", ""},
     FieldFlag{"SpectralOptions.quadrature", "", ""},

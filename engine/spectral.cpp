@@ -399,7 +399,7 @@ std::size_t spectral_solver_bytes(std::size_t n, const SpectralOptions& options)
   const std::size_t end = std::max(m, options.mass ? options.deflate : m);
   const bool both = options.negative_end && 2 * end < n;
   const std::size_t wanted = both ? 2 * end : m;
-  const std::size_t ncv = detail::krylov_size(n, m, options.krylov);
+  const std::size_t ncv = detail::krylov_size(n, m, options.krylov, both);
   const std::size_t basis = both ? std::max(ncv, std::min(n, 2 * wanted + 1)) : ncv;
   // Basis and residual, then eigenvectors(), its copy and the kept pairs.
   const std::size_t lanczos = (basis + 1 + 3 * wanted) * n * sizeof(double);

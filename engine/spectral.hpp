@@ -30,9 +30,10 @@
 namespace unfurl {
 
 struct SpectralOptions {
-  std::size_t dims = 2;               // axes of the map
-  std::size_t dense_limit = 1000;     // B of at most this order: dense solver, whole spectrum
-  std::size_t krylov = 0;             // Lanczos subspace size (Spectra ncv); 0: max(2 dims + 1, 20)
+  std::size_t dims = 2;            // axes of the map
+  std::size_t dense_limit = 1000;  // B of at most this order: dense solver, whole spectrum
+  std::size_t krylov = 0;  // Lanczos subspace size (Spectra ncv); 0: max(2 dims + 1, 10), or
+                           // 20 with the negative end (detail/eigen_top.hpp says why)
   std::size_t max_iterations = 1000;  // Lanczos restarts before giving up (a warning, not an error)
   double tolerance = 1e-10;           // Lanczos relative tolerance on the eigenvalues
   bool negative_end = true;           // Lanczos: also find the most negative eigenvalues

@@ -11,19 +11,37 @@ namespace unfurl::detail {
 
 namespace {
 // One row's share of S x: its dot product with x, and its entries times x_i added to the
-// column sums. Separate pointers the compiler may assume distinct, and an OpenMP simd
-// reduction so the dot product vectorises too: without it the one running sum is a chain of
-// dependent additions, and exact mode's operator ran 3x slower. The vector width is fixed at
-// compile time, so the summation order, and the map, do not depend on the thread count.
-void sum_row(const float* __restrict row, const double* __restrict x, double xi,
-             double* __restrict column, std::size_t n, double& dot) {
-  double sum = 0.0;
-#pragma omp simd reduction(+ : sum)
-  for (std::size_t j = 0; j < n; ++j) {
-    const double q = static_cast<double>(row[j]) * row[j];
-    sum += q * x[j];
+// column sums. Separate pointers the compiler may assume distinct. The dot product runs in
+// kSumWidth partial sums (entry j feeds sum j mod kSumWidth), added in index order at the end:
+// independent sums vectorise (one running sum is a chain of dependent additions, and exact
+// mode's operator ran 3x slower), and the order is the same for every vector width. So the
+// AVX-512 and AVX2 clones, which the baseline x86-64 build would otherwise never use (the
+// single-vector pass was bound by SSE2 arithmetic, not memory), give the baseline's bits: no
+// fused multiply-adds (none of the clones' targets enables FMA, and contraction is off).
+constexpr std::size_t kSumWidth = 16;
+
+__attribute__((target_clones("avx512f", "avx2", "default"), optimize("fp-contract=off"))) void
+sum_row(const float* __restrict row, const double* __restrict x, double xi,
+        double* __restrict column, std::size_t n, double& dot) {
+  double partial[kSumWidth] = {};
+  std::size_t j = 0;
+  for (; j + kSumWidth <= n; j += kSumWidth) {
+#pragma omp simd
+    for (std::size_t l = 0; l < kSumWidth; ++l) {
+      const double v = row[j + l];
+      const double q = v * v;
+      partial[l] += q * x[j + l];
+      column[j + l] += q * xi;
+    }
+  }
+  for (std::size_t l = 0; j < n; ++j, ++l) {  // the tail: entry j still feeds sum j mod width
+    const double v = row[j];
+    const double q = v * v;
+    partial[l] += q * x[j];
     column[j] += q * xi;
   }
+  double sum = 0.0;
+  for (std::size_t l = 0; l < kSumWidth; ++l) sum += partial[l];
   dot = sum;
 }
 

@@ -148,6 +148,10 @@ with tempfile.TemporaryDirectory() as work:
           attrs.get("mass_method") == "not computed" and "negative_ratio" not in attrs and
           "positive_mass" not in attrs and spectral["operations"]["mass"] == 0,
           f"{spectral['mass_method']}, attributes {sorted(attrs)}")
+    # The most negative eigenvalues are a score too: the solver looks for the top pairs alone.
+    check("exact-1600 --no-score: no negative end is computed or listed",
+          spectral["eigenvalues_smallest"] == [] and spectral["computed"]["negative"] == 0 and
+          len(stored) == 2, f"{spectral['eigenvalues_smallest']}, stored {stored}")
     check("exact-1600 --no-score: the summary line says not computed",
           "non-Euclidean ratio not computed" in out.stdout,
           " | ".join(out.stdout.strip().splitlines()[-2:]))
