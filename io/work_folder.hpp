@@ -144,6 +144,9 @@ class WorkFolder final : public StepStore {
   // Steps saved by this run: read back (the residual rows after the map) without counting
   // as loaded, since nothing is resumed.
   std::set<std::string> saved_now_;
+  // Pieces whose metadata need no walk in a child before they are opened: walked when the
+  // folder was opened, or written by this run.
+  std::set<std::filesystem::path> walked_;
 };
 
 // A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a
