@@ -6,13 +6,14 @@
 //
 // H5Reader is the one way unfurl opens a file it did not just write (points, inspect, edge
 // lists, partial distances, saved graphs, maps). It treats the file as untrusted: a forked
-// child walks all metadata first, under a time limit (io/detail/hdf5_sandbox.hpp), so that a
-// crash or an endless loop inside the library becomes an error; shapes and types are checked
-// before anything is read; a dataset that declares more data than the file could hold, or
-// whose storage is missing (unwritten chunks, a virtual dataset's missing source, an external
-// raw file or external link to a missing file) is refused rather than read as fill values;
-// and conversions that would change a value (out of range, a fraction into an integer, NaN
-// into an integer) fail instead of clipping. Every failure throws one of the exceptions in
+// child walks all metadata first (or has walked it already: H5Walk::done), under a time
+// limit (io/detail/hdf5_sandbox.hpp), so that a crash or an endless loop inside the library
+// becomes an error; shapes and types are checked before anything is read; a dataset that
+// declares more data than the file could hold, or whose storage is missing (unwritten
+// chunks, a virtual dataset's missing source, an external raw file or external link to a
+// missing file) is refused rather than read as fill values; and conversions that would
+// change a value (out of range, a fraction into an integer, NaN into an integer) fail
+// instead of clipping. Every failure throws one of the exceptions in
 // engine/error.hpp naming the file and the dataset:
 //   MissingInputError  the file, a dataset or an attribute does not exist
 //   IoError            the file is not HDF5, is corrupt or truncated, or storage it refers
@@ -33,6 +34,9 @@
 #include "io/detail/hdf5.hpp"
 
 namespace unfurl::io {
+
+// Whether H5Reader walks the file's metadata in a child before opening it.
+enum class H5Walk { in_child, done };
 
 // The class of a stored element; readers convert between numeric classes where lossless.
 enum class H5Kind { integer, floating, string, other };
@@ -116,6 +120,10 @@ class H5Reader {
   // not exist, IoError when it is not a readable HDF5 file or the walk crashed or did not
   // finish in time; InterruptedError when `stop` is requested while waiting for the walk.
   explicit H5Reader(std::filesystem::path path, StopToken stop = {});
+  // walk == H5Walk::done: the same without the walk, for a file the caller has walked in a
+  // child already (detail::check_hdf5_files_in_child) or that this process wrote, and that
+  // it knows to be unchanged since (a work folder piece whose checksum matches its name).
+  H5Reader(std::filesystem::path path, StopToken stop, H5Walk walk);
   H5Reader(const H5Reader&) = delete;
   H5Reader& operator=(const H5Reader&) = delete;
 

@@ -54,6 +54,9 @@ std::string join_dims(const std::vector<std::size_t>& dims) {
 }  // namespace
 
 H5Reader::H5Reader(std::filesystem::path path, StopToken stop)
+    : H5Reader(std::move(path), stop, H5Walk::in_child) {}
+
+H5Reader::H5Reader(std::filesystem::path path, StopToken stop, H5Walk walk)
     : path_(std::move(path)), stop_(stop) {
   detail::quiet_hdf5_errors();
   std::error_code ec;
@@ -66,7 +69,7 @@ H5Reader::H5Reader(std::filesystem::path path, StopToken stop)
   const htri_t signature = H5Fis_hdf5(path_.c_str());
   if (signature < 0) throw MissingInputError(path_.string() + ": cannot be opened for reading");
   if (signature == 0) throw IoError(path_.string() + ": not an HDF5 file (no HDF5 signature)");
-  detail::check_hdf5_in_child(path_, stop_);
+  if (walk == H5Walk::in_child) detail::check_hdf5_in_child(path_, stop_);
   Hid fapl(H5Pcreate(H5P_FILE_ACCESS));
   // Lock when the filesystem supports it, read anyway when it does not.
   if (fapl) H5Pset_file_locking(fapl.get(), 1, 1);

@@ -12,6 +12,7 @@
 
 #include "engine/error.hpp"
 #include "io/detail/checksum.hpp"
+#include "io/detail/hdf5_sandbox.hpp"
 #include "io/detail/piece_names.hpp"
 #include "io/detail/piece_writer.hpp"
 #include "io/detail/temp_names.hpp"
@@ -86,6 +87,19 @@ std::string rows_step(std::size_t batch, const char* kind = "rows") {
   char text[48];
   std::snprintf(text, sizeof text, "%s-%04zu", kind, batch);
   return text;
+}
+
+// The pieces in `folder` of `step` (of every step when it is empty), sorted by name.
+std::vector<fs::path> pieces_of(const fs::path& folder, const std::string& step) {
+  std::error_code ec;
+  std::vector<fs::path> found;
+  for (const auto& entry : fs::directory_iterator(folder, ec)) {
+    std::string s, sum;
+    if (split_name(entry.path().filename().string(), s, sum) && (step.empty() || s == step))
+      found.push_back(entry.path());
+  }
+  std::sort(found.begin(), found.end());
+  return found;
 }
 
 std::string residual_rows_step(std::size_t batch) {
@@ -174,7 +188,14 @@ WorkFolder::WorkFolder(fs::path folder, WorkKeys keys, PieceNotice notice, StopT
   existed_ = fs::exists(folder_, ec);
   if (existed_ && !fs::is_directory(folder_, ec))
     throw OutputError(folder_.string() + ": cannot use as work folder: not a folder");
-  if (existed_) detail::remove_stale_temporaries(folder_);
+  if (!existed_) return;
+  detail::remove_stale_temporaries(folder_);
+  // Every piece's metadata walked in one child now, while the process is small, rather than
+  // in a child per piece later (detail::check_hdf5_files_in_child says why); take() opens a
+  // walked piece only once its checksum shows it unchanged since.
+  const std::vector<fs::path> pieces = pieces_of(folder_, "");
+  if (detail::check_hdf5_files_in_child(pieces, stop_))
+    walked_.insert(pieces.begin(), pieces.end());
 }
 
 void WorkFolder::damaged(const std::string& step, const fs::path& file, const std::string& why) {
@@ -194,6 +215,7 @@ void WorkFolder::report(const std::vector<detail::PieceOutcome>& outcomes) {
   for (const detail::PieceOutcome& o : outcomes) {
     if (o.kind == detail::PieceOutcome::Kind::saved) {
       ++saved_;
+      walked_.insert(o.file);  // written by this process: read back without a walk
       if (notice_) notice_(PieceEvent::saved, o.step, "");
     } else if (o.kind == detail::PieceOutcome::Kind::unsaved) {
       // The folder is a convenience: a full disk or a lost folder costs the resume, not the run.
@@ -248,15 +270,7 @@ bool WorkFolder::take(const std::string& step, const std::string& key,
                       const std::function<void(const H5Reader&)>& read) {
   const std::lock_guard<std::mutex> lock(mutex_);
   report(writer_->drain());  // a piece this run queued is on disk before it is looked for
-  std::error_code ec;
-  std::vector<fs::path> candidates;
-  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
-    std::string s, sum;
-    if (split_name(entry.path().filename().string(), s, sum) && s == step)
-      candidates.push_back(entry.path());
-  }
-  std::sort(candidates.begin(), candidates.end());
-  for (const fs::path& file : candidates) {
+  for (const fs::path& file : pieces_of(folder_, step)) {
     std::string s, sum;
     split_name(file.filename().string(), s, sum);
     try {
@@ -265,7 +279,7 @@ bool WorkFolder::take(const std::string& step, const std::string& key,
         continue;
       }
       // One open per piece: the key first, then the contents from the same reader.
-      const H5Reader in(file, stop_);
+      const H5Reader in(file, stop_, walked_.count(file) ? H5Walk::done : H5Walk::in_child);
       if (in.string_attribute("/", "key") != key) {
         if (notice_) notice_(PieceEvent::stale, step, "saved for other parameters or input");
         continue;
@@ -364,13 +378,7 @@ void WorkFolder::save_rows(std::size_t batch, const DistanceRows& rows, std::siz
 bool WorkFolder::has_residual_rows(std::size_t batch) {
   const std::lock_guard<std::mutex> lock(mutex_);
   report(writer_->drain());  // a piece this run queued is on disk before it is looked for
-  const std::string step = residual_rows_step(batch);
-  std::error_code ec;
-  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
-    std::string s, sum;
-    if (split_name(entry.path().filename().string(), s, sum) && s == step) return true;
-  }
-  return false;
+  return !pieces_of(folder_, residual_rows_step(batch)).empty();
 }
 
 bool WorkFolder::load_residual_rows(std::size_t batch, DistanceRows& rows) {
@@ -460,13 +468,8 @@ void WorkFolder::save_scores(const Assessment& scores) {
 void WorkFolder::remove() {
   flush();
   std::error_code ec;
-  std::vector<fs::path> pieces;
   if (!fs::is_directory(folder_, ec)) return;
-  for (const auto& entry : fs::directory_iterator(folder_, ec)) {
-    std::string s, sum;
-    if (split_name(entry.path().filename().string(), s, sum)) pieces.push_back(entry.path());
-  }
-  for (const fs::path& p : pieces) fs::remove(p, ec);
+  for (const fs::path& p : pieces_of(folder_, "")) fs::remove(p, ec);
   detail::remove_stale_temporaries(folder_);
   if (fs::is_empty(folder_, ec)) fs::remove(folder_, ec);
 }

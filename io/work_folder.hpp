@@ -15,8 +15,11 @@
 // temporary name (io/detail/temp_names.hpp) and renamed into place only when complete, so a
 // killed run leaves each piece whole or absent; the name's checksum is verified before HDF5
 // opens the file, so a piece torn by a crash of the machine, truncated or altered is found,
-// reported and recomputed, and the HDF5 library never reads a damaged file. Pieces are not
-// flushed to disk one by one (that would cost the run seconds): the checksum is the guard.
+// reported and recomputed, and the HDF5 library never reads a damaged file in this process.
+// (The isolated metadata walk every input file gets, io/hdf5_file.hpp, is done for all the
+// pieces at once in one child when the folder is opened, while the process is small; a
+// piece this run wrote needs none.) Pieces are not flushed to disk one by one (that would
+// cost the run seconds): the checksum is the guard.
 //
 // Saving runs beside the computation: a save writes the piece's HDF5 structure and small
 // arrays at once, and a writer thread of the folder's own (io/detail/piece_writer.hpp) puts
@@ -144,6 +147,9 @@ class WorkFolder final : public StepStore {
   // Steps saved by this run: read back (the residual rows after the map) without counting
   // as loaded, since nothing is resumed.
   std::set<std::string> saved_now_;
+  // Pieces whose metadata need no walk in a child before they are opened: walked when the
+  // folder was opened, or written by this run.
+  std::set<std::filesystem::path> walked_;
 };
 
 // A 64-bit checksum of our own (four lanes of multiply-rotate over 8-byte words, then a

@@ -13,6 +13,7 @@
 #include <csignal>
 #include <cstdlib>
 #include <cstring>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -73,11 +74,8 @@ void walk_object(hid_t object) {
   }
 }
 
-[[noreturn]] void walk_and_exit(const std::filesystem::path& file) {
-  // Die of the signal itself, silently: a crash handler inherited from the parent (a test
-  // framework's, a sanitizer's) would print a report for what is only a damaged file.
-  for (int sig : {SIGSEGV, SIGBUS, SIGFPE, SIGILL, SIGABRT}) std::signal(sig, SIG_DFL);
-  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
+// Walks one file's metadata (in the child).
+void walk_file(const std::filesystem::path& file) {
   Hid fapl(H5Pcreate(H5P_FILE_ACCESS));
   if (fapl) H5Pset_file_locking(fapl.get(), 0, 1);
   const hid_t f = H5Fopen(file.c_str(), H5F_ACC_RDONLY, fapl.get());
@@ -94,6 +92,15 @@ void walk_object(hid_t object) {
     // A library error the parent meets again and reports with its own message (an
     // unreadable listing or dataspace); only a crash or a stall is this walk's business.
   }
+  if (f >= 0) H5Fclose(f);
+}
+
+[[noreturn]] void walk_and_exit(std::span<const std::filesystem::path> files) {
+  // Die of the signal itself, silently: a crash handler inherited from the parent (a test
+  // framework's, a sanitizer's) would print a report for what is only a damaged file.
+  for (int sig : {SIGSEGV, SIGBUS, SIGFPE, SIGILL, SIGABRT}) std::signal(sig, SIG_DFL);
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
+  for (const std::filesystem::path& file : files) walk_file(file);
   ::_exit(0);  // no destructors, no atexit handlers: the parent owns all of that
 }
 
@@ -117,20 +124,30 @@ void set_hdf5_check_timeout(double seconds) {
   g_timeout_seconds.store(seconds);
 }
 
-void check_hdf5_in_child(const std::filesystem::path& file, const StopToken& stop) {
-  const double timeout = g_timeout_seconds.load();
+namespace {
+
+// How a walk in a child ended.
+struct WalkEnd {
+  enum class Kind { finished, not_isolated, timed_out, crashed, failed } kind = Kind::finished;
+  int code = 0;  // the signal (crashed) or the exit status (failed)
+};
+
+// Forks a child that walks `files` in turn and waits for it, up to `timeout` seconds.
+// InterruptedError when `stop` is requested while waiting (the child is killed).
+WalkEnd walk_in_child(std::span<const std::filesystem::path> files, double timeout,
+                      const StopToken& stop) {
   // The child holds the write end of a pipe; its exit closes it, which wakes poll() at once.
   int pipe_ends[2];
-  if (::pipe2(pipe_ends, O_CLOEXEC) != 0) return;  // cannot isolate: the checked read follows
+  if (::pipe2(pipe_ends, O_CLOEXEC) != 0) return {WalkEnd::Kind::not_isolated};
   const pid_t child = ::fork();
   if (child < 0) {
     ::close(pipe_ends[0]);
     ::close(pipe_ends[1]);
-    return;
+    return {WalkEnd::Kind::not_isolated};
   }
   if (child == 0) {
     ::close(pipe_ends[0]);
-    walk_and_exit(file);
+    walk_and_exit(files);
   }
   ::close(pipe_ends[1]);
   const auto deadline = std::chrono::steady_clock::now() + std::chrono::duration<double>(timeout);
@@ -152,20 +169,44 @@ void check_hdf5_in_child(const std::filesystem::path& file, const StopToken& sto
   if (!finished) ::kill(child, SIGKILL);
   int status = 0;
   while (::waitpid(child, &status, 0) < 0) {
-    if (errno != EINTR) return;
+    if (errno != EINTR) return {WalkEnd::Kind::not_isolated};
   }
   stop.check("checking the HDF5 file");
-  if (!finished)
-    throw IoError(file.string() + ": damaged HDF5 file: reading its metadata did not finish " +
-                  "within " + std::to_string(static_cast<int>(timeout)) + " s");
+  if (!finished) return {WalkEnd::Kind::timed_out};
   // The walk exits 0 whatever the library reports; anything else is a crash (a signal, or a
   // sanitizer's exit in instrumented builds).
-  if (WIFSIGNALED(status))
-    throw IoError(file.string() + ": damaged HDF5 file: reading its metadata crashed the HDF5 " +
-                  "library (signal " + std::to_string(WTERMSIG(status)) + ")");
+  if (WIFSIGNALED(status)) return {WalkEnd::Kind::crashed, WTERMSIG(status)};
   if (!WIFEXITED(status) || WEXITSTATUS(status) != 0)
-    throw IoError(file.string() + ": damaged HDF5 file: reading its metadata failed inside the " +
-                  "HDF5 library (exit " + std::to_string(WEXITSTATUS(status)) + ")");
+    return {WalkEnd::Kind::failed, WEXITSTATUS(status)};
+  return {};
+}
+
+}  // namespace
+
+void check_hdf5_in_child(const std::filesystem::path& file, const StopToken& stop) {
+  const double timeout = g_timeout_seconds.load();
+  const WalkEnd end = walk_in_child(std::span(&file, 1), timeout, stop);
+  switch (end.kind) {
+    case WalkEnd::Kind::finished:
+    case WalkEnd::Kind::not_isolated:  // cannot isolate: the checked read follows
+      return;
+    case WalkEnd::Kind::timed_out:
+      throw IoError(file.string() + ": damaged HDF5 file: reading its metadata did not finish " +
+                    "within " + std::to_string(static_cast<int>(timeout)) + " s");
+    case WalkEnd::Kind::crashed:
+      throw IoError(file.string() + ": damaged HDF5 file: reading its metadata crashed the HDF5 " +
+                    "library (signal " + std::to_string(end.code) + ")");
+    case WalkEnd::Kind::failed:
+      throw IoError(file.string() + ": damaged HDF5 file: reading its metadata failed inside the " +
+                    "HDF5 library (exit " + std::to_string(end.code) + ")");
+  }
+}
+
+bool check_hdf5_files_in_child(std::span<const std::filesystem::path> files,
+                               const StopToken& stop) {
+  if (files.empty()) return true;
+  const double timeout = g_timeout_seconds.load() * static_cast<double>(files.size());
+  return walk_in_child(files, timeout, stop).kind == WalkEnd::Kind::finished;
 }
 
 }  // namespace unfurl::io::detail

@@ -9,6 +9,7 @@
 #pragma once
 
 #include <filesystem>
+#include <span>
 
 #include "engine/stop.hpp"
 
@@ -19,6 +20,16 @@ namespace unfurl::io::detail {
 // send the library into an endless loop), and InterruptedError when `stop` is requested
 // while waiting (the child is killed).
 void check_hdf5_in_child(const std::filesystem::path& file, const StopToken& stop = {});
+
+// The same walk over several files in one child, for a caller about to open many (a work
+// folder's pieces): one fork of a process that is still small, instead of one per file once
+// the process holds gigabytes (each fork copies its page tables and leaves every page
+// write-protected, so that the parent's next writes fault page by page). True when every
+// walk finished; false when the child crashed, ran out of time (the limit times the file
+// count) or could not be started: the caller then checks each file alone. InterruptedError
+// when `stop` is requested while waiting.
+bool check_hdf5_files_in_child(std::span<const std::filesystem::path> files,
+                               const StopToken& stop = {});
 
 // The time allowed for the walk: 10 s by default (or UNFURL_HDF5_CHECK_SECONDS), far above
 // the milliseconds a sound file takes. Tests of damaged files lower it.

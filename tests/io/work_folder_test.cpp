@@ -12,7 +12,10 @@
 
 #include "engine/embedding.hpp"
 #include "engine/embedding_steps.hpp"
+#include "engine/error.hpp"
 #include "engine/synthetic.hpp"
+#include "io/detail/hdf5_sandbox.hpp"
+#include "io/hdf5_file.hpp"
 #include "tests/io/temp_folder.hpp"
 
 using namespace unfurl;
@@ -324,4 +327,33 @@ TEST_CASE("work folder: residual rows round-trip in place, damaged or stale ones
   back = empty_like();
   CHECK_FALSE(changed.load_residual_rows(0, back));
   CHECK(other.count(io::PieceEvent::stale) == 1);
+}
+
+TEST_CASE("several files walked in one child: true when every walk finishes, false when not",
+          "[work_folder]") {
+  // Common practice, no source: the isolated walk of a sound file and of a file HDF5 merely
+  // refuses ends normally; a walk cut off by its time limit is reported, for many files as
+  // for one.
+  test::TempFolder tmp;
+  std::vector<fs::path> files;
+  for (int i = 0; i < 3; ++i) {
+    files.push_back(tmp.path() / ("piece-" + std::to_string(i) + ".h5"));
+    io::H5Writer out(files.back());
+    out.write("/values", std::vector<float>(100, static_cast<float>(i)), {10, 10});
+    out.set_string_attribute("/", "key", "k");
+    out.close();
+  }
+  files.push_back(tmp.path() / "not-hdf5.h5");
+  std::ofstream(files.back()) << "plain text";
+  CHECK(io::detail::check_hdf5_files_in_child(files));
+  CHECK(io::detail::check_hdf5_files_in_child({}));
+  // Opened without a second walk, the walked files read as written.
+  const io::H5Reader in(files[1], {}, io::H5Walk::done);
+  CHECK(in.read<float>("/values") == std::vector<float>(100, 1.0f));
+
+  io::detail::set_hdf5_check_timeout(1e-9);  // no walk finishes in time
+  CHECK_FALSE(io::detail::check_hdf5_files_in_child(files));
+  CHECK_THROWS_AS(io::detail::check_hdf5_in_child(files[0]), IoError);
+  io::detail::set_hdf5_check_timeout(10.0);
+  CHECK(io::detail::check_hdf5_files_in_child(files));
 }
