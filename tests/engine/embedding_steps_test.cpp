@@ -115,12 +115,12 @@ TEST_CASE("order_nodes: the ordered graph keeps every edge of the kept component
   ComponentOptions co;
   co.policy = ComponentPolicy::largest;
   const ComponentResult c = make_connected(g.graph, co, g.node_points);
-  REQUIRE(c.graph.nodes() == 10);
+  REQUIRE(c.connected_graph().nodes() == 10);
   for (NodeOrder order : {NodeOrder::morton, NodeOrder::tree_leaves, NodeOrder::bfs}) {
     const OrderedGraph o = order_nodes(c, g.node_points, {order});
     CHECK(o.order == order);
     REQUIRE(o.graph.nodes() == 10);
-    CHECK(o.graph.directed_edges() == c.graph.directed_edges());
+    CHECK(o.graph.directed_edges() == c.connected_graph().directed_edges());
     const Numbering node_of_ordered = o.numbering.old_of_new.then(c.old_of_new);
     for (std::size_t u = 0; u < o.graph.nodes(); ++u)
       for (auto e = o.graph.offsets[u]; e < o.graph.offsets[u + 1]; ++e) {
