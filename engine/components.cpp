@@ -261,7 +261,7 @@ ComponentResult make_connected(const NeighbourGraph& graph, const ComponentOptio
   };
   auto identity = [&] { r.old_of_new = Numbering::identity(graph.nodes()); };
   if (labels.count <= 1) {
-    r.graph = graph;
+    r.unchanged = &graph;
     identity();
     return finish();
   }

@@ -54,11 +54,16 @@ struct ComponentSummary {
 };
 
 struct ComponentResult {
-  NeighbourGraph graph;             // connected (or the input, if it already was)
+  NeighbourGraph graph;  // connected; empty when the input already was (see below)
+  // The input itself when it was connected already: not copied (880 MB at 10M points), so
+  // the input must outlive this result. Read the graph through connected_graph().
+  const NeighbourGraph* unchanged = nullptr;
   Numbering old_of_new;             // node of the input graph for each node of `graph`
   std::vector<NodeId> dropped;      // largest: input nodes left out, ascending
   std::vector<BridgeEdge> bridges;  // bridge: edges added, shortest first
   ComponentSummary summary;
+
+  const NeighbourGraph& connected_graph() const { return unchanged ? *unchanged : graph; }
 };
 
 // node_points row v holds the coordinates of node v (bridge only; may be empty otherwise).

@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "engine/points.hpp"
+#include "engine/row_storage.hpp"
 
 namespace unfurl {
 
@@ -15,7 +16,7 @@ struct DistanceRows {
   std::size_t rows = 0;         // number of sources
   std::size_t cols = 0;         // number of graph nodes
   std::vector<NodeId> sources;  // rows entries: the node each row starts from
-  std::vector<float> values;    // rows * cols
+  RowValues values;             // rows * cols; resize leaves them unset (row_storage.hpp)
 
   float* row(std::size_t r) { return values.data() + r * cols; }
   const float* row(std::size_t r) const { return values.data() + r * cols; }

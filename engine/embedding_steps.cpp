@@ -32,8 +32,8 @@ OrderedGraph order_nodes(const ComponentResult& connected, const PointSet& node_
   PointSet connected_points;
   if (wants_points && node_points.rows > 0)
     connected_points = gather_rows(node_points, connected.old_of_new);
-  out.numbering = node_order(out.order, connected.graph, connected_points);
-  out.graph = renumber(connected.graph, out.numbering);
+  out.numbering = node_order(out.order, connected.connected_graph(), connected_points);
+  out.graph = renumber(connected.connected_graph(), out.numbering);
   return out;
 }
 

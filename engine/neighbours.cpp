@@ -82,9 +82,15 @@ std::vector<Edge> knn_edges(const std::vector<Neighbour>& lists, std::size_t str
   return edges;
 }
 
+// The position of the q-quantile in sorted order (the smallest value with at least q of the
+// values at or below it); size >= 1.
+std::size_t quantile_rank(std::size_t size, double q) {
+  const std::size_t rank = static_cast<std::size_t>(std::ceil(q * static_cast<double>(size)));
+  return rank == 0 ? 0 : std::min(size - 1, rank - 1);
+}
+
 float quantile(std::vector<float>& v, double q) {
-  const std::size_t rank = static_cast<std::size_t>(std::ceil(q * static_cast<double>(v.size())));
-  const std::size_t at = rank == 0 ? 0 : std::min(v.size() - 1, rank - 1);
+  const std::size_t at = quantile_rank(v.size(), q);
   std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(at), v.end());
   return v[at];
 }
@@ -113,9 +119,24 @@ void summarise(const NeighbourGraph& g, GraphSummary& s) {
   if (lengths.empty()) return;
   s.length_min = *std::min_element(lengths.begin(), lengths.end());
   s.length_max = *std::max_element(lengths.begin(), lengths.end());
-  s.length_p05 = quantile(lengths, 0.05);
+  // The median first: nth_element leaves the smaller values before it and the larger after,
+  // so the 5% and 95% points are then sought in one side each (the same order statistics,
+  // in about half the passes over the 57M lengths of a 10M-point graph).
+  const std::size_t middle = quantile_rank(lengths.size(), 0.5);
   s.length_median = quantile(lengths, 0.5);
-  s.length_p95 = quantile(lengths, 0.95);
+  const auto side_of = [&](double q) {
+    const std::size_t at = quantile_rank(lengths.size(), q);
+    if (at == middle) return s.length_median;
+    const auto cut = lengths.begin() + static_cast<std::ptrdiff_t>(middle);
+    const auto nth = lengths.begin() + static_cast<std::ptrdiff_t>(at);
+    if (at < middle)
+      std::nth_element(lengths.begin(), nth, cut);
+    else
+      std::nth_element(cut + 1, nth, lengths.end());
+    return *nth;
+  };
+  s.length_p05 = side_of(0.05);
+  s.length_p95 = side_of(0.95);
 }
 
 // keep_duplicates: every extra copy becomes a node of its own hanging off its group's first

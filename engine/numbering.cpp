@@ -106,7 +106,7 @@ void gather_columns(DistanceRows& rows, const Numbering& source_of_column) {
                             });
     return;
   }
-  std::vector<float> values(rows.rows * width);
+  RowValues values(rows.rows * width);  // every entry written below
   detail::parallel_chunks(rows.rows, kRowsPerChunk, {}, "map rows",
                           [&](std::size_t b, std::size_t e) {
                             for (std::size_t l = b; l < e; ++l) {

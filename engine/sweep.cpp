@@ -101,9 +101,9 @@ void embed_setting(const PointSet& points, NodeGraph nodes, const SweepOptions& 
     return;
   }
   ComponentResult connected = make_connected(nodes.graph, o.components, nodes.node_points, stop);
-  nodes.graph = NeighbourGraph{};
   append_warnings(row.warnings, "components", connected.summary.warnings);
   OrderedGraph ordered = order_nodes(connected, nodes.node_points, {o.order});
+  nodes.graph = NeighbourGraph{};  // after the order: a connected graph is not copied
   connected.graph = NeighbourGraph{};
   const Renumbering& order = ordered.numbering;
   const std::size_t n = ordered.graph.nodes();

@@ -98,7 +98,7 @@ void write_map(OutputSet& outputs, std::size_t output, const MapContents& c, H5W
     out.write("/landmarks/coords", c.landmark_coords, {l, m});
     if (c.landmark_geodesic) {
       const DistanceRows& g = *c.landmark_geodesic;
-      out.write("/landmarks/geodesic", g.values, {l, n},
+      out.write("/landmarks/geodesic", std::span<const float>(g.values), {l, n},
                 detail::layout_for_bytes(g.values.size() * 4, large));
       out.write("/landmarks/nodes", g.sources, {l});
     }
@@ -178,7 +178,8 @@ MapContents read_map(const fs::path& path, bool with_geodesic) {
     DistanceRows rows;
     rows.rows = l;
     rows.cols = n;
-    rows.values = in.read<float>("/landmarks/geodesic");
+    rows.values.resize(l * n);  // read in place: no second L x N copy
+    in.read_into<float>("/landmarks/geodesic", std::span<float>(rows.values));
     in.require_rank("/landmarks/nodes", 1);
     rows.sources = in.read<NodeId>("/landmarks/nodes");
     expect_length(in, "/landmarks/nodes", rows.sources.size(), l, "one per landmark");

@@ -73,8 +73,7 @@ PointSet column(std::vector<float> values) {
   return p;
 }
 
-DistanceRows distance_rows(std::size_t cols, std::vector<NodeId> sources,
-                           std::vector<float> values) {
+DistanceRows distance_rows(std::size_t cols, std::vector<NodeId> sources, RowValues values) {
   DistanceRows d;
   d.rows = sources.size();
   d.cols = cols;
@@ -116,12 +115,12 @@ TEST_CASE("order_nodes: the ordered graph keeps every edge of the kept component
   ComponentOptions co;
   co.policy = ComponentPolicy::largest;
   const ComponentResult c = make_connected(g.graph, co, g.node_points);
-  REQUIRE(c.graph.nodes() == 10);
+  REQUIRE(c.connected_graph().nodes() == 10);
   for (NodeOrder order : {NodeOrder::morton, NodeOrder::tree_leaves, NodeOrder::bfs}) {
     const OrderedGraph o = order_nodes(c, g.node_points, {order});
     CHECK(o.order == order);
     REQUIRE(o.graph.nodes() == 10);
-    CHECK(o.graph.directed_edges() == c.graph.directed_edges());
+    CHECK(o.graph.directed_edges() == c.connected_graph().directed_edges());
     const Numbering node_of_ordered = o.numbering.old_of_new.then(c.old_of_new);
     for (std::size_t u = 0; u < o.graph.nodes(); ++u)
       for (auto e = o.graph.offsets[u]; e < o.graph.offsets[u + 1]; ++e) {
@@ -211,7 +210,7 @@ TEST_CASE("map_to_input: duplicates, drops and landmarks back as input rows", "[
   CHECK(m.coords.values == std::vector<float>{10, 20, 20, 30});
   CHECK(m.landmark_rows == std::vector<std::size_t>{4, 1});
   REQUIRE(m.geodesic.cols == 4);
-  CHECK(m.geodesic.values == std::vector<float>{2, 1, 1, 0, 1, 0, 0, 1});
+  CHECK(m.geodesic.values == RowValues{2, 1, 1, 0, 1, 0, 0, 1});
   CHECK(m.geodesic.sources == std::vector<NodeId>{3, 1});  // node 1's first map row is 1
 }
 
@@ -225,7 +224,7 @@ TEST_CASE("map_to_input: without duplicates the rows are permuted in place", "[s
   const std::vector<NodeId> landmarks{0};
   const InputMap m = map_to_input(coords, std::move(geo), landmarks, node_of_point, point_of_node);
   CHECK(m.coords.values == std::vector<float>{9, 8, 7});
-  CHECK(m.geodesic.values == std::vector<float>{2, 1, 0});
+  CHECK(m.geodesic.values == RowValues{2, 1, 0});
   CHECK(m.geodesic.sources == std::vector<NodeId>{2});
   CHECK(m.landmark_rows == std::vector<std::size_t>{2});
   CHECK(m.geodesic.values.data() == before);  // the L x N rows exist once

@@ -81,11 +81,11 @@ TEST_CASE("numbering: gather_columns permutes in place and widens into a new arr
   d.values = {10, 11, 12, 20, 21, 22};
   const float* before = d.values.data();
   gather_columns(d, Numbering({2, 0, 1}, 3));
-  CHECK(d.values == std::vector<float>{12, 10, 11, 22, 20, 21});
+  CHECK(d.values == RowValues{12, 10, 11, 22, 20, 21});
   // Same width: rewritten in place, so the rows exist once (the memory contract).
   CHECK(d.values.data() == before);
   CHECK(d.sources == std::vector<NodeId>{0, 2});
   gather_columns(d, Numbering({0, 0, 2, 1}, 3));  // a duplicate column widens the rows
   CHECK(d.cols == 4);
-  CHECK(d.values == std::vector<float>{12, 12, 11, 10, 22, 22, 21, 20});
+  CHECK(d.values == RowValues{12, 12, 11, 10, 22, 22, 21, 20});
 }

@@ -430,9 +430,9 @@ TEST_CASE("quality stages refuse bad input with a message naming the fault", "[q
   CHECK_THROWS_AS(neighbourhood_scores(PointSet{}, PointSet{}, options_for({3})), DataError);
 
   // Residual variance: wrong shape, and a NaN found inside the parallel loop (rethrown).
-  DistanceRows rows{1, 39, {0}, std::vector<float>(39, 1.0f)};
+  DistanceRows rows{1, 39, {0}, RowValues(39, 1.0f)};
   CHECK_THROWS_AS(residual_variance(rows, roll.truth), DataError);
-  DistanceRows nan_rows{2, 40, {0, 5}, std::vector<float>(80, 1.0f)};
+  DistanceRows nan_rows{2, 40, {0, 5}, RowValues(80, 1.0f)};
   nan_rows.values[40 + 7] = std::numeric_limits<float>::quiet_NaN();
   CHECK_THROWS_WITH(residual_variance(nan_rows, roll.truth),
                     Catch::Contains("row 1") && Catch::Contains("column 7"));
@@ -450,6 +450,6 @@ TEST_CASE("quality scoring stops on request", "[quality]") {
   std::atomic<bool> flag{true};
   CHECK_THROWS_AS(neighbourhood_scores(roll.points, roll.truth, options_for({5}), StopToken{&flag}),
                   InterruptedError);
-  DistanceRows rows{1, 200, {0}, std::vector<float>(200, 1.0f)};
+  DistanceRows rows{1, 200, {0}, RowValues(200, 1.0f)};
   CHECK_THROWS_AS(residual_variance(rows, roll.truth, StopToken{&flag}), InterruptedError);
 }

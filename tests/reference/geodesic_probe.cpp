@@ -16,6 +16,7 @@
 #include <cstdio>
 #include <fstream>
 #include <iostream>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -58,7 +59,7 @@ unfurl::NeighbourGraph read_graph(const std::string& path) {
   return unfurl::test::graph_from_edges(n, edges);
 }
 
-void write_floats(const std::string& path, const std::vector<float>& v) {
+void write_floats(const std::string& path, std::span<const float> v) {
   std::ofstream out(path, std::ios::binary);
   out.write(reinterpret_cast<const char*>(v.data()),
             static_cast<std::streamsize>(v.size() * sizeof(float)));
