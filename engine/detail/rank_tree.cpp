@@ -15,41 +15,58 @@ RankTree::RankTree(const PointSet& points) : points_(points), d_(points.cols) {
   const std::size_t n = points.rows;
   order_.resize(n);
   for (std::size_t i = 0; i < n; ++i) order_[i] = static_cast<NodeId>(i);
+  rows_.assign(points.values.begin(), points.values.begin() + static_cast<std::ptrdiff_t>(n * d_));
   nodes_.reserve(2 * (n / kLeaf + 1));
-  build(0, n);
+  Scratch scratch;
+  scratch.keys.reserve(n);
+  scratch.ids.resize(n);
+  scratch.rows.resize(n * d_);
+  build(0, n, scratch);
   where_.resize(n);
-  rows_.resize(n * d_);
-  for (std::size_t p = 0; p < n; ++p) {
-    where_[order_[p]] = static_cast<NodeId>(p);
-    std::copy_n(points.row(order_[p]), d_, rows_.data() + p * d_);
-  }
+  for (std::size_t p = 0; p < n; ++p) where_[order_[p]] = static_cast<NodeId>(p);
 }
 
-std::size_t RankTree::build(std::size_t begin, std::size_t end) {
+// The points move with their ids (rows_ in step with order_), so every level reads them in
+// sequence instead of gathering each from the input (at 10M points the two trees' builds were
+// 9% of a profiled run's CPU; this takes about 0.6 of their time). The split is std::nth_element
+// over (key, position) pairs compared by key alone: the same comparisons and moves as over the ids
+// compared by their points' keys, hence the same tree as before, bit for bit.
+std::size_t RankTree::build(std::size_t begin, std::size_t end, Scratch& scratch) {
   const std::size_t id = nodes_.size();
   nodes_.push_back({begin, end});
   low_.resize(low_.size() + d_, std::numeric_limits<float>::infinity());
   high_.resize(high_.size() + d_, -std::numeric_limits<float>::infinity());
-  for (std::size_t p = begin; p < end; ++p)
+  float* low = low_.data() + id * d_;
+  float* high = high_.data() + id * d_;
+  for (const float* row = rows_.data() + begin * d_; row != rows_.data() + end * d_; row += d_)
     for (std::size_t c = 0; c < d_; ++c) {
-      const float v = points_.row(order_[p])[c];
-      low_[id * d_ + c] = std::min(low_[id * d_ + c], v);
-      high_[id * d_ + c] = std::max(high_[id * d_ + c], v);
+      low[c] = std::min(low[c], row[c]);
+      high[c] = std::max(high[c], row[c]);
     }
   if (end - begin <= kLeaf) return id;
   std::size_t axis = 0;
   float widest = -1;
   for (std::size_t c = 0; c < d_; ++c)
-    if (high_[id * d_ + c] - low_[id * d_ + c] > widest)
-      widest = high_[id * d_ + c] - low_[id * d_ + c], axis = c;
+    if (high[c] - low[c] > widest) widest = high[c] - low[c], axis = c;
   if (!(widest > 0)) return id;  // all points equal: one leaf
   const std::size_t mid = begin + (end - begin) / 2;
-  std::nth_element(order_.begin() + static_cast<std::ptrdiff_t>(begin),
-                   order_.begin() + static_cast<std::ptrdiff_t>(mid),
-                   order_.begin() + static_cast<std::ptrdiff_t>(end),
-                   [&](NodeId a, NodeId b) { return points_.row(a)[axis] < points_.row(b)[axis]; });
-  const std::size_t left = build(begin, mid);
-  const std::size_t right = build(mid, end);
+  auto& keys = scratch.keys;
+  keys.clear();
+  for (std::size_t p = begin; p < end; ++p)
+    keys.push_back({rows_[p * d_ + axis], static_cast<NodeId>(p)});
+  std::nth_element(keys.begin(), keys.begin() + static_cast<std::ptrdiff_t>(mid - begin),
+                   keys.end(), [](const Keyed& a, const Keyed& b) { return a.key < b.key; });
+  for (std::size_t i = 0; i < keys.size(); ++i) {
+    const std::size_t from = keys[i].position;
+    scratch.ids[i] = order_[from];
+    std::copy_n(rows_.data() + from * d_, d_, scratch.rows.data() + i * d_);
+  }
+  std::copy_n(scratch.ids.begin(), keys.size(),
+              order_.begin() + static_cast<std::ptrdiff_t>(begin));
+  std::copy_n(scratch.rows.begin(), keys.size() * d_,
+              rows_.begin() + static_cast<std::ptrdiff_t>(begin * d_));
+  const std::size_t left = build(begin, mid, scratch);
+  const std::size_t right = build(mid, end, scratch);
   nodes_[id].left = left;
   nodes_[id].right = right;
   return id;

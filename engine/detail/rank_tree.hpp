@@ -29,7 +29,16 @@ class RankTree {
     std::size_t begin, end;           // positions in order_
     std::size_t left = 0, right = 0;  // children (0: a leaf; the root is never a child)
   };
-  std::size_t build(std::size_t begin, std::size_t end);
+  struct Keyed {
+    float key;
+    NodeId position;
+  };
+  struct Scratch {  // one build's working space, reused by every node
+    std::vector<Keyed> keys;
+    std::vector<NodeId> ids;
+    std::vector<float> rows;
+  };
+  std::size_t build(std::size_t begin, std::size_t end, Scratch& scratch);
   // Squared distance to the box's nearest or farthest corner, rounded as points' distances.
   double box_distance(const double* q, std::size_t node, bool farthest) const;
   void search(const double* q, std::size_t self, std::size_t node, std::size_t count,
