@@ -6,6 +6,8 @@
 
 #include <fmt/core.h>
 
+#include "engine/short_circuit.hpp"
+
 namespace unfurl::app {
 namespace {
 
@@ -81,8 +83,20 @@ io::WorkKeys work_keys(const GlobalOptions& g, const EmbedArgs& a, const json& i
                 {"mutual", a.graph.mutual},
                 {"search", a.graph.search},
                 {"keep_duplicates", a.graph.keep_duplicates}};
-  // Components and node order run again on resume but decide which nodes the landmarks are;
-  // dims sets the automatic landmark count. Threads do not change results, so are not here.
+  // Short circuits, components and node order: the command runs the engine's default
+  // short-circuit check. Threads do not change results, so are not here.
+  const ShortCircuitOptions suspects;
+  json nodes = {{"graph", graph},
+                {"short_circuits",
+                 {{"length_factor", suspects.length_factor},
+                  {"detour_factor", suspects.detour_factor},
+                  {"max_settled", suspects.max_settled},
+                  {"worst", suspects.worst}}},
+                {"disconnected", a.graph.disconnected},
+                {"node_order", a.map.node_order},
+                {"step", "nodes"}};
+  // Components and node order decide which nodes the landmarks are; dims sets the automatic
+  // landmark count.
   json landmarks = {{"graph", graph},
                     {"disconnected", a.graph.disconnected},
                     {"node_order", a.map.node_order},
@@ -105,8 +119,8 @@ io::WorkKeys work_keys(const GlobalOptions& g, const EmbedArgs& a, const json& i
                         {"node_order", a.map.node_order},
                         {"residual_seed", g.seed},
                         {"step", "residual rows"}};
-  return {graph.dump(),    landmarks.dump(), map.dump(),
-          residual.dump(), scores.dump(),    residual_rows.dump()};
+  return {graph.dump(),  landmarks.dump(),     map.dump(),  residual.dump(),
+          scores.dump(), residual_rows.dump(), nodes.dump()};
 }
 
 WorkRun::WorkRun(const GlobalOptions& g, const WorkArgs& w, const EmbedArgs& a,

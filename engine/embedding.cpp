@@ -48,26 +48,6 @@ std::vector<std::size_t> batch_starts(std::size_t rows) {
   return first;
 }
 
-// Flushes the store when an exception unwinds past it, not on the way out: the caller keeps the
-// arrays lent to the store alive and flushes later, so a batch's write overlaps what comes next.
-class FlushOnUnwind {
- public:
-  explicit FlushOnUnwind(StepStore& store) : store_(store) {}
-  ~FlushOnUnwind() {
-    if (std::uncaught_exceptions() == unwinding_) return;
-    try {
-      store_.flush();
-    } catch (...) {  // a failed save is the store's to report; nothing to add while unwinding
-    }
-  }
-  FlushOnUnwind(const FlushOnUnwind&) = delete;
-  FlushOnUnwind& operator=(const FlushOnUnwind&) = delete;
-
- private:
-  StepStore& store_;
-  int unwinding_ = std::uncaught_exceptions();
-};
-
 // Maxmin with nothing saved: the rows are computed beside the choice, as source_rows does,
 // and saved as they come: the choice as soon as it is made, each batch once all its rows are
 // done (batches finish in any order; those done before the choice wait for it, so that a
@@ -120,7 +100,8 @@ SourceRows stored_source_rows(const NeighbourGraph& ordered, std::span<const Nod
   lo.draw_order = draw_order;
   SourceRows out;
   LandmarkResult picked;
-  const FlushOnUnwind flushed(store);  // after the rows it guards: runs before they are freed
+  // After the rows it guards: runs before they are freed.
+  const StoreFlush flushed(&store, StoreFlush::on_unwind);
   std::optional<LandmarkResult> saved = store.load_landmarks();
   const std::size_t count = lo.resolved_count(ordered.nodes());
   if (saved && (saved->rows.rows != count || saved->rows.cols != ordered.nodes() ||
@@ -223,40 +204,53 @@ ResidualVarianceCurve stored_residual(const NeighbourGraph& ordered, const Resid
       stop);
 }
 
-// The steps after the graph (engine/embedding_steps.hpp). node_of_point: input row -> graph
-// node; point_of_node: graph node -> representative row; node_points: row v the point of
-// node v, or empty for a given graph.
-EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_point,
-                        const Numbering& point_of_node, const PointSet& node_points,
-                        const EmbedOptions& options, StopToken stop, StepStore* store,
-                        EmbedResult result, const Stopwatch& total) {
+// Short circuits, components and node order of `graph` (engine/embedding_steps.hpp), with the
+// graph step's numberings moved in. node_points: row v the point of node v, or empty for a
+// given graph.
+NodesStep make_nodes(const NeighbourGraph& graph, const PointSet& node_points,
+                     const EmbedOptions& options, StopToken stop, StageSeconds& seconds,
+                     NodesStep step) {
   if (options.short_circuits) {
-    const ProgressStep step = stop.step("short circuits", 0);
-    result.short_circuits = find_short_circuits(graph, *options.short_circuits, stop);
-    result.seconds.short_circuits = result.short_circuits->summary.seconds;
-    for (ShortCircuitEdge& e : result.short_circuits->worst)
-      e.from = point_of_node[e.from], e.to = point_of_node[e.to];
+    const ProgressStep progress = stop.step("short circuits", 0);
+    step.short_circuits = find_short_circuits(graph, *options.short_circuits, stop);
+    seconds.short_circuits = step.short_circuits->summary.seconds;
   }
   Stopwatch watch;
   ComponentResult connected = [&] {
-    const ProgressStep step = stop.step("components", 0);
+    const ProgressStep progress = stop.step("components", 0);
     return make_connected(graph, options.components, node_points, stop);
   }();
-  result.seconds.components = watch.seconds();
-  result.components = connected.summary;
-  append_warnings(result.warnings, "components", connected.summary.warnings);
-  for (const BridgeEdge& e : connected.bridges)
-    result.bridges.push_back({point_of_node[e.from], point_of_node[e.to], e.length});
-
+  seconds.components = watch.seconds();
   watch = Stopwatch();
-  OrderedGraph ordered = [&] {
-    const ProgressStep step = stop.step("node order", 0);
+  step.ordered = [&] {
+    const ProgressStep progress = stop.step("node order", 0);
     return order_nodes(connected, node_points, {options.order});
   }();
-  connected.graph = NeighbourGraph{};
+  seconds.order = watch.seconds();
+  step.components = std::move(connected.summary);
+  step.bridges = std::move(connected.bridges);
+  step.connected_of_node = std::move(connected.old_of_new);
+  return step;
+}
+
+// The steps after the nodes step (engine/embedding_steps.hpp). The store, if any, may still
+// be writing the nodes step's arrays: the caller flushes it before they go.
+EmbedResult embed_nodes(const NodesStep& nodes, const EmbedOptions& options, StopToken stop,
+                        StepStore* store, EmbedResult result, const Stopwatch& total) {
+  const Numbering& point_of_node = nodes.point_of_node;
+  if (nodes.short_circuits) {
+    result.short_circuits = nodes.short_circuits;
+    for (ShortCircuitEdge& e : result.short_circuits->worst)
+      e.from = point_of_node[e.from], e.to = point_of_node[e.to];
+  }
+  result.components = nodes.components;
+  append_warnings(result.warnings, "components", nodes.components.warnings);
+  for (const BridgeEdge& e : nodes.bridges)
+    result.bridges.push_back({point_of_node[e.from], point_of_node[e.to], e.length});
+  const OrderedGraph& ordered = nodes.ordered;
   result.order = ordered.order;
-  result.seconds.order = watch.seconds();
   const Renumbering& order = ordered.numbering;
+  Stopwatch watch;
 
   // With a step store (landmark mode) the residual variance's rows come before the landmark
   // rows, unless its curve is saved already.
@@ -334,9 +328,9 @@ EmbedResult embed_nodes(const NeighbourGraph& graph, const Numbering& node_of_po
 
   watch = Stopwatch();
   const Numbering ordered_of_point =
-      node_of_point.then(connected.old_of_new.inverse()).then(order.new_of_old);
+      nodes.node_of_point.then(nodes.connected_of_node.inverse()).then(order.new_of_old);
   const Numbering point_of_ordered =
-      order.old_of_new.then(connected.old_of_new).then(point_of_node);
+      order.old_of_new.then(nodes.connected_of_node).then(point_of_node);
   InputMap back = map_to_input(map.coords, std::move(sources.rows), landmark_nodes,
                                ordered_of_point, point_of_ordered);
   result.coords = std::move(back.coords);
@@ -369,24 +363,44 @@ EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, St
   options.validate(points.rows);
   EmbedResult result;
   Stopwatch watch;
-  std::optional<NodeGraph> saved = store ? store->load_graph() : std::nullopt;
+  // The nodes step first: a store that holds it spares reading the graph (and its steps).
+  std::optional<NodesStep> kept = store ? store->load_nodes() : std::nullopt;
+  if (kept && (kept->node_of_point.size() != points.rows || !kept->graph))
+    throw InternalError("saved nodes do not fit the points");
+  std::optional<NodeGraph> saved;
+  if (!kept && store) saved = store->load_graph();
   if (saved && saved->node_of_point.size() != points.rows)
     throw InternalError("saved graph does not fit the points");
-  NodeGraph nodes;
-  const StoreFlush flushed(store);  // the saved graph's arrays live until it has run
-  if (saved) {
-    nodes = std::move(*saved);
-    nodes.node_points = gather_rows(points, nodes.point_of_node);
+  NodeGraph built;
+  NodesStep step;
+  // Declared after every array lent to the store (the graph's, the nodes step's): flushes
+  // before they go.
+  const StoreFlush flushed(store);
+  if (kept) {
+    step = std::move(*kept);
+    result.seconds.order = watch.seconds();  // taken back in the node order's place
   } else {
-    nodes = node_graph(points, options.graph, stop);
-    if (store) store->save_graph(nodes);
+    if (saved) {
+      built = std::move(*saved);
+      built.node_points = gather_rows(points, built.point_of_node);
+    } else {
+      built = node_graph(points, options.graph, stop);
+      if (store) store->save_graph(built);
+    }
+    result.seconds.graph = watch.seconds();
+    // The numberings stay where the graph piece may be reading them: a move keeps the buffers.
+    step.node_of_point = std::move(built.node_of_point);
+    step.point_of_node = std::move(built.point_of_node);
+    step.graph = built.summary;
+    step.dimension = std::move(built.dimension);
+    step =
+        make_nodes(built.graph, built.node_points, options, stop, result.seconds, std::move(step));
+    if (store) store->save_nodes(step);
   }
-  result.seconds.graph = watch.seconds();
-  result.graph = nodes.summary;
-  result.dimension = std::move(nodes.dimension);
-  append_warnings(result.warnings, "graph", nodes.summary.warnings);
-  return embed_nodes(nodes.graph, nodes.node_of_point, nodes.point_of_node, nodes.node_points,
-                     options, stop, store, std::move(result), total);
+  result.graph = step.graph;
+  result.dimension = step.dimension;
+  append_warnings(result.warnings, "graph", step.graph->warnings);
+  return embed_nodes(step, options, stop, store, std::move(result), total);
 }
 
 EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options, StopToken stop,
@@ -396,8 +410,23 @@ EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options
   if (options.components.policy == ComponentPolicy::bridge)
     throw OptionError("ComponentOptions.policy",
                       "bridge needs points; a given graph has none (use largest)");
-  const Numbering identity = Numbering::identity(graph.nodes());
-  return embed_nodes(graph, identity, identity, {}, options, stop, store, EmbedResult{}, total);
+  EmbedResult result;
+  const Stopwatch watch;
+  std::optional<NodesStep> kept = store ? store->load_nodes() : std::nullopt;
+  if (kept && (kept->node_of_point.size() != graph.nodes() || kept->graph))
+    throw InternalError("saved nodes do not fit the graph");
+  NodesStep step;
+  const StoreFlush flushed(store);  // after the nodes step's arrays: flushes before they go
+  if (kept) {
+    step = std::move(*kept);
+    result.seconds.order = watch.seconds();
+  } else {
+    step.node_of_point = Numbering::identity(graph.nodes());
+    step.point_of_node = Numbering::identity(graph.nodes());
+    step = make_nodes(graph, {}, options, stop, result.seconds, std::move(step));
+    if (store) store->save_nodes(step);
+  }
+  return embed_nodes(step, options, stop, store, std::move(result), total);
 }
 
 }  // namespace unfurl

@@ -4,21 +4,23 @@
 // never learns where or how it is kept. Which parameters a saved result belongs to is the
 // store's business: a load returns nothing when no whole result for this run is kept.
 //
-// Saved steps: the neighbour graph, the residual variance's source rows in batches, the
-// landmark choice, the landmark rows in batches (exact mode: none of these three), the map
-// (spectrum and coordinates with the landmarks they came from), the residual variance curve,
-// and the scores (asked for by apps/, which runs them).
-// Components and node order are recomputed from the graph: deterministic and short. With the
-// map saved, the rows are not read back unless the result must carry them.
+// Saved steps: the neighbour graph, the nodes the rows run over (short circuits, components
+// and node order, with the graph step's numberings and summaries: a run that takes them back
+// reads no graph), the residual variance's source rows in batches, the landmark choice, the
+// landmark rows in batches (exact mode: none of these three), the map (spectrum and
+// coordinates with the landmarks they came from), the residual variance curve, and the scores
+// (asked for by apps/, which runs them). With the map saved, the rows are not read back
+// unless the result must carry them.
 //
 // A store may save in the background. Calls come from one thread at a time, not always the
-// same one (row batches are saved by the thread that finished them). save_graph, save_rows and
-// save_residual_rows may keep reading the arrays they were given until flush() returns, so the
-// engine keeps them alive and unchanged until then: a StoreFlush declared after them flushes before
-// they go, also when an exception unwinds.
+// same one (row batches are saved by the thread that finished them). save_graph, save_nodes,
+// save_rows and save_residual_rows may keep reading the arrays they were given until flush()
+// returns, so the engine keeps them alive and unchanged until then: a StoreFlush declared after
+// them flushes before they go, also when an exception unwinds.
 #pragma once
 
 #include <cstddef>
+#include <exception>
 #include <optional>
 #include <vector>
 
@@ -27,9 +29,24 @@
 #include "engine/embedding_steps.hpp"
 #include "engine/landmarks.hpp"
 #include "engine/quality_residual.hpp"
+#include "engine/short_circuit.hpp"
 #include "engine/spectral.hpp"
 
 namespace unfurl {
+
+// The nodes step: what short circuits, components and node order make of the graph, and what
+// the steps after them read of the graph step. Node ids are the graph's (before components).
+struct NodesStep {
+  Numbering node_of_point;                      // the graph step's (identity for a given graph)
+  Numbering point_of_node;                      // the graph step's
+  std::optional<GraphSummary> graph;            // the graph step's (absent for a given graph)
+  std::optional<IntrinsicDimension> dimension;  // the graph step's
+  std::optional<ShortCircuitResult> short_circuits;  // with EmbedOptions.short_circuits
+  ComponentSummary components;
+  std::vector<BridgeEdge> bridges;
+  Numbering connected_of_node;  // graph node of each connected node (ComponentResult.old_of_new)
+  OrderedGraph ordered;         // the connected graph in node order
+};
 
 // The map step: what map_nodes gave and the landmarks it was made from.
 struct MapStep {
@@ -45,6 +62,10 @@ class StepStore {
   // The graph step; node_points is left empty (the caller gathers it again from the points).
   virtual std::optional<NodeGraph> load_graph() = 0;
   virtual void save_graph(const NodeGraph& graph) = 0;
+
+  // The nodes step. A store that holds it need not be asked for the graph.
+  virtual std::optional<NodesStep> load_nodes() = 0;
+  virtual void save_nodes(const NodesStep& nodes) = 0;
 
   // The landmark choice of choose_landmarks: sources and summary, rows.values empty.
   virtual std::optional<LandmarkResult> load_landmarks() = 0;
@@ -83,13 +104,18 @@ class StepStore {
   virtual void flush() {}
 };
 
-// Flushes a store (if any) when it goes out of scope, normally or by an exception.
+// Flushes a store (if any) when it goes out of scope: always, or only when an exception
+// unwinds past it (the caller then keeps the arrays lent to the store alive and flushes later
+// itself, so that a write overlaps what comes next).
 class StoreFlush {
  public:
-  explicit StoreFlush(StepStore* store) : store_(store) {}
+  enum When { always, on_unwind };
+  explicit StoreFlush(StepStore* store, When when = always)
+      : store_(store), unwinding_(when == always ? -1 : std::uncaught_exceptions()) {}
   ~StoreFlush() {
+    if (!store_ || std::uncaught_exceptions() == unwinding_) return;
     try {
-      if (store_) store_->flush();
+      store_->flush();
     } catch (...) {  // a failed save is the store's to report; nothing to add while unwinding
     }
   }
@@ -98,6 +124,7 @@ class StoreFlush {
 
  private:
   StepStore* store_;
+  int unwinding_;  // -1: always; else the exceptions in flight when made
 };
 
 }  // namespace unfurl

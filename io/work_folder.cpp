@@ -2,9 +2,11 @@
 
 #include <algorithm>
 #include <bit>
+#include <cmath>
 #include <cstdio>
 #include <cstring>
 #include <fstream>
+#include <limits>
 #include <system_error>
 #include <vector>
 
@@ -26,6 +28,11 @@ NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(GraphSummary, nodes, directed_edges, undirect
                                    degree_min, degree_median, degree_max, length_min, length_p05,
                                    length_median, length_p95, length_max, isolated_nodes,
                                    duplicate_groups, duplicate_rows, search_used, seconds, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(ShortCircuitSummary, edges, long_edges, suspects, undecided,
+                                   length_factor, detour_factor, seconds, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(ComponentSummary, components, sizes, dropped_nodes, bridges,
+                                   seconds, warnings)
+NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(BridgeEdge, from, to, length)
 NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(IntrinsicDimension, estimate, k, averaging, points, points_used,
                                    points_skipped, warnings)
 NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(LandmarkSummary, landmarks, nodes, pick, coverage_radius,
@@ -44,6 +51,30 @@ NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(NeighbourhoodScore, k, trustworthiness, conti
                                    t_terms, c_terms, knn_terms)
 NLOHMANN_DEFINE_TYPE_NON_INTRUSIVE(NeighbourhoodScores, by_k, points, queries, method, threads,
                                    seconds, warnings)
+
+// A suspect by hand: JSON has no infinity, the detour of one whose search never reached the
+// other end (null here).
+void to_json(nlohmann::json& j, const ShortCircuitEdge& e) {
+  j = {{"from", e.from},
+       {"to", e.to},
+       {"length", e.length},
+       {"scale_from", e.scale_from},
+       {"scale_to", e.scale_to},
+       {"detour", std::isinf(e.detour) ? nlohmann::json() : nlohmann::json(e.detour)},
+       {"detour_bound", e.detour_bound},
+       {"separates", e.separates}};
+}
+void from_json(const nlohmann::json& j, ShortCircuitEdge& e) {
+  j.at("from").get_to(e.from);
+  j.at("to").get_to(e.to);
+  j.at("length").get_to(e.length);
+  j.at("scale_from").get_to(e.scale_from);
+  j.at("scale_to").get_to(e.scale_to);
+  e.detour = j.at("detour").is_null() ? std::numeric_limits<double>::infinity()
+                                      : j.at("detour").get<double>();
+  j.at("detour_bound").get_to(e.detour_bound);
+  j.at("separates").get_to(e.separates);
+}
 
 // Assessment by hand: its optional members.
 void to_json(nlohmann::json& j, const Assessment& a) {
@@ -128,6 +159,23 @@ void lend(H5Writer& out, Lending& lent, const std::string& dataset, std::span<co
           const std::vector<std::size_t>& dims) {
   const std::uint64_t at = out.reserve<T>(dataset, dims);
   if (!values.empty()) lent.push_back({at, std::as_bytes(values)});
+}
+
+// A graph's CSR arrays, as the graph and nodes pieces hold them.
+void lend_graph(H5Writer& out, Lending& lent, const NeighbourGraph& g) {
+  lend(out, lent, "/offsets", std::span(g.offsets), {g.offsets.size()});
+  lend(out, lent, "/targets", std::span(g.targets), {g.targets.size()});
+  lend(out, lent, "/lengths", std::span(g.lengths), {g.lengths.size()});
+}
+NeighbourGraph read_graph(const H5Reader& in) {
+  NeighbourGraph g;
+  g.offsets = in.read<std::int64_t>("/offsets");
+  g.targets = in.read<std::uint32_t>("/targets");
+  g.lengths = in.read<float>("/lengths");
+  if (g.nodes() == 0 || g.targets.size() != g.lengths.size() ||
+      static_cast<std::size_t>(g.offsets.back()) != g.targets.size())
+    throw DataError("graph arrays disagree in size");
+  return g;
 }
 
 }  // namespace
@@ -302,13 +350,8 @@ bool WorkFolder::take(const std::string& step, const std::string& key,
 std::optional<NodeGraph> WorkFolder::load_graph() {
   NodeGraph g;
   const bool taken = take("graph", keys_.graph, [&](const H5Reader& in) {
-    g.graph.offsets = in.read<std::int64_t>("/offsets");
-    g.graph.targets = in.read<std::uint32_t>("/targets");
-    g.graph.lengths = in.read<float>("/lengths");
+    g.graph = read_graph(in);
     const std::size_t nodes = g.graph.nodes();
-    if (nodes == 0 || g.graph.targets.size() != g.graph.lengths.size() ||
-        static_cast<std::size_t>(g.graph.offsets.back()) != g.graph.targets.size())
-      throw DataError("graph arrays disagree in size");
     std::vector<std::uint32_t> of_point = in.read<std::uint32_t>("/node_of_point");
     std::vector<std::uint32_t> of_node = in.read<std::uint32_t>("/point_of_node");
     const std::size_t points = of_point.size();
@@ -325,13 +368,67 @@ std::optional<NodeGraph> WorkFolder::load_graph() {
 
 void WorkFolder::save_graph(const NodeGraph& g) {
   save_lending("graph", keys_.graph, [&](H5Writer& out, Lending& lent) {
-    lend(out, lent, "/offsets", std::span(g.graph.offsets), {g.graph.offsets.size()});
-    lend(out, lent, "/targets", std::span(g.graph.targets), {g.graph.targets.size()});
-    lend(out, lent, "/lengths", std::span(g.graph.lengths), {g.graph.lengths.size()});
+    lend_graph(out, lent, g.graph);
     lend(out, lent, "/node_of_point", g.node_of_point.values(), {g.node_of_point.size()});
     lend(out, lent, "/point_of_node", g.point_of_node.values(), {g.point_of_node.size()});
     json s = {{"graph", g.summary}};
     if (g.dimension) s["dimension"] = *g.dimension;
+    out.set_string_attribute("/", "summary", s.dump());
+  });
+}
+
+std::optional<NodesStep> WorkFolder::load_nodes() {
+  NodesStep n;
+  const bool taken = take("nodes", keys_.nodes, [&](const H5Reader& in) {
+    n.ordered.graph = read_graph(in);
+    const std::size_t nodes = n.ordered.graph.nodes();
+    std::vector<std::uint32_t> new_of_old = in.read<std::uint32_t>("/new_of_old");
+    std::vector<std::uint32_t> connected = in.read<std::uint32_t>("/connected_of_node");
+    std::vector<std::uint32_t> of_point = in.read<std::uint32_t>("/node_of_point");
+    std::vector<std::uint32_t> of_node = in.read<std::uint32_t>("/point_of_node");
+    const std::size_t graph_nodes = of_node.size(), points = of_point.size();
+    if (new_of_old.size() != nodes || connected.size() != nodes)
+      throw DataError("numberings disagree with the graph");
+    n.ordered.numbering.new_of_old = Numbering(std::move(new_of_old), nodes);
+    n.ordered.numbering.old_of_new = n.ordered.numbering.new_of_old.inverse();
+    if (!n.ordered.numbering.old_of_new.missing().empty())
+      throw DataError("the node order is not a permutation");
+    n.connected_of_node = Numbering(std::move(connected), graph_nodes);
+    n.node_of_point = Numbering(std::move(of_point), graph_nodes);
+    n.point_of_node = Numbering(std::move(of_node), points);
+    const json s = json::parse(in.string_attribute("/", "summary"));
+    if (s.contains("graph")) n.graph = s["graph"].get<GraphSummary>();
+    if (s.contains("dimension")) n.dimension = s["dimension"].get<IntrinsicDimension>();
+    if (s.contains("short_circuits")) {
+      n.short_circuits.emplace();
+      s["short_circuits"].at("summary").get_to(n.short_circuits->summary);
+      s["short_circuits"].at("worst").get_to(n.short_circuits->worst);
+    }
+    s.at("components").get_to(n.components);
+    s.at("bridges").get_to(n.bridges);
+    n.ordered.order = static_cast<NodeOrder>(s.at("order").get<int>());
+  });
+  if (!taken) return std::nullopt;
+  return n;
+}
+
+void WorkFolder::save_nodes(const NodesStep& n) {
+  save_lending("nodes", keys_.nodes, [&](H5Writer& out, Lending& lent) {
+    lend_graph(out, lent, n.ordered.graph);
+    const Numbering& order = n.ordered.numbering.new_of_old;
+    lend(out, lent, "/new_of_old", order.values(), {order.size()});
+    lend(out, lent, "/connected_of_node", n.connected_of_node.values(),
+         {n.connected_of_node.size()});
+    lend(out, lent, "/node_of_point", n.node_of_point.values(), {n.node_of_point.size()});
+    lend(out, lent, "/point_of_node", n.point_of_node.values(), {n.point_of_node.size()});
+    json s = {{"components", n.components},
+              {"bridges", n.bridges},
+              {"order", static_cast<int>(n.ordered.order)}};
+    if (n.graph) s["graph"] = *n.graph;
+    if (n.dimension) s["dimension"] = *n.dimension;
+    if (n.short_circuits)
+      s["short_circuits"] = {{"summary", n.short_circuits->summary},
+                             {"worst", n.short_circuits->worst}};
     out.set_string_attribute("/", "summary", s.dump());
   });
 }

@@ -2,6 +2,9 @@
 // (engine/step_store.hpp), one HDF5 file per piece:
 //
 //   graph.CHECKSUM.h5         the neighbour graph, numberings, graph summary (JSON attribute)
+//   nodes.CHECKSUM.h5         the connected graph in node order, the numberings back to graph
+//                             nodes and input rows; the graph, short-circuit and component
+//                             summaries, suspects and bridges (JSON attribute)
 //   landmarks.CHECKSUM.h5     the landmark choice: sources in pick order, summary
 //   rows-BBBB.CHECKSUM.h5     batch BBBB of the landmark rows: values, sources, first row
 //   map.CHECKSUM.h5           spectrum, coordinates (ordered nodes), landmark coordinates and
@@ -24,9 +27,9 @@
 // Saving runs beside the computation: a save writes the piece's HDF5 structure and small
 // arrays at once, and a writer thread of the folder's own (io/detail/piece_writer.hpp) puts
 // the large arrays in, names the piece by its checksum and renames it, pieces in the order
-// saved. save_graph and save_rows lend their arrays instead of copying them (the caller keeps
-// them unchanged until flush(), as StepStore says); the other saves copy what they need.
-// A failed write is reported as a notice (PieceEvent::unsaved) at the next call and ends the
+// saved. save_graph, save_nodes and the row saves lend their arrays instead of copying them (the
+// caller keeps them unchanged until flush(), as StepStore says); the other saves copy what they
+// need. A failed write is reported as a notice (PieceEvent::unsaved) at the next call and ends the
 // saving for the run; the run goes on.
 //
 // Every piece carries its step's key (text naming the input's identity and every parameter
@@ -66,6 +69,7 @@ struct WorkKeys {
   std::string residual;  // the residual variance curve
   std::string scores;
   std::string residual_rows;  // its source rows: the graph, components, node order and seed
+  std::string nodes;          // short circuits, components, node order: the graph and their options
 };
 
 // What became of a piece, for the messages apps/ prints: taken from the folder; saved; passed
@@ -88,6 +92,8 @@ class WorkFolder final : public StepStore {
 
   std::optional<NodeGraph> load_graph() override;
   void save_graph(const NodeGraph& graph) override;
+  std::optional<NodesStep> load_nodes() override;
+  void save_nodes(const NodesStep& nodes) override;
   std::optional<LandmarkResult> load_landmarks() override;
   void save_landmarks(const LandmarkResult& choice) override;
   bool load_rows(std::size_t batch, DistanceRows& rows, std::size_t first,

@@ -187,16 +187,17 @@ saved_rows = len(pieces(folder, "rows-"))
 r = subprocess.run(command.replace("--threads 1", "--threads 2"), shell=True,
                    capture_output=True, text=True, timeout=300)
 check("the printed command resumes: exit 0", r.returncode == 0, r.stderr)
-check("the resumed run says so, naming the graph, landmarks and saved batches",
-      "resume: taking saved steps from" in r.stdout and "graph taken" in r.stdout
+check("the resumed run says so, naming the nodes (no graph read), landmarks and saved batches",
+      "resume: taking saved steps from" in r.stdout and "nodes taken" in r.stdout
+      and "graph taken" not in r.stdout
       and "landmarks taken" in r.stdout and r.stdout.count("rows-") >= saved_rows, r.stdout)
 same_map("resumed after SIGTERM", out, ref)
 with h5py.File(out, "r") as f:
     resumed = json.loads(f.attrs["run"])["resumed"]
 with h5py.File(ref, "r") as f:
     straight = json.loads(f.attrs["run"])["resumed"]
-check("the run record names the pieces taken back (graph, landmarks, every saved batch)",
-      isinstance(resumed, list) and any(p.startswith("graph") for p in resumed)
+check("the run record names the pieces taken back (nodes, landmarks, every saved batch)",
+      isinstance(resumed, list) and any(p.startswith("nodes") for p in resumed)
       and any(p.startswith("landmarks") for p in resumed)
       and sum(p.startswith("rows-") for p in resumed) >= saved_rows, resumed)
 check("a straight run's record says it was not resumed", straight is False, straight)
@@ -286,8 +287,10 @@ for gap in (0.0, 0.002, 0.01, 0.03, 0.06):
 check("two SIGINTs: exit 130 (stopped at once)", 130 in codes, f"exits {codes}")
 whole_pieces("after two SIGINTs", folder, ref)
 
-# Damaged pieces: one truncated, one with a byte altered; both found, warned about,
-# recomputed; the map still equals the reference. The folder is kept on request.
+# Damaged pieces: two row batches, one truncated, one with a byte altered, and the nodes
+# piece (short circuits, components, node order) with a byte altered; each found, warned
+# about, recomputed (the nodes from the graph piece); the map still equals the reference.
+# The folder is kept on request.
 out = path("term.h5")  # its folder was removed by the successful resume: make one again
 folder = out + ".work"
 os.remove(out)
@@ -303,15 +306,25 @@ with open(os.path.join(folder, rows[2]), "r+b") as f:
     b = f.read(1)
     f.seek(-1, 1)
     f.write(bytes([b[0] ^ 0x40]))
+nodes = pieces(folder, "nodes.")
+check("run with --keep-work-dir: one nodes piece", len(nodes) == 1, str(pieces(folder)))
+with open(os.path.join(folder, nodes[0]), "r+b") as f:
+    f.seek(os.path.getsize(os.path.join(folder, nodes[0])) * 2 // 3)
+    b = f.read(1)
+    f.seek(-1, 1)
+    f.write(bytes([b[0] ^ 0x40]))
 r = run(args)
 check("damaged pieces: exit 0", r.returncode == 0, r.stderr)
 warned = [l for l in r.stdout.splitlines() if l.startswith("warning: work folder:")]
 check("damaged pieces: one warning each, naming the piece and recomputing it",
-      len(warned) == 2 and rows[1] in warned[0] + warned[1] and rows[2] in warned[0] + warned[1]
+      len(warned) == 3 and all(any(n in l for l in warned) for n in (rows[1], rows[2], nodes[0]))
       and all("recomputing" in l for l in warned), r.stdout)
+check("damaged nodes piece: made again from the graph piece",
+      "graph taken" in r.stdout and "nodes taken" not in r.stdout
+      and len(pieces(folder, "nodes.")) == 1, r.stdout)
 same_map("after damaged pieces", out, ref)
 
-# A kill during the scores: the rerun takes the graph, the map (spectrum and coordinates) and
+# A kill during the scores: the rerun takes the nodes, the map (spectrum and coordinates) and
 # the residual variance back, reads no landmark rows, and scores; its map equals an
 # uninterrupted scored run's. A new --score-k then rescores only; the same one takes the
 # scores back too.
@@ -364,8 +377,8 @@ check("SIGKILL during the scores: the map and residual pieces are saved",
 r = run(embed(out, [*scored_args, "--keep-work-dir"], 2))
 taken = r.stdout
 check("resumed in the scores: exit 0", r.returncode == 0, r.stderr)
-check("resumed in the scores: graph, map and residual variance taken, no landmark rows read",
-      "graph taken" in taken and "map taken" in taken and "residual taken" in taken
+check("resumed in the scores: nodes, map and residual variance taken, no landmark rows read",
+      "nodes taken" in taken and "map taken" in taken and "residual taken" in taken
       and "rows-" not in taken and "scores taken" not in taken, taken)
 same_map("resumed in the scores", out, ref_scored)
 again = path("again.h5")

@@ -24,13 +24,20 @@ class MemoryStore final : public StepStore {
   std::atomic<bool> stop{false};
 
   std::optional<NodeGraph> load_graph() override {
-    if (graph) ++loads;
+    if (graph) ++loads, ++graph_loads;
     return graph;
   }
   void save_graph(const NodeGraph& g) override {
     graph = g;
     graph->node_points = PointSet{};  // the contract: the caller gathers them again
   }
+  std::optional<NodesStep> nodes;
+  std::size_t graph_loads = 0;
+  std::optional<NodesStep> load_nodes() override {
+    if (nodes) ++loads;
+    return nodes;
+  }
+  void save_nodes(const NodesStep& n) override { nodes = n; }
   std::optional<LandmarkResult> load_landmarks() override {
     if (landmarks) ++loads;
     return landmarks;
@@ -120,14 +127,23 @@ TEST_CASE("a run with a step store, stopped and resumed, equals a run without", 
   store.stop = false;
   store.stop_after_batches = 0;
   const EmbedResult resumed = embed_points(points, o, StopToken{&store.stop}, &store);
-  CHECK(store.loads == 1 + 1 + saved);  // graph, landmarks, the saved batches
+  CHECK(store.loads == 1 + 1 + saved);  // nodes, landmarks, the saved batches
+  CHECK(store.graph_loads == 0);        // the nodes step stands in for the graph
   CHECK(store.batches.size() == 14);    // 40 rows in batches of ceil(40 / 16) = 3
   same_result(resumed, plain);
 
   store.loads = 0;
   const EmbedResult again = embed_points(points, o, {}, &store);
-  CHECK(store.loads == 1 + 1 + 14 + 1);  // everything taken back, the map too
+  CHECK(store.loads == 1 + 1 + 14 + 1);  // nodes, landmarks, rows and the map taken back
   same_result(again, plain);
+
+  // Without the nodes step (lost or damaged) it is made again from the saved graph.
+  store.nodes.reset();
+  store.loads = store.graph_loads = 0;
+  const EmbedResult from_graph = embed_points(points, o, {}, &store);
+  CHECK(store.graph_loads == 1);
+  CHECK(store.nodes.has_value());
+  same_result(from_graph, plain);
 }
 
 TEST_CASE("with the map and residual variance saved, a rerun reads no landmark rows", "[resume]") {
@@ -150,7 +166,7 @@ TEST_CASE("with the map and residual variance saved, a rerun reads no landmark r
 
     store.loads = 0;
     const EmbedResult again = embed_points(points, o, {}, &store);
-    CHECK(store.loads == 3);  // graph, map, residual: no choice, no rows
+    CHECK(store.loads == 3);  // nodes, map, residual: no choice, no rows
     same_result(again, plain);
     CHECK(again.residual->by_dims == plain.residual->by_dims);
     CHECK(again.landmarks.landmarks == plain.landmarks.landmarks);
@@ -212,4 +228,27 @@ TEST_CASE("a run stopped in the landmark rows keeps the residual variance's rows
     CHECK(patched.residual->by_dims == plain.residual->by_dims);
     CHECK(patched.residual->standard_error == plain.residual->standard_error);
   }
+}
+
+TEST_CASE("a given graph's nodes step is saved and taken back", "[resume]") {
+  // The reference is the store-less run on the same given graph (embed_graph).
+  const PointSet points = swiss_roll(1500, 9).points;
+  GraphOptions go;
+  go.neighbourhood = NearestK{8};
+  const NodeGraph built = node_graph(points, go);
+  EmbedOptions o;
+  o.landmarks.count = LandmarkCount{30};
+  const EmbedResult plain = embed_graph(built.graph, o);
+  MemoryStore store;
+  const EmbedResult first = embed_graph(built.graph, o, {}, &store);
+  REQUIRE(store.nodes.has_value());
+  CHECK_FALSE(store.nodes->graph.has_value());  // a given graph has no graph step
+  store.map.reset();
+  store.loads = 0;
+  const EmbedResult again = embed_graph(built.graph, o, {}, &store);
+  CHECK(store.loads == 1 + 1 + 15);  // nodes, landmarks, 30 rows in batches of ceil(30 / 16) = 2
+  CHECK(again.coords.values == plain.coords.values);
+  CHECK(first.coords.values == plain.coords.values);
+  CHECK(again.landmark_rows == plain.landmark_rows);
+  CHECK(again.order == plain.order);
 }

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <atomic>
 #include <catch2/catch.hpp>
+#include <cmath>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
@@ -60,7 +61,7 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   fill_landmark_rows(graph.graph, rows, 0, rows.rows);
   {
     io::WorkFolder w(dir, {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key",
-                           "residual-rows-key"});
+                           "residual-rows-key", "nodes-key"});
     CHECK_FALSE(w.load_graph());
     w.save_graph(graph);
     w.save_landmarks(choice);
@@ -84,10 +85,10 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   }
   CHECK(named == 4);
   Events ev;
-  io::WorkFolder w(
-      dir,
-      {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key", "residual-rows-key"},
-      ev.notice());
+  io::WorkFolder w(dir,
+                   {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key",
+                    "residual-rows-key", "nodes-key"},
+                   ev.notice());
   const auto g = w.load_graph();
   REQUIRE(g);
   CHECK(g->graph.offsets == graph.graph.offsets);
@@ -115,7 +116,7 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
   Events other;
   io::WorkFolder changed(dir,
                          {"graph-key", "other-landmarks", "map-key", "residual-key", "scores-key",
-                          "residual-rows-key"},
+                          "residual-rows-key", "nodes-key"},
                          other.notice());
   CHECK_FALSE(changed.load_landmarks());
   CHECK(other.count(io::PieceEvent::stale) == 1);
@@ -142,10 +143,10 @@ TEST_CASE("work folder: pieces round-trip, stale keys and damaged files are reco
     f.write(&b, 1);
   }
   Events damaged;
-  io::WorkFolder again(
-      dir,
-      {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key", "residual-rows-key"},
-      damaged.notice());
+  io::WorkFolder again(dir,
+                       {"graph-key", "landmarks-key", "map-key", "residual-key", "scores-key",
+                        "residual-rows-key", "nodes-key"},
+                       damaged.notice());
   CHECK_FALSE(again.load_rows(0, back, 0, 4));
   CHECK_FALSE(again.load_rows(1, back, 4, 3));
   CHECK(damaged.count(io::PieceEvent::damaged) == 2);
@@ -169,6 +170,8 @@ TEST_CASE(
     std::size_t rows_saved = 0;
     std::optional<NodeGraph> load_graph() override { return f_.load_graph(); }
     void save_graph(const NodeGraph& g) override { f_.save_graph(g); }
+    std::optional<NodesStep> load_nodes() override { return f_.load_nodes(); }
+    void save_nodes(const NodesStep& n) override { f_.save_nodes(n); }
     std::optional<LandmarkResult> load_landmarks() override { return f_.load_landmarks(); }
     void save_landmarks(const LandmarkResult& c) override { f_.save_landmarks(c); }
     bool load_rows(std::size_t b, DistanceRows& r, std::size_t first, std::size_t n) override {
@@ -199,7 +202,8 @@ TEST_CASE(
   };
   test::TempFolder tmp;
   const fs::path dir = tmp.path() / "stop.work";
-  const io::WorkKeys keys{"graph", "landmarks", "map", "residual", "scores", "residual-rows"};
+  const io::WorkKeys keys{"graph",  "landmarks",     "map",  "residual",
+                          "scores", "residual-rows", "nodes"};
   const PointSet points = swiss_roll(3000, 4).points;
   EmbedOptions o;
   o.graph.neighbourhood = NearestK{8};
@@ -222,7 +226,7 @@ TEST_CASE(
     CHECK(batches >= 3);
     CHECK(landmarks == 1);
     CHECK(temporaries == 0);
-    CHECK(folder.pieces_saved() == 2 + batches);  // graph, landmarks, batches
+    CHECK(folder.pieces_saved() == 3 + batches);  // graph, nodes, landmarks, batches
   }
   Events ev;
   io::WorkFolder again(dir, keys, ev.notice());
@@ -269,7 +273,7 @@ TEST_CASE("work folder: residual rows round-trip in place, damaged or stale ones
   DistanceRows rows = choose_landmarks(graph.graph, lo).rows;
   rows.values.resize(rows.rows * rows.cols);
   fill_landmark_rows(graph.graph, rows, 0, rows.rows);
-  const io::WorkKeys keys{"g", "l", "m", "r", "s", "residual-rows"};
+  const io::WorkKeys keys{"g", "l", "m", "r", "s", "residual-rows", "n"};
   auto empty_like = [&] {
     DistanceRows back = rows;
     back.values.assign(rows.values.size(), -1.0f);
@@ -322,7 +326,7 @@ TEST_CASE("work folder: residual rows round-trip in place, damaged or stale ones
   w.save_residual_rows(0, rows);
   w.flush();  // the writer thread finishes pieces in the background
   Events other;
-  io::WorkFolder changed(dir, {"g", "l", "m", "r", "s", "other seed"}, other.notice());
+  io::WorkFolder changed(dir, {"g", "l", "m", "r", "s", "other seed", "n"}, other.notice());
   CHECK(changed.has_residual_rows(0));
   back = empty_like();
   CHECK_FALSE(changed.load_residual_rows(0, back));
@@ -356,4 +360,109 @@ TEST_CASE("several files walked in one child: true when every walk finishes, fal
   CHECK_THROWS_AS(io::detail::check_hdf5_in_child(files[0]), IoError);
   io::detail::set_hdf5_check_timeout(10.0);
   CHECK(io::detail::check_hdf5_files_in_child(files));
+}
+
+TEST_CASE("work folder: the nodes piece round-trips bit for bit, and a damaged one is refused",
+          "[work_folder]") {
+  // Two Swiss rolls far apart: two components, bridged, so that bridges, a component summary
+  // with warnings and a renumbered graph all travel; a suspect without a detour (+infinity,
+  // which JSON cannot hold) is added by hand. The oracle is what was saved (a round trip).
+  test::TempFolder tmp;
+  const fs::path dir = tmp.path() / "nodes.work";
+  PointSet points = swiss_roll(300, 7).points;
+  const PointSet far = swiss_roll(200, 8).points;
+  for (std::size_t r = 0; r < far.rows; ++r) {
+    std::vector<float> row(far.row(r), far.row(r) + far.cols);
+    row[0] += 1000.0f;
+    points.values.insert(points.values.end(), row.begin(), row.end());
+  }
+  points.rows += far.rows;
+  GraphOptions go;
+  go.neighbourhood = NearestK{6};
+  NodeGraph graph = node_graph(points, go);
+  ComponentOptions co;
+  co.policy = ComponentPolicy::bridge;
+  ComponentResult connected = make_connected(graph.graph, co, graph.node_points);
+  REQUIRE(connected.bridges.size() == 1);
+  NodesStep step;
+  step.ordered = order_nodes(connected, graph.node_points, {NodeOrder::morton});
+  step.short_circuits = find_short_circuits(graph.graph);
+  ShortCircuitEdge lone;
+  lone.from = 3, lone.to = 9, lone.length = 2.5f, lone.detour_bound = 7.25, lone.separates = true;
+  step.short_circuits->worst.push_back(lone);
+  step.components = connected.summary;
+  step.bridges = connected.bridges;
+  step.connected_of_node = connected.old_of_new;
+  step.node_of_point = graph.node_of_point;
+  step.point_of_node = graph.point_of_node;
+  step.graph = graph.summary;
+  step.dimension = graph.dimension;
+  const io::WorkKeys keys{"g", "l", "m", "r", "s", "rr", "nodes-key"};
+  {
+    io::WorkFolder w(dir, keys);
+    CHECK_FALSE(w.load_nodes());
+    w.save_nodes(step);
+    w.flush();
+    CHECK(w.pieces_saved() == 1);
+  }
+  const auto values = [](const Numbering& n) {
+    return std::vector<NodeId>(n.values().begin(), n.values().end());
+  };
+  Events ev;
+  io::WorkFolder w(dir, keys, ev.notice());
+  const std::optional<NodesStep> back = w.load_nodes();
+  REQUIRE(back);
+  CHECK(ev.count(io::PieceEvent::loaded) == 1);
+  CHECK(back->ordered.graph.offsets == step.ordered.graph.offsets);
+  CHECK(back->ordered.graph.targets == step.ordered.graph.targets);
+  CHECK(back->ordered.graph.lengths == step.ordered.graph.lengths);
+  CHECK(back->ordered.order == NodeOrder::morton);
+  CHECK(values(back->ordered.numbering.new_of_old) == values(step.ordered.numbering.new_of_old));
+  CHECK(values(back->ordered.numbering.old_of_new) == values(step.ordered.numbering.old_of_new));
+  CHECK(values(back->connected_of_node) == values(step.connected_of_node));
+  CHECK(values(back->node_of_point) == values(step.node_of_point));
+  CHECK(values(back->point_of_node) == values(step.point_of_node));
+  REQUIRE(back->graph);
+  CHECK(back->graph->length_median == step.graph->length_median);
+  REQUIRE(back->dimension.has_value() == step.dimension.has_value());
+  CHECK(back->components.sizes == step.components.sizes);
+  CHECK(back->components.warnings == step.components.warnings);
+  REQUIRE(back->bridges.size() == 1);
+  CHECK(back->bridges[0].from == step.bridges[0].from);
+  CHECK(back->bridges[0].to == step.bridges[0].to);
+  CHECK(back->bridges[0].length == step.bridges[0].length);
+  REQUIRE(back->short_circuits);
+  CHECK(back->short_circuits->summary.edges == step.short_circuits->summary.edges);
+  CHECK(back->short_circuits->summary.seconds == step.short_circuits->summary.seconds);
+  REQUIRE(back->short_circuits->worst.size() == step.short_circuits->worst.size());
+  for (std::size_t i = 0; i < step.short_circuits->worst.size(); ++i) {
+    const ShortCircuitEdge &a = back->short_circuits->worst[i], &b = step.short_circuits->worst[i];
+    CHECK(a.from == b.from);
+    CHECK(a.to == b.to);
+    CHECK(a.length == b.length);
+    CHECK(a.scale_from == b.scale_from);
+    CHECK(a.detour == b.detour);  // +infinity for the one added by hand
+    CHECK(a.detour_bound == b.detour_bound);
+    CHECK(a.separates == b.separates);
+  }
+  CHECK(std::isinf(back->short_circuits->worst.back().detour));
+
+  // One byte altered: found by its checksum, reported damaged, removed, not loaded.
+  const fs::path piece = only_piece(dir, "nodes");
+  REQUIRE_FALSE(piece.empty());
+  {
+    std::fstream f(piece, std::ios::in | std::ios::out | std::ios::binary);
+    const auto at = static_cast<std::streamoff>(fs::file_size(piece) * 2 / 3);
+    f.seekg(at);
+    char b = 0;
+    f.read(&b, 1);
+    f.seekp(at);
+    b = static_cast<char>(b ^ 0x04);
+    f.write(&b, 1);
+  }
+  Events damaged;
+  io::WorkFolder again(dir, keys, damaged.notice());
+  CHECK_FALSE(again.load_nodes());
+  CHECK(damaged.count(io::PieceEvent::damaged) == 1);
+  CHECK_FALSE(fs::exists(piece));
 }
