@@ -1,5 +1,6 @@
 #include "engine/row_storage.hpp"
 
+#include <cstdint>
 #include <cstdlib>
 
 #if defined(__linux__)
@@ -29,12 +30,22 @@ void* allocate_first_touch(std::size_t bytes) {
   if (bytes > static_cast<std::size_t>(-1) - kHugePage) throw std::bad_alloc();
   void* block = std::aligned_alloc(kHugePage, rounded_up(bytes));
   if (!block) throw std::bad_alloc();
+  advise_huge_pages(block, rounded_up(bytes));  // nothing is touched here
+  return block;
+}
+
+void advise_huge_pages(void* data, std::size_t bytes) noexcept {
 #if defined(MADV_HUGEPAGE)
   // Advice only: where the kernel has huge pages off (or "always") nothing changes but the
-  // fault count. Nothing is touched here.
-  (void)madvise(block, rounded_up(bytes), MADV_HUGEPAGE);
+  // fault count. madvise wants an aligned start; the partial pages at the ends stay small.
+  const auto begin = reinterpret_cast<std::uintptr_t>(data);
+  const std::uintptr_t first = (begin + kHugePage - 1) / kHugePage * kHugePage;
+  const std::uintptr_t last = (begin + bytes) / kHugePage * kHugePage;
+  if (data && last > first)
+    (void)madvise(reinterpret_cast<void*>(first), last - first, MADV_HUGEPAGE);
+#else
+  (void)data, (void)bytes;
 #endif
-  return block;
 }
 
 void free_first_touch(void* block, std::size_t bytes) noexcept {

@@ -19,6 +19,18 @@ namespace unfurl {
 namespace detail {
 void* allocate_first_touch(std::size_t bytes);  // throws std::bad_alloc
 void free_first_touch(void* block, std::size_t bytes) noexcept;
+
+// Offers the whole 2 MiB pages inside [data, data + bytes) as transparent huge pages (advice
+// only; Linux madvise mode). Pages touched before the advice keep their small pages.
+void advise_huge_pages(void* data, std::size_t bytes) noexcept;
+
+// Reserves n elements of the empty vector v and advises their pages before anything touches
+// them: the graph's arrays, which every shortest-path search walks at random.
+template <class T, class A>
+void reserve_huge_pages(std::vector<T, A>& v, std::size_t n) {
+  v.reserve(n);
+  advise_huge_pages(v.data(), n * sizeof(T));
+}
 }  // namespace detail
 
 // An allocator whose value-construction (resize(n), vector(n)) default-initialises instead:

@@ -6,6 +6,7 @@
 
 #include "engine/detail/parallel_chunks.hpp"
 #include "engine/parallel.hpp"
+#include "engine/row_storage.hpp"
 
 namespace unfurl::detail {
 namespace {
@@ -96,6 +97,9 @@ NeighbourGraph symmetric_csr(std::size_t nodes, const std::vector<Edge>& edges) 
   NeighbourGraph g;
   g.offsets.assign(nodes + 1, 0);
   for (std::size_t v = 0; v < nodes; ++v) g.offsets[v + 1] = g.offsets[v] + kept[v];
+  // Huge pages for the arrays the shortest-path searches walk (engine/row_storage.hpp).
+  reserve_huge_pages(g.targets, static_cast<std::size_t>(g.offsets.back()));
+  reserve_huge_pages(g.lengths, static_cast<std::size_t>(g.offsets.back()));
   g.targets.resize(static_cast<std::size_t>(g.offsets.back()));
   g.lengths.resize(g.targets.size());
   parallel_chunks(nodes, 4096, {}, "graph", [&](std::size_t first, std::size_t last) {

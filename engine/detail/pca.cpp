@@ -2,6 +2,9 @@
 
 #include <algorithm>
 
+#include <Spectra/MatOp/DenseSymMatProd.h>
+
+#include "engine/detail/eigen_top.hpp"
 #include "engine/error.hpp"
 
 namespace unfurl::detail {
@@ -13,28 +16,45 @@ Eigen::MatrixXd double_rows(const PointSet& points, std::size_t begin, std::size
   return x.cast<double>();
 }
 
-PcaFit fit_pca(std::size_t rows, std::size_t cols, const PcaRows& source, std::size_t components,
-               AxisSign sign, StopToken stop) {
+namespace {
+
+struct Moments {
+  Eigen::VectorXd mean;
+  Eigen::MatrixXd cov;  // both triangles
+};
+
+// The centre and the population covariance of the convention in pca.hpp.
+Moments moments(std::size_t rows, std::size_t cols, const PcaRows& source, std::size_t components,
+                StopToken stop) {
   if (rows == 0 || components < 1 || components > cols)
     throw InternalError("pca: " + std::to_string(components) + " components of " +
                         std::to_string(rows) + " x " + std::to_string(cols) + " points");
   const auto d = static_cast<Eigen::Index>(cols);
-  Eigen::VectorXd mean = Eigen::VectorXd::Zero(d);
+  Moments m{Eigen::VectorXd::Zero(d), Eigen::MatrixXd::Zero(d, d)};
   for (std::size_t b = 0; b < rows; b += kPcaRowBlock) {
     stop.check("pca");
-    mean += source(b, std::min(rows, b + kPcaRowBlock)).colwise().sum().transpose();
+    m.mean += source(b, std::min(rows, b + kPcaRowBlock)).colwise().sum().transpose();
   }
-  mean /= static_cast<double>(rows);
-  Eigen::MatrixXd cov = Eigen::MatrixXd::Zero(d, d);
+  m.mean /= static_cast<double>(rows);
   for (std::size_t b = 0; b < rows; b += kPcaRowBlock) {
     stop.check("pca");
     Eigen::MatrixXd x = source(b, std::min(rows, b + kPcaRowBlock));
-    x.rowwise() -= mean.transpose();
-    cov.selfadjointView<Eigen::Lower>().rankUpdate(x.transpose());
+    x.rowwise() -= m.mean.transpose();
+    m.cov.selfadjointView<Eigen::Lower>().rankUpdate(x.transpose());
   }
-  cov = cov.selfadjointView<Eigen::Lower>();
-  cov /= static_cast<double>(rows);
-  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(cov);
+  m.cov = m.cov.selfadjointView<Eigen::Lower>();
+  m.cov /= static_cast<double>(rows);
+  return m;
+}
+
+}  // namespace
+
+PcaFit fit_pca(std::size_t rows, std::size_t cols, const PcaRows& source, std::size_t components,
+               AxisSign sign, StopToken stop) {
+  const auto d = static_cast<Eigen::Index>(cols);
+  const Moments mo = moments(rows, cols, source, components, stop);
+  const Eigen::VectorXd& mean = mo.mean;
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> eig(mo.cov);
   if (eig.info() != Eigen::Success) throw InternalError("pca: eigen decomposition failed");
 
   PcaFit fit;
@@ -57,6 +77,53 @@ PcaFit fit_pca(std::size_t rows, std::size_t cols, const PcaRows& source, std::s
   }
   const double total = std::max(0.0, eig.eigenvalues().sum());
   fit.kept_share = total > 0.0 ? kept / total : 1.0;
+  return fit;
+}
+
+std::vector<std::size_t> sample_rows(std::size_t rows, std::size_t limit) {
+  const std::size_t s = std::min(rows, limit);
+  std::vector<std::size_t> at(s);
+  // Exact in 64 bits for rows and limit below 2^32 each.
+  for (std::size_t i = 0; i < s; ++i) at[i] = i * rows / s;
+  return at;
+}
+
+PcaFit fit_pca_top(std::size_t rows, std::size_t cols, const PcaRows& source,
+                   std::size_t components, StopToken stop) {
+  const Moments mo = moments(rows, cols, source, components, stop);
+  const auto d = static_cast<Eigen::Index>(cols);
+  PcaFit fit;
+  fit.cols = cols;
+  fit.components = components;
+  fit.mean.assign(mo.mean.data(), mo.mean.data() + d);
+  Eigen::MatrixXd vectors;
+  std::vector<double> values;
+  // Lanczos needs room for a Krylov basis larger than the pairs wanted; a small covariance
+  // is solved whole.
+  if (cols <= 2 * components + 1) {
+    EigenPairs e = dense_top(mo.cov, components);
+    vectors = std::move(e.vectors), values = std::move(e.values);
+  } else {
+    Spectra::DenseSymMatProd<double> op(mo.cov);
+    IterativeSettings s;
+    s.negative_end = false;
+    s.tolerance = 1e-12;
+    EigenPairs e = iterative_top(op, components, s);
+    if (!e.converged || e.values.size() != components)
+      throw InternalError("pca: the top " + std::to_string(components) + " axes did not converge");
+    vectors = std::move(e.vectors), values = std::move(e.values);
+  }
+  fix_signs(vectors);
+  fit.axes.resize(components * cols);
+  double kept = 0.0;
+  for (std::size_t c = 0; c < components; ++c) {
+    const auto col = vectors.col(static_cast<Eigen::Index>(c));
+    std::copy(col.data(), col.data() + d, fit.axes.begin() + static_cast<std::ptrdiff_t>(c * cols));
+    fit.variances.push_back(values[c]);
+    kept += std::max(0.0, values[c]);
+  }
+  const double total = std::max(0.0, mo.cov.trace());
+  fit.kept_share = total > 0.0 ? std::min(1.0, kept / total) : 1.0;
   return fit;
 }
 

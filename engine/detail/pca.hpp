@@ -32,8 +32,7 @@ Eigen::MatrixXd double_rows(const PointSet& points, std::size_t begin, std::size
 
 enum class AxisSign {
   largest_entry_positive,  // the convention above
-  as_solved,  // the eigen solver's own signs: only the morton order, whose curve (hence the
-              // landmarks and the maps) was drawn with them
+  as_solved,  // the eigen solver's own signs (pca_probe compares them with the convention)
 };
 
 struct PcaFit {
@@ -49,6 +48,19 @@ struct PcaFit {
 // The rows must be finite (callers check with require_finite) and 1 <= components <= cols.
 PcaFit fit_pca(std::size_t rows, std::size_t cols, const PcaRows& source, std::size_t components,
                AxisSign sign = AxisSign::largest_entry_positive, StopToken stop = {});
+
+// The morton order's cheaper fit (a locality heuristic needs a good subspace, not the exact
+// one): the caller passes a sample of the rows (sample_rows), and only the top `components`
+// axes are solved, by Spectra's Lanczos solver on the covariance (tolerance 1e-12; the dense
+// solver when cols <= 2 * components + 1). Centre and covariance follow the convention above
+// over the rows given; the axes follow its sign rule; `variances` holds the kept eigenvalues
+// only and kept_share divides them by the trace. Every step is serial, so the bytes depend on
+// neither the thread count nor the sample's position in the data.
+PcaFit fit_pca_top(std::size_t rows, std::size_t cols, const PcaRows& source,
+                   std::size_t components, StopToken stop = {});
+
+// min(rows, limit) row indices spread evenly: i * rows / s for i < s, s = min(rows, limit).
+std::vector<std::size_t> sample_rows(std::size_t rows, std::size_t limit);
 
 // (block - mean) * axes', one row of coordinates per row of the block.
 Eigen::MatrixXd project_rows(Eigen::MatrixXd block, std::span<const double> mean,

@@ -3,6 +3,7 @@
 #include <catch2/catch.hpp>
 #include <cstdint>
 #include <numeric>
+#include <vector>
 
 #include "engine/geodesic.hpp"
 #include "tests/test_util.hpp"
@@ -23,6 +24,27 @@ TEST_CASE("row storage: large blocks are aligned to 2 MiB, small ones are ordina
   RowValues small(5);
   std::iota(small.begin(), small.end(), 1.0f);
   CHECK(small == RowValues{1, 2, 3, 4, 5});
+}
+
+// Expectations: std::vector's contract ([vector.capacity]: no reallocation while the size stays
+// within the reserved capacity), so the advised pages are the ones the values land in.
+TEST_CASE("row storage: huge-page reservation keeps the block the values are written to",
+          "[row_storage]") {
+  constexpr std::size_t kHuge = std::size_t{2} << 20;
+  std::vector<std::uint32_t> ids;
+  detail::reserve_huge_pages(ids, 3 * kHuge / sizeof(std::uint32_t) + 7);
+  REQUIRE(ids.capacity() >= 3 * kHuge / sizeof(std::uint32_t) + 7);
+  const std::uint32_t* block = ids.data();
+  ids.resize(ids.capacity());
+  CHECK(ids.data() == block);
+  CHECK(ids.front() == 0u);  // value-initialised as ever
+  CHECK(ids.back() == 0u);
+  std::iota(ids.begin(), ids.end(), 0u);
+  CHECK(ids.back() == static_cast<std::uint32_t>(ids.size() - 1));
+  // Unaligned, shorter than a page, empty: advice or nothing, never a failure.
+  detail::advise_huge_pages(ids.data() + 1, 100);
+  detail::advise_huge_pages(nullptr, 0);
+  CHECK(ids[1] == 1u);
 }
 
 TEST_CASE("row storage: values given explicitly are kept, copies and moves keep them",

@@ -2,9 +2,11 @@
 //
 // pca_probe POINTS COMPONENTS SIGN OUT
 //   POINTS: int64 n, int64 d, then float32[n * d] row-major (little-endian);
-//   SIGN: convention (largest-magnitude entry positive) | solver (the eigen solver's signs);
-//   OUT: float64 mean[d], axes[COMPONENTS * d] (one axis per row), variances[d],
-//        kept_share, projections[n * COMPONENTS] (row-major), no header.
+//   SIGN: convention (largest-magnitude entry positive) | solver (the eigen solver's signs)
+//         | top:LIMIT (fit_pca_top over sample_rows(n, LIMIT), the morton order's fit);
+//   OUT: float64 mean[d], axes[COMPONENTS * d] (one axis per row), variances[d] (top:
+//        variances[COMPONENTS]), kept_share, projections[n * COMPONENTS] (row-major), no
+//        header.
 // Errors go to stderr with exit code 65; usage errors 64.
 #include <cstdint>
 #include <fstream>
@@ -17,7 +19,8 @@
 
 int main(int argc, char** argv) try {
   const std::vector<std::string> a(argv, argv + argc);
-  if (a.size() != 5 || (a[3] != "convention" && a[3] != "solver")) {
+  const bool top = a.size() == 5 && a[3].rfind("top:", 0) == 0;
+  if (a.size() != 5 || (a[3] != "convention" && a[3] != "solver" && !top)) {
     std::cerr << "pca_probe: usage: see the comment at the top of pca_probe.cpp\n";
     return 64;
   }
@@ -35,7 +38,19 @@ int main(int argc, char** argv) try {
   };
   const auto sign = a[3] == "convention" ? unfurl::detail::AxisSign::largest_entry_positive
                                          : unfurl::detail::AxisSign::as_solved;
-  const auto fit = unfurl::detail::fit_pca(p.rows, p.cols, rows, m, sign);
+  unfurl::detail::PcaFit fit;
+  if (top) {
+    const auto at = unfurl::detail::sample_rows(p.rows, std::stoul(a[3].substr(4)));
+    const auto sampled = [&](std::size_t b, std::size_t e) {
+      Eigen::MatrixXd x(static_cast<Eigen::Index>(e - b), static_cast<Eigen::Index>(p.cols));
+      for (std::size_t i = b; i < e; ++i)
+        x.row(static_cast<Eigen::Index>(i - b)) = rows(at[i], at[i] + 1);
+      return x;
+    };
+    fit = unfurl::detail::fit_pca_top(at.size(), p.cols, sampled, m);
+  } else {
+    fit = unfurl::detail::fit_pca(p.rows, p.cols, rows, m, sign);
+  }
   const Eigen::MatrixXd y = unfurl::detail::project_rows(rows(0, p.rows), fit.mean, fit.axes, m);
   std::vector<double> out = fit.mean;
   out.insert(out.end(), fit.axes.begin(), fit.axes.end());
