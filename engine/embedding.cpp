@@ -207,9 +207,12 @@ ResidualVarianceCurve stored_residual(const NeighbourGraph& ordered, const Resid
 // Short circuits, components and node order of `graph` (engine/embedding_steps.hpp), with the
 // graph step's numberings moved in. node_points: row v the point of node v, or empty for a
 // given graph.
-NodesStep make_nodes(const NeighbourGraph& graph, const PointSet& node_points,
-                     const EmbedOptions& options, StopToken stop, StageSeconds& seconds,
-                     NodesStep step) {
+// Fills `step` in place: it may hold arrays lent to the store (the graph's numberings), which
+// must outlive the caller's StoreFlush also when a step here throws, so they never live in a
+// frame of this function.
+void make_nodes(const NeighbourGraph& graph, const PointSet& node_points,
+                const EmbedOptions& options, StopToken stop, StageSeconds& seconds,
+                NodesStep& step) {
   if (options.short_circuits) {
     const ProgressStep progress = stop.step("short circuits", 0);
     step.short_circuits = find_short_circuits(graph, *options.short_circuits, stop);
@@ -230,7 +233,6 @@ NodesStep make_nodes(const NeighbourGraph& graph, const PointSet& node_points,
   step.components = std::move(connected.summary);
   step.bridges = std::move(connected.bridges);
   step.connected_of_node = std::move(connected.old_of_new);
-  return step;
 }
 
 // The steps after the nodes step (engine/embedding_steps.hpp). The store, if any, may still
@@ -393,8 +395,7 @@ EmbedResult embed_points(const PointSet& points, const EmbedOptions& options, St
     step.point_of_node = std::move(built.point_of_node);
     step.graph = built.summary;
     step.dimension = std::move(built.dimension);
-    step =
-        make_nodes(built.graph, built.node_points, options, stop, result.seconds, std::move(step));
+    make_nodes(built.graph, built.node_points, options, stop, result.seconds, step);
     if (store) store->save_nodes(step);
   }
   result.graph = step.graph;
@@ -423,7 +424,7 @@ EmbedResult embed_graph(const NeighbourGraph& graph, const EmbedOptions& options
   } else {
     step.node_of_point = Numbering::identity(graph.nodes());
     step.point_of_node = Numbering::identity(graph.nodes());
-    step = make_nodes(graph, {}, options, stop, result.seconds, std::move(step));
+    make_nodes(graph, {}, options, stop, result.seconds, step);
     if (store) store->save_nodes(step);
   }
   return embed_nodes(step, options, stop, store, std::move(result), total);
